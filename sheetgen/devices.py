@@ -1,0 +1,172 @@
+"""Device equations: the same SPICE subset the exported decks use, as pure functions.
+
+Every function takes numpy arrays (one entry per parameter set of a batch) and
+returns currents together with their partial derivatives, which is what Newton's
+method needs.  The equations follow the SPICE3 / ngspice forms so that a deck
+written with our model cards and run in ngspice is a fair judge of our solver:
+
+* junction diode: Shockley with emission coefficient, plus GMIN in parallel;
+* BJT: the Gummel-Poon subset with forward Early voltage (VAF), forward knee
+  current (IKF) and base-emitter leakage (ISE, NE), GMIN across both junctions;
+* MOSFET: Shichman-Hodges (SPICE level 1) with channel-length modulation;
+* tungsten lamp: resistance R0 (T/TROOM)^ALPHA and a radiative heat balance.
+
+Series resistances (RS, RB, RC, RE, RD) are separate linear resistors in the
+solver, exactly as SPICE places them on internal nodes.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+BOLTZMANN = 1.380649e-23  # J/K, CODATA 2018 exact
+CHARGE = 1.602176634e-19  # C, CODATA 2018 exact
+T_NOMINAL_K = 300.15  # SPICE's default TNOM and TEMP, 27 °C
+VT_NOMINAL = BOLTZMANN * T_NOMINAL_K / CHARGE
+GMIN = 1e-12  # S, SPICE's default GMIN across every junction
+
+_EXP_LIMIT = 80.0  # exp() argument cap; pnjlim keeps real iterates far below it
+
+
+def _exp(x):
+    return np.exp(np.minimum(x, _EXP_LIMIT))
+
+
+def junction_vcrit(is_a, nvt):
+    """The critical voltage above which SPICE limits a junction's Newton step."""
+    return nvt * np.log(nvt / (np.sqrt(2.0) * is_a))
+
+
+def pnjlim(v_new, v_old, nvt, vcrit):
+    """SPICE's junction-voltage limiting: keep Newton out of the exponential's wall.
+
+    Returns the limited voltage and a mask of entries that were limited.
+    """
+    big = (v_new > vcrit) & (np.abs(v_new - v_old) > 2.0 * nvt)
+    arg = 1.0 + (v_new - v_old) / nvt
+    from_above = np.where(arg > 0, v_old + nvt * np.log(np.maximum(arg, 1e-300)), vcrit)
+    from_below = nvt * np.log(np.maximum(v_new / nvt, 1e-300))
+    limited = np.where(v_old > 0, from_above, from_below)
+    return np.where(big, limited, v_new), big
+
+
+def diode(v, *, is_a, n, vt=VT_NOMINAL):
+    """Junction current and conductance at junction voltage ``v``."""
+    nvt = n * vt
+    e = _exp(v / nvt)
+    i = is_a * (e - 1.0) + GMIN * v
+    g = is_a * e / nvt + GMIN
+    return i, g
+
+
+def bjt(vbe, vbc, *, is_a, bf, br, nf, nr, vaf, ikf, ise, ne, vt=VT_NOMINAL):
+    """Gummel-Poon subset for an NPN with internal junction voltages vbe, vbc.
+
+    ``vaf`` and ``ikf`` use 0 for "infinite", as SPICE does.  Returns
+    ``(ic, ib, dic_dvbe, dic_dvbc, dib_dvbe, dib_dvbc)``: collector and base
+    currents flowing *into* the device.  A PNP uses the same call with every
+    voltage and current negated.
+    """
+    vtf = nf * vt
+    vtr = nr * vt
+    ebe = _exp(vbe / vtf)
+    cbe = is_a * (ebe - 1.0) + GMIN * vbe
+    gbe = is_a * ebe / vtf + GMIN
+    ebc = _exp(vbc / vtr)
+    cbc = is_a * (ebc - 1.0) + GMIN * vbc
+    gbc = is_a * ebc / vtr + GMIN
+
+    nevt = np.where(ne > 0, ne, 1.5) * vt
+    eben = _exp(vbe / nevt)
+    cben = ise * (eben - 1.0)
+    gben = ise * eben / nevt
+
+    inv_vaf = np.where(vaf > 0, 1.0 / np.where(vaf > 0, vaf, 1.0), 0.0)
+    inv_ikf = np.where(ikf > 0, 1.0 / np.where(ikf > 0, ikf, 1.0), 0.0)
+    q1 = 1.0 / (1.0 - inv_vaf * vbc)
+    dq1_dvbc = q1 * q1 * inv_vaf
+    q2 = inv_ikf * cbe
+    arg = np.maximum(1.0 + 4.0 * q2, 0.0)
+    sq = np.sqrt(arg)
+    sq_safe = np.where(sq > 0, sq, 1.0)
+    qb = q1 * (1.0 + sq) / 2.0
+    dqb_dvbe = np.where(sq > 0, q1 * inv_ikf * gbe / sq_safe, 0.0)
+    dqb_dvbc = dq1_dvbc * (1.0 + sq) / 2.0
+
+    it = (cbe - cbc) / qb
+    dit_dvbe = (gbe - it * dqb_dvbe) / qb
+    dit_dvbc = (-gbc - it * dqb_dvbc) / qb
+
+    ic = it - cbc / br
+    ib = cbe / bf + cben + cbc / br
+    return (
+        ic,
+        ib,
+        dit_dvbe,
+        dit_dvbc - gbc / br,
+        gbe / bf + gben,
+        gbc / br,
+    )
+
+
+def mosfet_level1(vgs, vds, *, vto, kp, lam):
+    """Shichman-Hodges drain current into the drain of an NMOS (W = L = 1).
+
+    Handles ``vds < 0`` by swapping drain and source, as SPICE does.  Returns
+    ``(id, did_dvgs, did_dvds)``.
+    """
+    rev = vds < 0
+    vgs_eff = np.where(rev, vgs - vds, vgs)  # gate to the lower terminal
+    vds_eff = np.abs(vds)
+    vov = vgs_eff - vto
+    on = vov > 0
+    sat = on & (vds_eff >= vov)
+    lin = on & ~sat
+    clm = 1.0 + lam * vds_eff
+    i_sat = 0.5 * kp * vov**2 * clm
+    i_lin = kp * (vov - 0.5 * vds_eff) * vds_eff * clm
+    i = np.where(sat, i_sat, np.where(lin, i_lin, 0.0))
+    gm = np.where(sat, kp * vov * clm, np.where(lin, kp * vds_eff * clm, 0.0))
+    gds = np.where(
+        sat,
+        0.5 * kp * vov**2 * lam,
+        np.where(lin, kp * (vov - vds_eff) * clm + kp * (vov - 0.5 * vds_eff) * vds_eff * lam, 0.0),
+    )
+    # In reverse the roles of drain and source swap: i flows source→drain.
+    i_d = np.where(rev, -i, i)
+    did_dvgs = np.where(rev, -gm, gm)
+    did_dvds = np.where(rev, gm + gds, gds)
+    return i_d, did_dvgs, did_dvds
+
+
+def lamp_resistance(t_k, *, r0_ohm, t_room_k, alpha):
+    """Filament resistance at temperature ``t_k``; never below the cold value."""
+    return r0_ohm * (np.maximum(t_k, t_room_k) / t_room_k) ** alpha
+
+
+def lamp(v, t_k, *, r0_ohm, t_room_k, alpha, k_w_per_k4):
+    """Electrical current and heat balance of a tungsten filament.
+
+    Returns ``(i, di_dv, di_dt, p_net, dp_dv, dp_dt)`` where ``p_net`` is the
+    power flowing into the filament's heat capacity: V*I minus radiation
+    k (T^4 - TROOM^4).
+    """
+    t_eff = np.maximum(t_k, t_room_k)
+    r = r0_ohm * (t_eff / t_room_k) ** alpha
+    dr_dt = np.where(t_k > t_room_k, alpha * r / t_eff, 0.0)
+    i = v / r
+    di_dv = 1.0 / r
+    di_dt = -v * dr_dt / (r * r)
+    p_net = v * i - k_w_per_k4 * (t_k**4 - t_room_k**4)
+    dp_dv = 2.0 * v / r
+    dp_dt = v * di_dt - 4.0 * k_w_per_k4 * t_k**3
+    return i, di_dv, di_dt, p_net, dp_dv, dp_dt
+
+
+def lamp_light(t_k, *, t_hot_k, exponent=8.8):
+    """Relative light output of a filament at temperature ``t_k`` (1.0 at rated).
+
+    Flux rises as V^3.4 (lamptech.co.uk "Voltage Variation Effects"); with
+    R ∝ T^1.2 and radiation ∝ T^4 at steady state, V ∝ T^2.6, so flux ∝ T^8.8.
+    """
+    return (np.maximum(t_k, 0.0) / t_hot_k) ** exponent

@@ -1,0 +1,54 @@
+"""Machine-readable outputs of a Report: the JSON report and the SPICE deck."""
+
+from __future__ import annotations
+
+import json
+
+from .analyse import Report
+from .measure import DEFINITIONS
+from .spice import spice_deck
+
+
+def part_entry(part) -> dict:
+    """One physical part as the JSON contract describes it."""
+    entry = {
+        "ref": part.ref,
+        "kind": part.kind,
+        "role": part.role,
+        "value": part.value,
+        "part_number": part.part_number or None,
+        "description": part.description,
+        "pins": dict(part.pins),
+        "rating_v": part.rating_v,
+        "rating_w": part.rating_w,
+        "tolerance": part.tolerance,
+        "package": part.package or None,
+    }
+    return entry
+
+
+def report_dict(report: Report) -> dict:
+    """The JSON report: the contract's keys first, then the rest of what was computed."""
+    d = report.design
+    spec = d.spec
+    out = {
+        "title": spec.title,
+        "topology": d.topology.name,
+        "parts": [part_entry(p) for p in d.netlist.parts],
+        "load_current_a": d.load_current_a,
+        "fade_in_s": d.fade_in_s,
+        "fade_out_s": d.fade_out_s,
+        "release_s": d.netlist.release_s,
+        "requested": {"fade_in_s": spec.fade_in_s, "fade_out_s": spec.fade_out_s},
+        "definitions": dict(DEFINITIONS),
+        "supply": {"nominal_v": spec.supply.nominal_v, "min_v": spec.supply.min_v, "max_v": spec.supply.max_v},
+        "ambient_c": spec.ambient_c,
+        "overdrive_at_min_supply": d.overdrive,
+        "reasons": list(d.reasons),
+        "spice": spice_deck(d.netlist),
+    }
+    return out
+
+
+def report_json(report: Report) -> str:
+    return json.dumps(report_dict(report), indent=2, ensure_ascii=False)

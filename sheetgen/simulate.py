@@ -1,0 +1,501 @@
+"""Batched nonlinear transient and DC analysis of a netlist.
+
+Modified nodal analysis with Newton's method at every implicit time step, run on
+N parameter sets at once: every array carries the batch as its first axis, so a
+thousand tolerance draws cost one pass of numpy work per Newton iteration, not a
+thousand Python loops.  The integrator is the trapezoidal rule with local
+truncation-error step control, falling back to backward Euler on the first step
+after each source breakpoint (as SPICE does) so switching edges do not ring.
+
+Sources must have their minus terminal on ground; their nodes are then known
+voltages and drop out of the unknowns, and the current they deliver comes out of
+Kirchhoff's law at their node.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from . import devices
+from .circuit import GROUND, Netlist, Overrides, Part
+from .errors import SimulationError
+
+RELTOL = 1e-3
+VNTOL = 1e-6  # V, Newton's absolute voltage tolerance (SPICE default)
+LTE_RELTOL = 1e-3
+LTE_ABSTOL = 1e-4  # V (or K on a lamp's thermal node)
+TRTOL = 7.0  # SPICE's allowance for its pessimistic LTE estimate
+MAX_NEWTON = 60
+
+
+# --------------------------------------------------------------------- compile
+@dataclass
+class _Group:
+    """Devices of one kind, their node indices and per-batch parameters."""
+
+    refs: list
+    nodes: np.ndarray  # (n_dev, n_terminals) node indices
+    params: dict  # name -> (N, n_dev)
+
+
+class Compiled:
+    """A netlist flattened into node indices and batched parameter arrays."""
+
+    def __init__(self, netlist: Netlist, overrides: Overrides | None, n: int):
+        self.netlist = netlist
+        self.n = n
+        self.overrides = dict(overrides or {})
+        for (ref, _), arr in self.overrides.items():
+            if np.shape(arr) not in ((n,), ()):
+                raise ValueError(f"override for {ref} has shape {np.shape(arr)}, expected ({n},)")
+        fixed = [s.plus for s in netlist.sources]
+        for s in netlist.sources:
+            if s.minus != GROUND:
+                raise ValueError(f"source {s.name} must return to ground")
+        unknown = [net for net in netlist.nets if net not in fixed]
+        self._internal: list[str] = []
+        res, caps, diodes, bjts, mos, lamps = [], [], [], [], [], []
+        for part in netlist.parts:
+            self._add(part, unknown, res, caps, diodes, bjts, mos, lamps)
+        unknown += self._internal
+        self.names = unknown + fixed + [GROUND]
+        self.n_unknown = len(unknown)
+        self.n_fixed = len(fixed)
+        self.size = len(self.names)
+        self.index = {name: i for i, name in enumerate(self.names)}
+        self.sources = netlist.sources
+        self.source_levels = np.stack([self._value(s.name, "level", s.level_v) for s in netlist.sources], axis=1)
+        self.res = self._group(res, ("g",))
+        self.caps = self._group(caps, ("c", "ic"))
+        self.diodes = self._group(diodes, ("is", "n"))
+        self.bjts = self._group(bjts, ("sign", "is", "bf", "br", "nf", "nr", "vaf", "ikf", "ise", "ne"))
+        self.mos = self._group(mos, ("vto", "kp", "lam"))
+        self.lamps = self._group(lamps, ("r0", "troom", "alpha", "k"))
+        self._flat_linear()
+
+    # Parameters --------------------------------------------------------
+    def _value(self, ref: str, name: str, nominal: float) -> np.ndarray:
+        arr = self.overrides.get((ref, name))
+        if arr is None:
+            return np.full(self.n, float(nominal))
+        return np.broadcast_to(np.asarray(arr, dtype=float), (self.n,)).copy()
+
+    def _model(self, part: Part, name: str, default: float) -> np.ndarray:
+        return self._value(part.ref, name, part.model.get(name, default))
+
+    def _series(self, part: Part, pin_net: str, r_param: str, suffix: str, res: list) -> str:
+        """Insert a model's series resistance as SPICE does: on an internal node."""
+        r = self._model(part, r_param, 0.0)
+        if np.all(r <= 0):
+            return pin_net
+        inner = f"{part.ref}:{suffix}"
+        self._internal.append(inner)
+        res.append((f"{part.ref}.{r_param}", (pin_net, inner), {"g": 1.0 / np.maximum(r, 1e-9)}))
+        return inner
+
+    def _add(self, part, unknown, res, caps, diodes, bjts, mos, lamps) -> None:
+        k = part.kind
+        if k == "resistor":
+            res.append((part.ref, part.nets, {"g": 1.0 / self._value(part.ref, "value", part.value)}))
+        elif k == "capacitor":
+            caps.append((part.ref, part.nets, {"c": self._value(part.ref, "value", part.value), "ic": np.zeros(self.n)}))
+        elif k in ("diode", "led"):
+            a, kk = part.nets
+            a_int = self._series(part, a, "RS", "a", res)
+            diodes.append((part.ref, (a_int, kk), {"is": self._model(part, "IS", 1e-14), "n": self._model(part, "N", 1.0)}))
+        elif k in ("npn", "pnp"):
+            c, b, e = part.nets
+            c = self._series(part, c, "RC", "c", res)
+            b = self._series(part, b, "RB", "b", res)
+            e = self._series(part, e, "RE", "e", res)
+            p = {name.lower(): self._model(part, name, d) for name, d in
+                 (("IS", 1e-16), ("BF", 100.0), ("BR", 1.0), ("NF", 1.0), ("NR", 1.0),
+                  ("VAF", 0.0), ("IKF", 0.0), ("ISE", 0.0), ("NE", 1.5))}
+            p["sign"] = np.full(self.n, 1.0 if k == "npn" else -1.0)
+            bjts.append((part.ref, (c, b, e), p))
+        elif k == "nmos":
+            d, g, s = part.nets
+            d = self._series(part, d, "RD", "d", res)
+            s = self._series(part, s, "RS", "s", res)
+            mos.append((part.ref, (d, g, s), {"vto": self._model(part, "VTO", 0.0),
+                                               "kp": self._model(part, "KP", 2e-5),
+                                               "lam": self._model(part, "LAMBDA", 0.0)}))
+        elif k == "lamp":
+            th = f"{part.ref}:th"
+            self._internal.append(th)
+            troom = self._model(part, "TROOM", 300.0)
+            lamps.append((part.ref, (*part.nets, th), {"r0": self._model(part, "R0", 1.0), "troom": troom,
+                                                       "alpha": self._model(part, "ALPHA", 1.2),
+                                                       "k": self._model(part, "K", 1e-12)}))
+            caps.append((f"{part.ref}.CTH", (th, GROUND), {"c": self._model(part, "CTH", 1e-3), "ic": troom}))
+        else:  # pragma: no cover - PartKind is closed
+            raise ValueError(f"{part.ref}: unknown kind {k}")
+
+    def _group(self, items, names) -> _Group:
+        if not items:
+            return _Group([], np.zeros((0, 0), dtype=int), {k: np.zeros((self.n, 0)) for k in names})
+        refs = [r for r, _, _ in items]
+        nodes = np.array([[self.index[x] for x in nets] for _, nets, _ in items], dtype=int)
+        params = {k: np.stack([p[k] for _, _, p in items], axis=1) for k in names}
+        return _Group(refs, nodes, params)
+
+    # Linear stamps ---------------------------------------------------------
+    def _pair_stamp(self, nodes: np.ndarray, values: np.ndarray) -> np.ndarray:
+        """Sum two-terminal conductances ``values`` (N, n_dev) into a matrix."""
+        m = np.zeros((self.n, self.size, self.size))
+        for j, (a, b) in enumerate(nodes[:, :2]):
+            v = values[:, j]
+            m[:, a, a] += v
+            m[:, b, b] += v
+            m[:, a, b] -= v
+            m[:, b, a] -= v
+        return m
+
+    def _flat_linear(self) -> None:
+        self.g_lin = self._pair_stamp(self.res.nodes, self.res.params["g"])
+        self.g_cap = self._pair_stamp(self.caps.nodes, self.caps.params["c"])
+        size = self.size
+        d = self.diodes.nodes
+        if len(d):
+            a, k = d[:, 0], d[:, 1]
+            self._d_flat = np.concatenate([a * size + a, k * size + k, a * size + k, k * size + a])
+        b = self.bjts.nodes
+        if len(b):
+            rows = np.concatenate([b[:, 0], b[:, 1], b[:, 2]])
+            self._q_rows = rows
+            self._q_flat = np.concatenate([r * size + b[:, c] for r in (b[:, 0], b[:, 1], b[:, 2]) for c in (0, 1, 2)])
+        m = self.mos.nodes
+        if len(m):
+            self._m_flat = np.concatenate([r * size + m[:, c] for r in (m[:, 0], m[:, 2]) for c in (0, 1, 2)])
+        lp = self.lamps.nodes
+        if len(lp):
+            self._l_flat = np.concatenate([r * size + lp[:, c] for r in (lp[:, 0], lp[:, 1], lp[:, 2]) for c in (0, 1, 2)])
+
+    def fixed_values(self, t_s: float, scale: float = 1.0) -> np.ndarray:
+        """Source node voltages at time ``t_s``, shape (N, n_fixed)."""
+        frac = np.array([s.value_at(t_s) for s in self.sources])
+        return self.source_levels * frac * scale
+
+
+# ---------------------------------------------------------------- nonlinear
+class _Limits:
+    """Junction voltages of the previous Newton iterate, for SPICE-style limiting."""
+
+    def __init__(self, c: Compiled):
+        self.vd = np.zeros_like(c.diodes.params["is"])
+        self.vbe = np.zeros_like(c.bjts.params["is"])
+        self.vbc = np.zeros_like(c.bjts.params["is"])
+        nvt = c.diodes.params["n"] * devices.VT_NOMINAL
+        self.d_vcrit = devices.junction_vcrit(c.diodes.params["is"], nvt)
+        q = c.bjts.params
+        self.be_vcrit = devices.junction_vcrit(q["is"], q["nf"] * devices.VT_NOMINAL)
+        self.bc_vcrit = devices.junction_vcrit(q["is"], q["nr"] * devices.VT_NOMINAL)
+
+    def copy(self) -> "_Limits":
+        new = object.__new__(_Limits)
+        new.__dict__ = {k: v.copy() for k, v in self.__dict__.items()}
+        return new
+
+
+def _stamp_nonlinear(c: Compiled, x: np.ndarray, lim: _Limits, G: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    """Add every nonlinear device's linearisation at ``x``; return the 'limited' mask (N,)."""
+    n, size = c.n, c.size
+    Gf = G.reshape(n, size * size)
+    limited = np.zeros(n, dtype=bool)
+    vt = devices.VT_NOMINAL
+
+    d = c.diodes
+    if d.refs:
+        a, k = d.nodes[:, 0], d.nodes[:, 1]
+        v = x[:, a] - x[:, k]
+        nvt = d.params["n"] * vt
+        v, hit = devices.pnjlim(v, lim.vd, nvt, lim.d_vcrit)
+        lim.vd = v
+        limited |= hit.any(axis=1)
+        i, g = devices.diode(v, is_a=d.params["is"], n=d.params["n"])
+        ieq = i - g * v
+        np.add.at(Gf.T, c._d_flat, np.concatenate([g, g, -g, -g], axis=1).T)
+        np.add.at(rhs.T, np.concatenate([a, k]), np.concatenate([-ieq, ieq], axis=1).T)
+
+    q = c.bjts
+    if q.refs:
+        p = q.params
+        s = p["sign"]
+        cn, bn, en = q.nodes[:, 0], q.nodes[:, 1], q.nodes[:, 2]
+        vbe = s * (x[:, bn] - x[:, en])
+        vbc = s * (x[:, bn] - x[:, cn])
+        nvt_f, nvt_r = p["nf"] * vt, p["nr"] * vt
+        vbe, h1 = devices.pnjlim(vbe, lim.vbe, nvt_f, lim.be_vcrit)
+        vbc, h2 = devices.pnjlim(vbc, lim.vbc, nvt_r, lim.bc_vcrit)
+        lim.vbe, lim.vbc = vbe, vbc
+        limited |= (h1 | h2).any(axis=1)
+        ic, ib, dic_be, dic_bc, dib_be, dib_bc = devices.bjt(
+            vbe, vbc, is_a=p["is"], bf=p["bf"], br=p["br"], nf=p["nf"], nr=p["nr"],
+            vaf=p["vaf"], ikf=p["ikf"], ise=p["ise"], ne=p["ne"])
+        # Terminal currents in node terms; derivatives w.r.t. (vc, vb, ve).
+        Ic, Ib = s * ic, s * ib
+        jc = (-dic_bc, dic_be + dic_bc, -dic_be)
+        jb = (-dib_bc, dib_be + dib_bc, -dib_be)
+        je = tuple(-(u + w) for u, w in zip(jc, jb))
+        # Linearise around the limited junction voltages, not the raw iterate.
+        vb_l = x[:, en] + s * vbe
+        vc_l = vb_l - s * vbc
+        vnodes = (vc_l, vb_l, x[:, en])
+        ieq = []
+        for I, J in ((Ic, jc), (Ib, jb), (-(Ic + Ib), je)):
+            ieq.append(I - sum(Jk * vk for Jk, vk in zip(J, vnodes)))
+        vals = np.concatenate([*jc, *jb, *je], axis=1)
+        np.add.at(Gf.T, c._q_flat, vals.T)
+        np.add.at(rhs.T, c._q_rows, -np.concatenate(ieq, axis=1).T)
+
+    m = c.mos
+    if m.refs:
+        p = m.params
+        dn, gn, sn = m.nodes[:, 0], m.nodes[:, 1], m.nodes[:, 2]
+        vgs = x[:, gn] - x[:, sn]
+        vds = x[:, dn] - x[:, sn]
+        i_d, gm, gds = devices.mosfet_level1(vgs, vds, vto=p["vto"], kp=p["kp"], lam=p["lam"])
+        jd = (gds, gm, -(gm + gds))
+        js = tuple(-u for u in jd)
+        ieq_d = i_d - gm * vgs - gds * vds
+        np.add.at(Gf.T, c._m_flat, np.concatenate([*jd, *js], axis=1).T)
+        np.add.at(rhs.T, np.concatenate([dn, sn]), np.concatenate([-ieq_d, ieq_d], axis=1).T)
+
+    lp = c.lamps
+    if lp.refs:
+        p = lp.params
+        an, bn2, tn = lp.nodes[:, 0], lp.nodes[:, 1], lp.nodes[:, 2]
+        v = x[:, an] - x[:, bn2]
+        t = np.maximum(x[:, tn], 1.0)
+        i, di_dv, di_dt, p_net, dp_dv, dp_dt = devices.lamp(
+            v, t, r0_ohm=p["r0"], t_room_k=p["troom"], alpha=p["alpha"], k_w_per_k4=p["k"])
+        ja = (di_dv, -di_dv, di_dt)
+        jb = (-di_dv, di_dv, -di_dt)
+        jt = (-dp_dv, dp_dv, -dp_dt)
+        xs = (x[:, an], x[:, bn2], t)
+        ieq = [I - sum(Jk * vk for Jk, vk in zip(J, xs)) for I, J in ((i, ja), (-i, jb), (-p_net, jt))]
+        np.add.at(Gf.T, c._l_flat, np.concatenate([*ja, *jb, *jt], axis=1).T)
+        np.add.at(rhs.T, np.concatenate([an, bn2, tn]), -np.concatenate(ieq, axis=1).T)
+    return limited
+
+
+def _solve(A: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Batched dense solve; small systems, so numpy's LAPACK loop is fine."""
+    try:
+        return np.linalg.solve(A, b[..., None])[..., 0]
+    except np.linalg.LinAlgError as exc:  # singular: a floating node
+        raise SimulationError(f"singular circuit matrix ({exc})") from exc
+
+
+def _newton(c: Compiled, x0: np.ndarray, xf: np.ndarray, G0: np.ndarray, rhs0: np.ndarray,
+            lim: _Limits, max_iter: int = MAX_NEWTON):
+    """Newton iterations at one time point; returns (x, converged mask, G, rhs)."""
+    nu = c.n_unknown
+    x = x0.copy()
+    x[:, nu:nu + c.n_fixed] = xf
+    x[:, -1] = 0.0
+    th = c.lamps.nodes[:, 2] if c.lamps.refs else None
+    done = np.zeros(c.n, dtype=bool)
+    for _ in range(max_iter):
+        G = G0.copy()
+        rhs = rhs0.copy()
+        limited = _stamp_nonlinear(c, x, lim, G, rhs)
+        A = G[:, :nu, :nu]
+        b = rhs[:, :nu] - np.einsum("nij,nj->ni", G[:, :nu, nu:], x[:, nu:])
+        xu = _solve(A, b)
+        if th is not None:  # keep the filament temperature physical while iterating
+            cur = x[:, th]
+            xu[:, th] = np.clip(xu[:, th], np.maximum(cur - 1500.0, 1.0), cur + 1500.0)
+        dx = np.abs(xu - x[:, :nu])
+        ok = np.all(dx <= RELTOL * np.maximum(np.abs(xu), np.abs(x[:, :nu])) + VNTOL, axis=1) & ~limited
+        x[:, :nu] = xu
+        done = ok
+        if done.all():
+            break
+    return x, done, G, rhs
+
+
+# ------------------------------------------------------------------ results
+@dataclass(frozen=True)
+class Traces:
+    """The outcome of one batched transient: node voltages and source currents.
+
+    ``t_s`` is shared by the whole batch.  ``voltages`` has shape (N, T, nodes);
+    ``source_currents`` (N, T, sources) is the current each source *delivers*.
+    """
+
+    netlist: Netlist
+    t_s: np.ndarray
+    names: tuple[str, ...]
+    voltages: np.ndarray
+    source_currents: np.ndarray
+
+    @property
+    def n(self) -> int:
+        return self.voltages.shape[0]
+
+    def v(self, net: str) -> np.ndarray:
+        """Voltage of ``net`` against ground, shape (N, T)."""
+        if net == GROUND:
+            return np.zeros(self.voltages.shape[:2])
+        return self.voltages[:, :, self.names.index(net)]
+
+    def i_source(self, name: str) -> np.ndarray:
+        """Current delivered by source ``name``, shape (N, T)."""
+        idx = [s.name for s in self.netlist.sources].index(name)
+        return self.source_currents[:, :, idx]
+
+
+def _source_currents(c: Compiled, G: np.ndarray, rhs: np.ndarray, x: np.ndarray) -> np.ndarray:
+    """Current each source delivers: the KCL imbalance at its node."""
+    nu, nf = c.n_unknown, c.n_fixed
+    rows = slice(nu, nu + nf)
+    return np.einsum("nij,nj->ni", G[:, rows, :], x) - rhs[:, rows]
+
+
+# ---------------------------------------------------------------- transient
+def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | None = None,
+              max_step_s: float | None = None) -> Traces:
+    """Simulate ``netlist`` from t = 0 to ``netlist.stop_s`` for a batch of parameter sets.
+
+    ``n`` is the batch size (taken from the overrides when omitted).  All
+    capacitors start discharged and every lamp filament at room temperature,
+    like SPICE's ``uic`` with ``.ic`` on the thermal nodes.
+    """
+    if n is None:
+        n = max((np.size(a) for a in (overrides or {}).values()), default=1)
+    c = Compiled(netlist, overrides, n)
+    stop = netlist.stop_s
+    hmax = max_step_s or stop / 400.0
+    bps = sorted({t for s in netlist.sources for t in s.breakpoints if 0 < t < stop} | {stop})
+    h_start = min(stop * 1e-6, hmax)
+
+    x = np.zeros((n, c.size))
+    if c.lamps.refs:
+        x[:, c.lamps.nodes[:, 2]] = c.lamps.params["troom"]
+    x[:, c.n_unknown:c.n_unknown + c.n_fixed] = c.fixed_values(0.0)
+    cap_a, cap_b = c.caps.nodes[:, 0], c.caps.nodes[:, 1]
+    cap_c = c.caps.params["c"]
+    vc = x[:, cap_a] - x[:, cap_b]
+    ic = np.zeros_like(vc)
+    lim = _Limits(c)
+
+    # Operating point at t = 0 with capacitors held at their initial voltage:
+    # a tiny backward-Euler step.
+    G_op = c.g_lin + c.g_cap * 1e9
+    rhs_op = np.zeros((n, c.size))
+    np.add.at(rhs_op.T, cap_a, (1e9 * cap_c * vc).T)
+    np.add.at(rhs_op.T, cap_b, (-1e9 * cap_c * vc).T)
+    x, ok, G, rhs = _newton(c, x, c.fixed_values(0.0), G_op, rhs_op, lim)
+    times, volts, currents = [0.0], [x.copy()], [_source_currents(c, G, rhs, x)]
+    hist_t, hist_v = [0.0], [vc.copy()]
+
+    t, h, bp_i, first = 0.0, h_start, 0, True
+    n_steps = 0
+    while t < stop * (1 - 1e-12):
+        while bps[bp_i] <= t * (1 + 1e-12):
+            bp_i += 1
+        h = min(h, hmax, bps[bp_i] - t)
+        trap = not first
+        alpha = 2.0 if trap else 1.0
+        geq = alpha * cap_c / h
+        hist = geq * vc + (ic if trap else 0.0)
+        G0 = c.g_lin + c.g_cap * (alpha / h)
+        rhs0 = np.zeros((n, c.size))
+        np.add.at(rhs0.T, cap_a, hist.T)
+        np.add.at(rhs0.T, cap_b, (-hist).T)
+        trial_lim = lim.copy()
+        xn, ok, G, rhs = _newton(c, x, c.fixed_values(t + h), G0, rhs0, trial_lim)
+        if not ok.all():
+            h /= 8.0
+            if h < stop * 1e-12:
+                raise SimulationError(f"{netlist.title}: time step too small at t = {t:.6g} s")
+            continue
+        vcn = xn[:, cap_a] - xn[:, cap_b]
+        if trap and len(hist_t) >= 3:
+            ts = np.array(hist_t[-3:] + [t + h])
+            vs = np.stack(hist_v[-3:] + [vcn])
+            dd3 = _third_divided_difference(ts, vs)
+            lte = h**3 * np.abs(dd3) / 2.0
+            tol = TRTOL * (LTE_RELTOL * np.maximum(np.abs(vcn), np.abs(vc)) + LTE_ABSTOL)
+            ratio = np.max(lte / tol) if lte.size else 0.0
+            if ratio > 1.0 and h > h_start:
+                h *= max(0.25, 0.9 * ratio ** (-1.0 / 3.0))
+                continue
+            grow = 2.0 if ratio == 0 else min(2.0, 0.9 * ratio ** (-1.0 / 3.0))
+        else:
+            grow = 2.0
+        icn = geq * (vcn - vc) - (ic if trap else 0.0)
+        x, vc, ic, lim = xn, vcn, icn, trial_lim
+        t += h
+        n_steps += 1
+        times.append(t)
+        volts.append(x.copy())
+        currents.append(_source_currents(c, G, rhs, x))
+        hist_t.append(t)
+        hist_v.append(vc.copy())
+        first = False
+        if bp_i < len(bps) and t >= bps[bp_i] * (1 - 1e-12):
+            first = True
+            h = h_start
+            hist_t, hist_v = [t], [vc.copy()]  # no divided differences across a corner
+        else:
+            h *= max(grow, 0.5)
+    return Traces(netlist=netlist, t_s=np.array(times), names=tuple(c.names),
+                  voltages=np.stack(volts, axis=1), source_currents=np.stack(currents, axis=1))
+
+
+def _third_divided_difference(ts: np.ndarray, vs: np.ndarray) -> np.ndarray:
+    """f[t0, t1, t2, t3] for arrays vs of shape (4, N, k); ≈ f'''/6."""
+    d1 = [(vs[i + 1] - vs[i]) / (ts[i + 1] - ts[i]) for i in range(3)]
+    d2 = [(d1[i + 1] - d1[i]) / (ts[i + 2] - ts[i]) for i in range(2)]
+    return (d2[1] - d2[0]) / (ts[3] - ts[0])
+
+
+# ----------------------------------------------------------------------- DC
+@dataclass(frozen=True)
+class OperatingPoint:
+    """DC node voltages (N, nodes) and source currents (N, sources)."""
+
+    netlist: Netlist
+    names: tuple[str, ...]
+    voltages: np.ndarray
+    source_currents: np.ndarray
+
+    def v(self, net: str) -> np.ndarray:
+        if net == GROUND:
+            return np.zeros(self.voltages.shape[0])
+        return self.voltages[:, self.names.index(net)]
+
+    def i_source(self, name: str) -> np.ndarray:
+        idx = [s.name for s in self.netlist.sources].index(name)
+        return self.source_currents[:, idx]
+
+
+def operating_point(netlist: Netlist, *, at_s: float, overrides: Overrides | None = None,
+                    n: int | None = None) -> OperatingPoint:
+    """Steady DC state with the sources as they are at time ``at_s``.
+
+    Capacitors are open.  Sources are ramped up in steps (source stepping) so
+    that Newton starts every step close to the answer.
+    """
+    if n is None:
+        n = max((np.size(a) for a in (overrides or {}).values()), default=1)
+    c = Compiled(netlist, overrides, n)
+    x = np.zeros((n, c.size))
+    if c.lamps.refs:
+        x[:, c.lamps.nodes[:, 2]] = c.lamps.params["troom"]
+    lim = _Limits(c)
+    rhs0 = np.zeros((n, c.size))
+    # A tiny conductance to ground on every unknown keeps capacitor-only nodes solvable.
+    G0 = c.g_lin.copy()
+    idx = np.arange(c.n_unknown)
+    G0[:, idx, idx] += devices.GMIN
+    for scale in np.linspace(0.1, 1.0, 10):
+        x, ok, G, rhs = _newton(c, x, c.fixed_values(at_s, scale), G0, rhs0, lim, max_iter=200)
+    if not ok.all():
+        raise SimulationError(f"{netlist.title}: DC operating point did not converge")
+    return OperatingPoint(netlist=netlist, names=tuple(c.names), voltages=x,
+                          source_currents=_source_currents(c, G, rhs, x))

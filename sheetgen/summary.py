@@ -1,0 +1,44 @@
+"""The readable terminal summary of a Report."""
+
+from __future__ import annotations
+
+from .analyse import Report
+from .measure import DEFINITIONS
+from .units import format_quantity
+
+
+def _value(part) -> str:
+    if part.kind == "resistor":
+        w = f", {part.rating_w:g} W" if part.rating_w else ""
+        return f"{format_quantity(part.value, 'ohm')}{w}"
+    if part.kind == "capacitor":
+        v = f", {part.rating_v:g} V" if part.rating_v else ""
+        return f"{format_quantity(part.value, 'F')}{v}"
+    return part.part_number or part.description
+
+
+def summary_text(report: Report) -> str:
+    d = report.design
+    spec = d.spec
+    s = spec.supply
+    lines = [
+        spec.title,
+        f"  supply {s.nominal_v:g} V (from {s.min_v:g} to {s.max_v:g} V), ambient up to {spec.ambient_c:g} °C",
+        f"  topology: {d.topology.title}",
+        f"  load current {format_quantity(d.load_current_a, 'A')} (steady, nominal supply)",
+        f"  fade-in  {d.fade_in_s:6.2f} s  (asked {spec.fade_in_s:g} s): {DEFINITIONS['fade_in_s']}",
+        f"  fade-out {d.fade_out_s:6.2f} s  (asked {spec.fade_out_s:g} s): {DEFINITIONS['fade_out_s']}",
+        f"  base drive at {s.min_v:g} V and minimum gain: {d.overdrive:.2f}× what saturation needs",
+        "",
+        "  parts:",
+    ]
+    seen = {}
+    for p in d.netlist.parts:
+        key = (p.kind, p.value, p.model.name if p.model else None, p.rating_w)
+        seen.setdefault(key, []).append(p)
+    for group in seen.values():
+        refs = ", ".join(p.ref for p in group)
+        lines.append(f"    {refs:<22} {_value(group[0]):<24} {group[0].description}")
+    lines.append("")
+    lines += [f"  {r}" for r in d.reasons]
+    return "\n".join(lines)
