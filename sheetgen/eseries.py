@@ -18,6 +18,7 @@ linearly).
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 __all__ = [
     "SERIES",
@@ -75,6 +76,7 @@ def _positive(x: float, what: str = "value") -> float:
     return x
 
 
+@lru_cache(maxsize=None)
 def _decade_values(name: str, exponent: int) -> tuple[float, ...]:
     """The series' values in the decade [10**exponent, 10**(exponent+1))."""
     mantissas = _MANTISSAS[name]

@@ -28,6 +28,8 @@ LTE_RELTOL = 1e-3
 LTE_ABSTOL = 1e-4  # V (or K on a lamp's thermal node)
 TRTOL = 7.0  # SPICE's allowance for its pessimistic LTE estimate
 MAX_NEWTON = 60
+MAX_DV = 5.0  # V, largest node-voltage change in one Newton iteration
+MAX_DT = 400.0  # K, largest filament-temperature change in one Newton iteration
 
 
 # --------------------------------------------------------------------- compile
@@ -54,10 +56,11 @@ class Compiled:
         for s in netlist.sources:
             if s.minus != GROUND:
                 raise ValueError(f"source {s.name} must return to ground")
-        unknown = [net for net in netlist.nets if net not in fixed]
+        parts, hidden = self._merge_chains(netlist, fixed)
+        unknown = [net for net in netlist.nets if net not in fixed and net not in hidden]
         self._internal: list[str] = []
         res, caps, diodes, bjts, mos, lamps = [], [], [], [], [], []
-        for part in netlist.parts:
+        for part in parts:
             self._add(part, unknown, res, caps, diodes, bjts, mos, lamps)
         unknown += self._internal
         self.names = unknown + fixed + [GROUND]
@@ -74,6 +77,67 @@ class Compiled:
         self.mos = self._group(mos, ("vto", "kp", "lam"))
         self.lamps = self._group(lamps, ("r0", "troom", "alpha", "k"))
         self._flat_linear()
+
+    def _merge_chains(self, netlist: Netlist, fixed: list[str]):
+        """Replace each series chain of identical diodes (an LED string) by one diode.
+
+        n equal junctions in series carrying one current drop n·N·Vt·ln(I/IS)
+        plus n·I·RS, which is one junction with emission coefficient n·N, series
+        resistance n·RS and IS the geometric mean of the members' IS: the same
+        equations with fewer unknowns.  The chain's inner nets are not solved
+        for (they are not test points).
+        """
+        pins_on: dict[str, list[tuple[Part, str]]] = {}
+        for part in netlist.parts:
+            for pin, net in part.pins:
+                pins_on.setdefault(net, []).append((part, pin))
+        probes = {net for _, net in netlist.probes}
+
+        def joins(net: str):
+            on = pins_on.get(net, [])
+            if net in fixed or net in probes or net == GROUND or len(on) != 2:
+                return None
+            (p1, a), (p2, b) = on
+            if {a, b} != {"A", "K"} or p1.kind not in ("led", "diode") or p2.kind != p1.kind:
+                return None
+            if p1.model != p2.model:
+                return None
+            return (p1, p2) if a == "K" else (p2, p1)
+
+        nxt = {}
+        for net in pins_on:
+            pair = joins(net)
+            if pair:
+                nxt[pair[0].ref] = (pair[1], net)
+        heads = [p for p in netlist.parts if p.ref in nxt and p.ref not in {q.ref for q, _ in nxt.values()}]
+        merged: dict[str, Part] = {}
+        hidden: set[str] = set()
+        for head in heads:
+            chain, nets = [head], []
+            while chain[-1].ref in nxt:
+                q, net = nxt[chain[-1].ref]
+                chain.append(q)
+                nets.append(net)
+            hidden.update(nets)
+            ref = "+".join(p.ref for p in chain)
+            n_chain = len(chain)
+            iss = np.stack([self._model(p, "IS", 1e-14) for p in chain])
+            self.overrides[(ref, "IS")] = np.exp(np.mean(np.log(iss), axis=0))
+            for name in ("N", "RS"):
+                vals = np.stack([self._model(p, name, 1.0 if name == "N" else 0.0) for p in chain])
+                self.overrides[(ref, name)] = n_chain * np.mean(vals, axis=0)
+            merged[head.ref] = Part(ref=ref, kind=head.kind, pins=(("A", head.net("A")), ("K", chain[-1].net("K"))),
+                                    role=head.role, model=head.model)
+            for p in chain[1:]:
+                merged[p.ref] = None
+        parts = []
+        for p in netlist.parts:
+            if p.ref in merged:
+                if merged[p.ref] is not None:
+                    parts.append(merged[p.ref])
+            else:
+                parts.append(p)
+        return parts, hidden
 
     # Parameters --------------------------------------------------------
     def _value(self, ref: str, name: str, nominal: float) -> np.ndarray:
@@ -297,6 +361,9 @@ def _newton(c: Compiled, x0: np.ndarray, xf: np.ndarray, G0: np.ndarray, rhs0: n
     x[:, nu:nu + c.n_fixed] = xf
     x[:, -1] = 0.0
     th = c.lamps.nodes[:, 2] if c.lamps.refs else None
+    step_limit = np.full(nu, MAX_DV)
+    if th is not None:
+        step_limit[th] = MAX_DT
     done = np.zeros(c.n, dtype=bool)
     for _ in range(max_iter):
         G = G0.copy()
@@ -305,11 +372,18 @@ def _newton(c: Compiled, x0: np.ndarray, xf: np.ndarray, G0: np.ndarray, rhs0: n
         A = G[:, :nu, :nu]
         b = rhs[:, :nu] - np.einsum("nij,nj->ni", G[:, :nu, nu:], x[:, nu:])
         xu = _solve(A, b)
-        if th is not None:  # keep the filament temperature physical while iterating
-            cur = x[:, th]
-            xu[:, th] = np.clip(xu[:, th], np.maximum(cur - 1500.0, 1.0), cur + 1500.0)
-        dx = np.abs(xu - x[:, :nu])
-        ok = np.all(dx <= RELTOL * np.maximum(np.abs(xu), np.abs(x[:, :nu])) + VNTOL, axis=1) & ~limited
+        step = xu - x[:, :nu]
+        # Damped Newton: no node moves more than MAX_DV (a lamp's thermal node
+        # more than MAX_DT) in one iteration, so a poor linearisation cannot fling
+        # the iterate far from the physical region.
+        ratio = np.max(np.abs(step) / step_limit, axis=1)
+        damped = ratio > 1.0
+        step = step / np.maximum(ratio, 1.0)[:, None]
+        xu = x[:, :nu] + step
+        if th is not None:  # a filament is never colder than the room it sits in
+            xu[:, th] = np.maximum(xu[:, th], c.lamps.params["troom"])
+        dx = np.abs(step)
+        ok = np.all(dx <= RELTOL * np.maximum(np.abs(xu), np.abs(x[:, :nu])) + VNTOL, axis=1) & ~limited & ~damped
         x[:, :nu] = xu
         done = ok
         if done.all():

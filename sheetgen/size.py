@@ -160,6 +160,12 @@ def _grid(series: str, lo: float, hi: float) -> np.ndarray:
     return np.array(eseries.values(series, lo, hi))
 
 
+def _snap_below(series: str, x: np.ndarray) -> np.ndarray:
+    """Vectorised ``eseries.below`` over an array of values above 1 Ω."""
+    grid = _grid(series, 1.0, 1e8)
+    return grid[np.searchsorted(grid, x * (1 + 1e-9), side="right") - 1]
+
+
 def _predict(v_feed, vbe, r1, r2, r3, c, i_load, beta):
     """Closed-form fade times of the RC network driving a transistor of gain ``beta``."""
     g = 1 / r1 + 1 / r2 + 1 / r3
@@ -223,7 +229,7 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, refusals: list[str
     if C.size == 0:
         raise _NoFit(f"the feed cannot supply {format_quantity(1.6 * ib_rule, 'A')} of base current "
                      f"(1.6 × {format_quantity(i_at_min, 'A')} / hFE_min {hfe_min:g}) through any charge resistor")
-    R3 = np.array([eseries.below("E24", r) for r in R3])
+    R3 = _snap_below("E24", R3)
     v_feed = spec.supply.nominal_v - DIODE_DROP_V
     p_in, p_out = _predict(v_feed, VBE_ON_V, R1, R2, R3, C, i_nom, hfe_typ)
 

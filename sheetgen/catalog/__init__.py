@@ -182,8 +182,9 @@ class LedColour:
 class Filament:
     """Tungsten filament of a small low-voltage bulb, as a thermal state.
 
-    ``tau_s`` is C_th / (4 k t_hot³): the heat capacity over the slope of the
-    radiated power at the hot point (see filament.yaml).
+    ``tau_s`` is the small-signal time constant at rated voltage:
+    C_th / (4 k t_hot³ + alpha P / t_hot), close to C_th t_hot / ((4 + alpha) P)
+    (see filament.yaml).
     """
 
     t_room_k: float         # cold filament temperature
@@ -202,8 +203,10 @@ class Filament:
         return power_w / (self.t_hot_k ** 4 - self.t_room_k ** 4)
 
     def heat_capacity_j_per_k(self, *, power_w: float) -> float:
-        """Filament heat capacity C_th = tau_s · 4 k t_hot³ (J/K)."""
-        return self.tau_s * 4.0 * self.radiation_k(power_w=power_w) * self.t_hot_k ** 3
+        """Filament heat capacity C_th = tau_s (4 k t_hot³ + alpha P / t_hot), J/K."""
+        k = self.radiation_k(power_w=power_w)
+        slope = 4.0 * k * self.t_hot_k ** 3 + self.alpha * power_w / self.t_hot_k
+        return self.tau_s * slope
 
     def lamp_model(self, *, power_w: float, rated_v: float, name: str = "LAMP") -> Model:
         """A LAMP model card (R0, TROOM, THOT, ALPHA, K, CTH) for a bulb of this rating."""
