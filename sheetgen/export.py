@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import json
 
-from .analyse import Report
+from .report import Report
 from .measure import DEFINITIONS
 from .spice import spice_deck
 
@@ -45,6 +45,23 @@ def report_dict(report: Report) -> dict:
         "ambient_c": spec.ambient_c,
         "overdrive_at_min_supply": d.overdrive,
         "reasons": list(d.reasons),
+        "steady_load_a": report.steady_a,
+        "heat": {
+            "peak_power_w": report.heat.peak_power_w,
+            "peak_junction_c": report.heat.peak_junction_c,
+            "steady_power_w": report.heat.steady_power_w,
+            "heatsink_c_per_w": report.heat.heatsink_c_per_w,
+            "hover_power_w": report.heat.hover_power_w,
+            "fade_energy_j": report.heat.fade_energy_j,
+            "junction_limit_c": report.heat.junction_limit_c,
+            "resistors": [{"ref": r.ref, "power_w": r.power_w, "rating_w": r.rating_w} for r in report.heat.resistors],
+        },
+        "harness": {"fuse_a": report.harness.fuse_a, "wire_mm2": report.harness.wire_mm2,
+                    "wire_awg": report.harness.wire_awg, "max_current_a": report.harness.max_current_a},
+        "bench": [{"point": b.label, "net": b.net, "on_v": list(b.on_v), "off_v": list(b.off_v)}
+                  for b in report.bench],
+        "wiring": list(report.wiring),
+        "cautions": list(report.cautions),
         "spice": spice_deck(d.netlist),
     }
     return out

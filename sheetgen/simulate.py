@@ -405,10 +405,40 @@ class Traces:
     names: tuple[str, ...]
     voltages: np.ndarray
     source_currents: np.ndarray
+    compiled: Compiled
 
     @property
     def n(self) -> int:
         return self.voltages.shape[0]
+
+    def switch_power(self, ref: str) -> np.ndarray:
+        """Instantaneous dissipation of transistor ``ref`` (BJT or MOSFET), shape (N, T).
+
+        Device currents are evaluated again from the solved junction voltages;
+        the power is the sum of pin voltage times pin current over its
+        external pins, so series resistances inside the model count too.
+        """
+        c = self.compiled
+        part = self.netlist.part(ref)
+        vx = {pin: self.v(net) for pin, net in part.pins}
+        if ref in c.bjts.refs:
+            j = c.bjts.refs.index(ref)
+            cn, bn, en = c.bjts.nodes[j]
+            p = {k: v[:, j:j + 1] for k, v in c.bjts.params.items()}
+            s = p["sign"]
+            vbe = s * (self.voltages[:, :, bn] - self.voltages[:, :, en])
+            vbc = s * (self.voltages[:, :, bn] - self.voltages[:, :, cn])
+            ic, ib, *_ = devices.bjt(vbe, vbc, is_a=p["is"], bf=p["bf"], br=p["br"], nf=p["nf"], nr=p["nr"],
+                                     vaf=p["vaf"], ikf=p["ikf"], ise=p["ise"], ne=p["ne"])
+            ic, ib = s * ic, s * ib
+            return vx["C"] * ic + vx["B"] * ib - vx["E"] * (ic + ib)
+        j = c.mos.refs.index(ref)
+        dn, gn, sn = c.mos.nodes[j]
+        p = {k: v[:, j:j + 1] for k, v in c.mos.params.items()}
+        vv = self.voltages
+        i_d, _, _ = devices.mosfet_level1(vv[:, :, gn] - vv[:, :, sn], vv[:, :, dn] - vv[:, :, sn],
+                                          vto=p["vto"], kp=p["kp"], lam=p["lam"])
+        return (vx["D"] - vx["S"]) * i_d
 
     def v(self, net: str) -> np.ndarray:
         """Voltage of ``net`` against ground, shape (N, T)."""
@@ -518,7 +548,7 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
         else:
             h *= max(grow, 0.5)
     return Traces(netlist=netlist, t_s=np.array(times), names=tuple(c.names),
-                  voltages=np.stack(volts, axis=1), source_currents=np.stack(currents, axis=1))
+                  voltages=np.stack(volts, axis=1), source_currents=np.stack(currents, axis=1), compiled=c)
 
 
 def _third_divided_difference(ts: np.ndarray, vs: np.ndarray) -> np.ndarray:

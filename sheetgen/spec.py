@@ -103,6 +103,7 @@ class Spec:
     fade_out_s: float  # trigger removed -> load current at 10 % of steady
     ambient_c: float = 25.0  # worst-case air temperature around the box
     topology: str = "auto"  # "auto" or the name of a topology to force
+    install: str = "vehicle"  # where it goes: vehicle | boat | building | bench (chooses the cautions)
     source: str = ""  # file path or "<built-in>", for messages
 
 
@@ -406,7 +407,8 @@ def _voltage(p: _Problems, value: Any, path: tuple[str, ...]) -> float | None:
     return volts
 
 
-_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology")
+_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install")
+INSTALLS = ("vehicle", "boat", "building", "bench")
 _SUPPLY_KEYS = ("nominal", "min", "max")
 _LED_KEYS = ("kind", "current", "vf", "colour", "per_string", "strings")
 _LAMP_KEYS = ("kind", "power", "current", "rated", "count")
@@ -443,6 +445,7 @@ def _build(data: Any, p: _Problems) -> Spec:
     fade_in_s, fade_out_s = _fade(p, data)
     ambient_c = _ambient(p, data)
     topology = _topology(p, data)
+    install = _install(p, data)
     p.raise_if_any()
     return Spec(
         title=title,
@@ -453,6 +456,7 @@ def _build(data: Any, p: _Problems) -> Spec:
         fade_out_s=fade_out_s,
         ambient_c=ambient_c,
         topology=topology,
+        install=install,
         source=p.source,
     )
 
@@ -713,6 +717,20 @@ def _ambient(p: _Problems, data: dict) -> float:
     value = _quantity(p, data["ambient"], ("ambient",), "degC")
     value = _in_range(p, value, ("ambient",), "degC", -40.0, 85.0, " (the range the part ratings are taken over)")
     return 25.0 if value is None else value
+
+
+def _install(p: _Problems, data: dict) -> str:
+    if "install" not in data:
+        return "vehicle"
+    value = _text(p, data, ("install",))
+    if value is None:
+        return "vehicle"
+    if value.lower() not in INSTALLS:
+        close = difflib.get_close_matches(value.lower(), INSTALLS, n=1)
+        hint = f"; did you mean `{close[0]}`?" if close else ""
+        p.add(("install",), f'"{value}" is not a place; use one of {", ".join(INSTALLS)}{hint}')
+        return "vehicle"
+    return value.lower()
 
 
 def _topology(p: _Problems, data: dict) -> str:

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from .analyse import Report
+from .report import Report
 from .measure import DEFINITIONS
 from .units import format_quantity
 

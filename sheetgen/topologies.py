@@ -154,8 +154,8 @@ NPN = Topology(
     build=_build_npn,
     probes=(("TP1 feed", "feed"), ("TP2 timing capacitor", "timer"), ("TP3 base", "base"),
             ("TP4 collector", "collector"), ("TP5 supply", "supply")),
-    wiring=(("supply", "always-on positive feed, through the fuse"),
-            ("feed", "switched feed: positive when the light should be on"),
+    wiring=(("supply", "always-on positive feed"),
+            ("feed", "switched feed (the wire that goes positive when the light should be on)"),
             (GROUND, "ground (chassis or battery negative)")),
 )
 

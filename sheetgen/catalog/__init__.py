@@ -109,6 +109,7 @@ class Transistor:
     model: Model                             # typical part, SPICE subset parameters
     sources: tuple[str, ...]
     rds_on_vgs_v: float | None = None        # gate drive at which rds_on_ohm holds
+    pinout: str = ""                         # leads left to right, printed face towards you, leads down: "CBE"
 
     @property
     def is_bipolar(self) -> bool:
@@ -500,7 +501,7 @@ _TRANSISTOR_KEYS = (
     "part_number", "polarity", "darlington", "package", "vmax_v", "imax_a",
     "pd_free_air_w", "tj_max_c", "rth_ja_c_per_w", "rth_jc_c_per_w", "rth_cs_c_per_w",
     "hfe", "vce_sat", "vgs_th_v", "rds_on_ohm", "rds_on_vgs_v", "vgs_max_v", "model",
-    "sources",
+    "sources", "pinout",
 )
 _POLARITY_MODEL = {"npn": "NPN", "pnp": "PNP", "nmos": "NMOS"}
 
@@ -558,7 +559,10 @@ def _transistor(data: Any, where: str) -> Transistor:
         model=model,
         sources=e.sources(),
         rds_on_vgs_v=e.num("rds_on_vgs_v", optional=True),
+        pinout=e.text("pinout"),
     )
+    if sorted(t.pinout) != sorted("DGS" if polarity == "nmos" else "BCE"):
+        raise CatalogDataError(f"{where}.pinout: {t.pinout!r} must name each lead once")
     for p in t.hfe:
         if p.ic_a <= 0 or p.min <= 0:
             raise CatalogDataError(f"{where}: hFE points need positive current and minimum")

@@ -1,0 +1,1 @@
+"""Renderers: they read a Report and draw it; they never compute physics."""

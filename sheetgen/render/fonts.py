@@ -1,0 +1,45 @@
+"""The sheet's typeface: DejaVu Sans, bundled and embedded.
+
+The base-14 PDF fonts lack µ, Ω, ≤ and friends in their standard encoding and
+are never embedded, so a sheet would depend on the reader's fonts.  DejaVu
+Sans (Bitstream Vera licence, ``sheetgen/fonts/LICENSE``) ships inside the
+package and reportlab embeds the subset each sheet uses.
+"""
+
+from __future__ import annotations
+
+from importlib import resources
+
+REGULAR = "SheetSans"
+BOLD = "SheetSans-Bold"
+
+#: Font name -> file inside ``sheetgen/fonts``.
+_FILES = {REGULAR: "DejaVuSans.ttf", BOLD: "DejaVuSans-Bold.ttf"}
+
+#: Every non-ASCII character the sheet prints; ``missing_glyphs`` checks them.
+SHEET_GLYPHS = "µΩ°±–×≤≥→·²"
+
+
+def register() -> None:
+    """Register both faces and their family with reportlab; safe to call again."""
+    from reportlab.lib.fonts import addMapping
+    from reportlab.pdfbase import pdfmetrics
+    from reportlab.pdfbase.ttfonts import TTFont
+
+    if REGULAR in pdfmetrics.getRegisteredFontNames():
+        return
+    folder = resources.files("sheetgen") / "fonts"
+    for name, filename in _FILES.items():
+        with resources.as_file(folder / filename) as path:
+            pdfmetrics.registerFont(TTFont(name, str(path)))
+    for bold, italic, face in ((0, 0, REGULAR), (1, 0, BOLD), (0, 1, REGULAR), (1, 1, BOLD)):
+        addMapping(REGULAR, bold, italic, face)
+
+
+def missing_glyphs(text: str, *, font: str = REGULAR) -> str:
+    """The characters of ``text`` the font cannot draw (reportlab would print a box)."""
+    from reportlab.pdfbase import pdfmetrics
+
+    register()
+    face = pdfmetrics.getFont(font).face
+    return "".join(sorted({ch for ch in text if ord(ch) not in face.charToGlyph}))
