@@ -347,6 +347,8 @@ def _stamp_nonlinear(c: Compiled, x: np.ndarray, lim: _Limits, G: np.ndarray, rh
 
 def _solve(A: np.ndarray, b: np.ndarray) -> np.ndarray:
     """Batched dense solve; small systems, so numpy's LAPACK loop is fine."""
+    if A.shape[1] == 0:
+        return b.copy()
     try:
         return np.linalg.solve(A, b[..., None])[..., 0]
     except np.linalg.LinAlgError as exc:  # singular: a floating node
@@ -376,7 +378,7 @@ def _newton(c: Compiled, x0: np.ndarray, xf: np.ndarray, G0: np.ndarray, rhs0: n
         # Damped Newton: no node moves more than MAX_DV (a lamp's thermal node
         # more than MAX_DT) in one iteration, so a poor linearisation cannot fling
         # the iterate far from the physical region.
-        ratio = np.max(np.abs(step) / step_limit, axis=1)
+        ratio = np.max(np.abs(step) / step_limit, axis=1, initial=0.0)
         damped = ratio > 1.0
         step = step / np.maximum(ratio, 1.0)[:, None]
         xu = x[:, :nu] + step

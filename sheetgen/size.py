@@ -37,7 +37,7 @@ OVERDRIVE_MIN = 1.5  # Ib ≥ 1.5 · Ic / hFE_min at minimum supply (the issue's
 OVERDRIVE_MAX = 2.0
 C_MIN_F, C_MAX_F = 1e-6, 10_000e-6
 R_CHARGE_RANGE = (22.0, 470e3)
-R_BLEED_RANGE = (100.0, 1e6)
+R_BLEED_RANGE = (100.0, 470e3)  # above this, electrolytic leakage (µA) rivals the bleed current
 TJ_LIMIT_C = 125.0  # keep the junction under 125 °C at worst case (common practice, no source)
 IC_DERATE = 0.6  # run a transistor at no more than 60 % of its rated collector current (common practice, no source)
 VCE_SAT_ESTIMATE_V = 0.2  # Vce(sat) 0.1-0.3 V for small-signal parts (check-values §8, a*)
@@ -45,6 +45,7 @@ VBE_ON_V = 0.75  # rough Vbe while driven hard; only for the first guess, the si
 DIODE = "1N4007"
 DIODE_DROP_V = 0.75  # rough forward drop of the blocking diode at a few mA; first guess only
 CANDIDATES_PER_ROUND = 48
+C_PENALTY = 0.01  # a tenfold larger capacitor must buy 2.3 % of accuracy: cans grow and cost
 ROUNDS = 4
 
 
@@ -236,10 +237,10 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, refusals: list[str
     k_in, k_out = 1.0, 1.0  # simulator / closed-form ratios, learnt each round
     tried: dict[tuple, _Trial] = {}
     best: _Trial | None = None
-    for _ in range(ROUNDS):
+    for round_no in range(ROUNDS):
         e_in = np.log(k_in * p_in / spec.fade_in_s)
         e_out = np.log(k_out * p_out / spec.fade_out_s)
-        score = np.maximum(np.abs(e_in), np.abs(e_out)) + 0.004 * np.log(C / C_MIN_F)
+        score = np.maximum(np.abs(e_in), np.abs(e_out)) + C_PENALTY * np.log(C / C_MIN_F)
         order = np.argsort(score)
         picks = []
         for j in order:
@@ -262,13 +263,20 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, refusals: list[str
             k_in = float(np.exp(np.median([math.log(t.t_in / p_in[i]) for t, i in zip(near, idx)])))
             k_out = float(np.exp(np.median([math.log(t.t_out / p_out[i]) for t, i in zip(near, idx)])))
         for t in good:
-            if best is None or t.error(spec) < best.error(spec):
+            if best is None or _rank(t, spec) < _rank(best, spec):
                 best = t
-        if best is not None and best.error(spec) <= ACCURACY:
+        # Stop when well inside the band, or inside it after one refinement.
+        if best is not None and best.error(spec) <= ACCURACY * (0.5 if round_no == 0 else 1.0):
             break
     if best is None or best.error(spec) > ACCURACY:
         raise _NoFit(_why_not(spec, best, tried.values()))
     return _finish(spec, topology, q, diode, r_led, window, best, hfe_min, refusals)
+
+
+def _rank(t: _Trial, spec: Spec) -> tuple:
+    """Order of preference: inside ±5 %, then inside ±10 %; the smallest capacitor among those."""
+    err = t.error(spec)
+    return (err > ACCURACY, err > ACCURACY / 2, t.c, err)
 
 
 def _load_scale(spec: Spec, supply_v: float) -> float:

@@ -1,15 +1,19 @@
 """Circuit templates the sizer can build.
 
 Each topology is one entry in ``TOPOLOGIES``: how to turn a spec and a set of
-chosen values into a netlist, which nets a builder measures, and how the
-off-board wiring is worded.  Nothing outside this module branches on a
-topology's name.
+chosen values into a netlist, which nets a builder measures, how the
+off-board wiring is worded and how its schematic is laid out.  Nothing outside
+this module branches on a topology's name.
+
+The layout is a recipe written against ``Pen``, a small drawing vocabulary
+defined here, so the engine holds its drawings as plain functions and never
+imports a drawing library; ``sheetgen.render.schematic`` supplies the pen.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable
+from typing import Callable, Literal, Protocol, Sequence
 
 from .catalog import Diode, Transistor
 from .circuit import GROUND, Netlist, Part, Source
@@ -51,13 +55,81 @@ def window_for(fade_in_s: float, fade_out_s: float) -> Window:
     return Window(release_s=release, stop_s=release + max(3.0 * fade_out_s, fade_out_s + 0.5))
 
 
+Direction = Literal["right", "left", "up", "down"]
+
+
+class Pen(Protocol):
+    """What a schematic recipe may ask of a renderer.
+
+    The pen is a cursor that always stands on one net.  Lengths are in part
+    pitches: 1 is the length of one resistor.  Drawing a part from the cursor
+    leaves the cursor at the part's far end, on that pin's net; the pen turns
+    polarised parts to match their pins, so a recipe never says which way a
+    diode points.  The pen labels every part (reference and value) itself, and
+    refuses a step that contradicts the netlist: a part with no pin on the
+    cursor's net, a test point or ground symbol on the wrong net.
+    """
+
+    def start(self, net: str) -> None:
+        """Put the cursor down at the origin, on ``net``."""
+
+    def move(self, toward: Direction, length: float, *, net: str) -> None:
+        """Lift the pen, move without drawing and put it down on ``net``."""
+
+    def wire(self, toward: Direction, length: float = 1.0, *, until: str | None = None) -> None:
+        """Draw a wire; with ``until`` it runs to be level with that mark instead."""
+
+    def mark(self, name: str) -> None:
+        """Remember the cursor (place and net) under ``name``."""
+
+    def go(self, name: str) -> None:
+        """Put the cursor back on a mark."""
+
+    def pin(self, part: Part, pin: str) -> None:
+        """Put the cursor on a pin of a part already drawn."""
+
+    def junction(self) -> None:
+        """A connection dot at the cursor."""
+
+    def resistor(self, part: Part, toward: Direction) -> None:
+        """A resistor from the cursor."""
+
+    def capacitor(self, part: Part, toward: Direction) -> None:
+        """A capacitor from the cursor (the + plate where its + pin is)."""
+
+    def diode(self, part: Part, toward: Direction) -> None:
+        """A diode from the cursor (the bar at its cathode)."""
+
+    def npn(self, part: Part) -> None:
+        """An NPN with its base at the cursor, collector up, emitter down; the cursor stays."""
+
+    def load(self, branches: Sequence[Sequence[Part]], *, top: str) -> None:
+        """Parallel branches hanging from net ``top`` down to the cursor's net.
+
+        Each branch lists its parts in series from ``top`` downwards (a series
+        resistor and LEDs, or one lamp).  They are drawn above the cursor; the
+        cursor ends on the ``top`` rail at its left end.  The pen may draw a
+        long string or many branches compactly but names every part.
+        """
+
+    def ground(self) -> None:
+        """A ground symbol at the cursor, which must be on ground."""
+
+    def terminal(self, text: str, toward: Direction) -> None:
+        """An off-board connection at the cursor, worded by function, its text on the ``toward`` side."""
+
+    def test_point(self, label: str, net: str, toward: Direction) -> None:
+        """A test point on a short stub from the cursor, which must be on ``net``."""
+
+
 @dataclass(frozen=True)
 class Topology:
     """One circuit template.
 
     ``build`` makes the netlist; ``probes`` are the test points a builder
     measures, ``(label, net)``; ``wiring`` words the off-board connections by
-    function as ``(net, what to connect there)``.
+    function as ``(net, what to connect there)``; ``draw`` lays out the
+    schematic of a netlist this topology built, on any ``Pen``.
     """
 
     name: str
@@ -66,6 +138,7 @@ class Topology:
     build: Callable[[Spec, Values, Window], Netlist]
     probes: tuple[tuple[str, str], ...]
     wiring: tuple[tuple[str, str], ...]
+    draw: Callable[[Pen, Netlist], None]
 
 
 def _rating(values: Values, ref: str) -> tuple[float | None, float | None]:
@@ -146,6 +219,87 @@ def _build_npn(spec: Spec, values: Values, window: Window) -> Netlist:
                    stop_s=window.stop_s, probes=NPN.probes)
 
 
+def series_branches(netlist: Netlist, *, top: str, bottom: str) -> tuple[tuple[Part, ...], ...]:
+    """The chains of parts in series from net ``top`` to net ``bottom``, each listed from the top.
+
+    A chain follows nets that join exactly two parts, so it stops at any node
+    where the circuit branches; chains that do not reach ``bottom`` are left out.
+    """
+    def on(net: str) -> list[Part]:
+        return [p for p in netlist.parts if net in p.nets]
+
+    branches = []
+    for first in on(top):
+        chain, net, part = [], top, first
+        while True:
+            chain.append(part)
+            net = next(n for n in part.nets if n != net)
+            if net == bottom:
+                branches.append(tuple(chain))
+                break
+            following = [p for p in on(net) if p is not part]
+            if net in (top, GROUND) or len(following) != 1:
+                break
+            part = following[0]
+    return tuple(branches)
+
+
+def _one(netlist: Netlist, role: str) -> Part:
+    parts = netlist.by_role(role)
+    if len(parts) != 1:
+        raise ValueError(f"expected one part with role {role!r}, found {len(parts)}")
+    return parts[0]
+
+
+def _draw_npn(pen: Pen, netlist: Netlist) -> None:
+    """Signal left to right along one row; the load hangs above Q1 from the supply rail."""
+    supply_v = netlist.source("VSUPPLY").level_v
+    tp = {net: label for label, net in netlist.probes}
+    d1, r1, c1 = _one(netlist, "blocking"), _one(netlist, "charge"), _one(netlist, "timing")
+    r2, r3, q1 = _one(netlist, "bleed"), _one(netlist, "base"), _one(netlist, "switch")
+
+    pen.start("feed")
+    pen.terminal("switched feed", "left")
+    pen.mark("inputs")
+    pen.wire("right", 0.5)
+    pen.test_point(tp["feed"], "feed", "up")
+    pen.wire("right", 0.25)
+    pen.diode(d1, "right")
+    pen.resistor(r1, "right")
+    pen.junction()
+    pen.test_point(tp["timer"], "timer", "up")
+    pen.mark("timer")
+    pen.capacitor(c1, "down")
+    pen.ground()
+    pen.go("timer")
+    pen.wire("right", 1.0)
+    pen.junction()
+    pen.mark("bleed")
+    pen.resistor(r2, "down")
+    pen.ground()
+    pen.go("bleed")
+    pen.resistor(r3, "right")
+    pen.wire("right", 0.25)
+    pen.test_point(tp["base"], "base", "down")
+    pen.wire("right", 0.25)
+    pen.npn(q1)
+    pen.pin(q1, "E")
+    pen.ground()
+    pen.pin(q1, "C")
+    pen.wire("up", 0.5)
+    pen.test_point(tp["collector"], "collector", "right")
+    pen.wire("up", 0.5)
+    pen.load(series_branches(netlist, top="supply", bottom="collector"), top="supply")
+    pen.test_point(tp["supply"], "supply", "up")
+    pen.wire("left", until="inputs")
+    pen.terminal(f"+{supply_v:g} V always-on\n(via fuse)", "left")
+    pen.go("inputs")
+    pen.move("down", 1.5, net=GROUND)
+    pen.terminal("ground", "left")
+    pen.wire("right", 0.5)
+    pen.ground()
+
+
 NPN = Topology(
     name="npn",
     title="Single NPN, low side",
@@ -157,6 +311,7 @@ NPN = Topology(
     wiring=(("supply", "always-on positive feed"),
             ("feed", "switched feed (the wire that goes positive when the light should be on)"),
             (GROUND, "ground (chassis or battery negative)")),
+    draw=_draw_npn,
 )
 
 TOPOLOGIES: dict[str, Topology] = {t.name: t for t in (NPN,)}

@@ -1,0 +1,329 @@
+"""Page layouts as data: which blocks, in what order, in which column, on what paper.
+
+A layout file is YAML whose syntax is explained at the top of each shipped
+file (``layouts/a4-sheet.yaml``).  It is read here into frozen dataclasses and
+checked completely before any page is built, so a typo in a layout stops the
+build with the file, line and key named instead of a half-drawn sheet.
+
+The shipped layouts live in the repository's top-level ``layouts/`` folder,
+the one source; ``sheetgen/layouts`` is a symbolic link to it, so the package
+reads the same files through ``importlib.resources`` and wheels carry them.
+"""
+
+from __future__ import annotations
+
+import difflib
+import os
+import re
+from dataclasses import dataclass
+from importlib import resources
+
+import yaml
+from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
+
+from sheetgen.errors import SpecError
+
+__all__ = [
+    "BLOCK_NAMES",
+    "PAGE_SIZES_PT",
+    "DEFAULT_LAYOUT",
+    "Column",
+    "BlockPlacement",
+    "Layout",
+    "shipped_layouts",
+    "load_layout",
+    "parse_layout",
+]
+
+#: Every block a layout may place; the renderer has one flowable for each.
+BLOCK_NAMES = ("summary", "schematic", "parts", "timing", "heat", "bench", "wiring", "cautions")
+
+#: Blocks every sheet must carry, whatever the layout says.
+REQUIRED_BLOCKS = ("cautions",)
+
+#: Paper sizes (width, height) in points, portrait.
+PAGE_SIZES_PT = {"A4": (595.2756, 841.8898), "letter": (612.0, 792.0)}
+
+FULL = "full"
+DEFAULT_LAYOUT = "a4-sheet"
+MARGIN_RANGE_MM = (5.0, 40.0)  # below 5 mm most printers clip; above 40 mm nothing fits
+GUTTER_RANGE_MM = (0.0, 25.0)
+
+_MM_PER = {"mm": 1.0, "cm": 10.0, "in": 25.4, "pt": 25.4 / 72.0}
+_LENGTH_RE = re.compile(r"^\s*(?P<num>\d+(?:\.\d*)?|\.\d+)\s*(?P<unit>mm|cm|in|pt)\s*$")
+_TOP_KEYS = ("name", "page", "margins", "columns", "gutter", "blocks")
+_SIDES = ("top", "right", "bottom", "left")
+_BLOCK_KEYS = ("block", "column", "new_page")
+
+
+@dataclass(frozen=True)
+class Column:
+    """A named column of a side-by-side row."""
+
+    name: str
+    share: float  # relative width: {left: 2, right: 1} gives left two thirds
+
+
+@dataclass(frozen=True)
+class BlockPlacement:
+    """One block, where it goes and whether it starts a fresh page."""
+
+    name: str  # one of BLOCK_NAMES
+    column: str  # "full" or one of the layout's column names
+    new_page: bool = False
+
+
+@dataclass(frozen=True)
+class Layout:
+    """A checked layout; ``source`` is the file it came from, for messages."""
+
+    name: str
+    source: str
+    page_size: str  # "A4" or "letter"
+    margins_mm: tuple[float, float, float, float]  # top, right, bottom, left
+    columns: tuple[Column, ...]
+    gutter_mm: float
+    blocks: tuple[BlockPlacement, ...]
+
+    @property
+    def page_size_pt(self) -> tuple[float, float]:
+        return PAGE_SIZES_PT[self.page_size]
+
+    def column_widths_pt(self, frame_width_pt: float) -> dict[str, float]:
+        """Width of each named column inside a frame of ``frame_width_pt``."""
+        gutter = self.gutter_mm * 72.0 / 25.4
+        usable = frame_width_pt - gutter * (len(self.columns) - 1)
+        total = sum(c.share for c in self.columns)
+        return {c.name: usable * c.share / total for c in self.columns}
+
+
+def shipped_layouts() -> tuple[str, ...]:
+    """Names ``--layout NAME`` accepts."""
+    folder = resources.files("sheetgen") / "layouts"
+    return tuple(sorted(p.name[:-5] for p in folder.iterdir() if p.name.endswith(".yaml")))
+
+
+def load_layout(name_or_path: str | os.PathLike[str] | None = None) -> Layout:
+    """A shipped layout by name, or a layout file by path (anything with a slash or a .yaml/.yml ending)."""
+    choice = os.fspath(name_or_path) if name_or_path is not None else DEFAULT_LAYOUT
+    looks_like_path = os.sep in choice or "/" in choice or choice.endswith((".yaml", ".yml"))
+    if not looks_like_path:
+        known = shipped_layouts()
+        if choice not in known:
+            hint = [k for k in known if k.startswith(choice.lower())] or difflib.get_close_matches(choice, known, n=1)
+            maybe = f" (did you mean {hint[0]}?)" if hint else ""
+            raise SpecError(f"--layout: no shipped layout is named '{choice}'{maybe}; shipped: "
+                            f"{', '.join(known)}; or give the path of a layout file")
+        entry = resources.files("sheetgen") / "layouts" / f"{choice}.yaml"
+        return parse_layout(entry.read_text(encoding="utf-8"), source=f"layouts/{choice}.yaml")
+    try:
+        with open(choice, encoding="utf-8-sig") as handle:
+            text = handle.read()
+    except FileNotFoundError:
+        raise SpecError(f"--layout: {choice}: no such layout file") from None
+    except IsADirectoryError:
+        raise SpecError(f"--layout: {choice}: is a directory, not a layout file") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise SpecError(f"--layout: {choice}: cannot be read ({exc})") from None
+    return parse_layout(text, source=choice)
+
+
+# ----------------------------------------------------------------- checking
+class _Problems:
+    """Collects ``file:line: key: problem`` lines so all of them are reported at once."""
+
+    def __init__(self, source: str) -> None:
+        self.source = source
+        self._found: list[tuple[int, str]] = []
+
+    def add(self, node: Node | None, key: str, message: str) -> None:
+        line = node.start_mark.line + 1 if node is not None else 0
+        where = f"{self.source}:{line}" if line else self.source
+        self._found.append((line, f"{where}: {key}: {message}" if key else f"{where}: {message}"))
+
+    @property
+    def lines(self) -> list[str]:
+        """The problems in file order."""
+        return [text for _, text in sorted(self._found, key=lambda f: f[0])]
+
+
+def _suggest(word: str, choices) -> str:
+    hint = difflib.get_close_matches(word, list(choices), n=1)
+    return f" (did you mean {hint[0]}?)" if hint else ""
+
+
+def _mapping(node: Node, key: str, allowed: tuple[str, ...], problems: _Problems) -> dict[str, tuple[Node, Node]]:
+    """Keys of a mapping node with their key and value nodes; unknown or repeated keys are problems."""
+    out: dict[str, tuple[Node, Node]] = {}
+    if not isinstance(node, MappingNode):
+        problems.add(node, key, "should be a mapping of keys to values")
+        return out
+    for k_node, v_node in node.value:
+        name = k_node.value if isinstance(k_node, ScalarNode) else None
+        path = f"{key}.{name}" if key else str(name)
+        if name not in allowed:
+            problems.add(k_node, path, f"unknown key{_suggest(str(name), allowed)}; "
+                                       f"known here: {', '.join(allowed)}")
+        elif name in out:
+            problems.add(k_node, path, "is given twice; keep one")
+        else:
+            out[name] = (k_node, v_node)
+    return out
+
+
+def _scalar(node: Node, key: str, problems: _Problems) -> str | None:
+    if not isinstance(node, ScalarNode) or node.value == "":
+        problems.add(node, key, "should be a single value")
+        return None
+    return node.value
+
+
+def _length_mm(node: Node, key: str, lo: float, hi: float, problems: _Problems) -> float | None:
+    text = _scalar(node, key, problems)
+    if text is None:
+        return None
+    match = _LENGTH_RE.match(text)
+    if match is None:
+        problems.add(node, key, f"'{text}' is not a length; write it with its unit, e.g. 12 mm")
+        return None
+    mm = float(match["num"]) * _MM_PER[match["unit"]]
+    if not lo <= mm <= hi:
+        problems.add(node, key, f"{text} is outside {lo:g}-{hi:g} mm")
+        return None
+    return mm
+
+
+def _flag(node: Node, key: str, problems: _Problems) -> bool:
+    text = _scalar(node, key, problems)
+    if text in ("true", "false"):
+        return text == "true"
+    if text is not None:
+        problems.add(node, key, f"'{text}' should be true or false")
+    return False
+
+
+def parse_layout(text: str, *, source: str) -> Layout:
+    """Check a layout given as YAML text; raise one SpecError listing every problem."""
+    problems = _Problems(source)
+    try:
+        root = yaml.compose(text, Loader=yaml.SafeLoader)
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark or exc.context_mark
+        where = f"{source}:{mark.line + 1}" if mark is not None else source
+        raise SpecError(f"{where}: not valid YAML: {exc.problem or exc.context}") from None
+    except yaml.YAMLError as exc:
+        raise SpecError(f"{source}: not valid YAML: {exc}") from None
+    if root is None:
+        raise SpecError(f"{source}: is empty; a layout needs at least page and blocks")
+    top = _mapping(root, "", _TOP_KEYS, problems)
+    for needed in ("name", "page", "blocks"):
+        if needed not in top and isinstance(root, MappingNode):
+            problems.add(root, needed, "is missing")
+
+    name = _scalar(top["name"][1], "name", problems) if "name" in top else None
+    page = None
+    if "page" in top:
+        node = top["page"][1]
+        page = _scalar(node, "page", problems)
+        if page is not None and page not in PAGE_SIZES_PT:
+            problems.add(node, "page", f"'{page}' is not a paper size{_suggest(page, PAGE_SIZES_PT)}; "
+                                       f"known: {', '.join(PAGE_SIZES_PT)}")
+            page = None
+
+    margins: tuple[float, ...] = (12.0, 12.0, 12.0, 12.0)
+    if "margins" in top:
+        node = top["margins"][1]
+        if isinstance(node, MappingNode):
+            sides = _mapping(node, "margins", _SIDES, problems)
+            for side in _SIDES:
+                if side not in sides:
+                    problems.add(node, f"margins.{side}", "is missing (give all four sides, or one length)")
+            got = [_length_mm(sides[s][1], f"margins.{s}", *MARGIN_RANGE_MM, problems) if s in sides else None
+                   for s in _SIDES]
+            if all(g is not None for g in got):
+                margins = tuple(got)
+        else:
+            one = _length_mm(node, "margins", *MARGIN_RANGE_MM, problems)
+            if one is not None:
+                margins = (one,) * 4
+
+    columns: list[Column] = []
+    if "columns" in top:
+        node = top["columns"][1]
+        if not isinstance(node, MappingNode) or not node.value:
+            problems.add(node, "columns", "should map column names to relative widths, e.g. {left: 1, right: 1}")
+        else:
+            seen: set[str] = set()
+            for k_node, v_node in node.value:
+                col = k_node.value if isinstance(k_node, ScalarNode) else ""
+                key = f"columns.{col}"
+                if not re.fullmatch(r"[a-z][a-z0-9_-]*", col) or col == FULL:
+                    problems.add(k_node, key, "a column name is a lower-case word other than 'full'")
+                    continue
+                if col in seen:
+                    problems.add(k_node, key, "is given twice; keep one")
+                    continue
+                seen.add(col)
+                share_text = _scalar(v_node, key, problems)
+                try:
+                    share = float(share_text) if share_text is not None else None
+                except ValueError:
+                    share = None
+                if share_text is not None and (share is None or not 0.2 <= share <= 5.0):
+                    problems.add(v_node, key, f"'{share_text}' should be a relative width from 0.2 to 5")
+                    continue
+                if share is not None:
+                    columns.append(Column(name=col, share=share))
+    gutter = 6.0
+    if "gutter" in top:
+        got_gutter = _length_mm(top["gutter"][1], "gutter", *GUTTER_RANGE_MM, problems)
+        gutter = got_gutter if got_gutter is not None else gutter
+
+    blocks = _blocks(top["blocks"][1], {c.name for c in columns}, problems) if "blocks" in top else ()
+    if problems.lines:
+        raise SpecError(problems.lines)
+    return Layout(name=name, source=source, page_size=page, margins_mm=margins, columns=tuple(columns),
+                  gutter_mm=gutter, blocks=blocks)
+
+
+def _blocks(node: Node, column_names: set[str], problems: _Problems) -> tuple[BlockPlacement, ...]:
+    if not isinstance(node, SequenceNode) or not node.value:
+        problems.add(node, "blocks", "should be a list of block names or {block: NAME, column: COLUMN}")
+        return ()
+    placed: list[BlockPlacement] = []
+    where: dict[str, int] = {}
+    for i, item in enumerate(node.value):
+        key = f"blocks[{i + 1}]"
+        column, new_page, name_node = FULL, False, item
+        if isinstance(item, MappingNode):
+            fields = _mapping(item, key, _BLOCK_KEYS, problems)
+            if "block" not in fields:
+                problems.add(item, f"{key}.block", "is missing")
+                continue
+            name_node = fields["block"][1]
+            if "column" in fields:
+                col_node = fields["column"][1]
+                column = _scalar(col_node, f"{key}.column", problems) or FULL
+                if column != FULL and column not in column_names:
+                    declared = sorted(column_names) + [FULL]
+                    problems.add(col_node, f"{key}.column", f"'{column}' is not a declared column"
+                                 f"{_suggest(column, declared)}; use one of: {', '.join(declared)}")
+                    column = FULL
+            if "new_page" in fields:
+                new_page = _flag(fields["new_page"][1], f"{key}.new_page", problems)
+        name = _scalar(name_node, key, problems)
+        if name is None:
+            continue
+        if name not in BLOCK_NAMES:
+            problems.add(name_node, key, f"unknown block '{name}'{_suggest(name, BLOCK_NAMES)}; "
+                                         f"blocks: {', '.join(BLOCK_NAMES)}")
+            continue
+        if name in where:
+            problems.add(name_node, key, f"block '{name}' is placed twice (also blocks[{where[name]}])")
+            continue
+        where[name] = i + 1
+        placed.append(BlockPlacement(name=name, column=column, new_page=new_page))
+    for needed in REQUIRED_BLOCKS:
+        if placed and needed not in where:
+            problems.add(node, "blocks", f"must include '{needed}': every sheet carries the safety cautions")
+    return tuple(placed)
