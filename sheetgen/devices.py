@@ -43,6 +43,8 @@ def pnjlim(v_new, v_old, nvt, vcrit):
     Returns the limited voltage and a mask of entries that were limited.
     """
     big = (v_new > vcrit) & (np.abs(v_new - v_old) > 2.0 * nvt)
+    if not big.any():
+        return v_new, big
     arg = 1.0 + (v_new - v_old) / nvt
     from_above = np.where(arg > 0, v_old + nvt * np.log(np.maximum(arg, 1e-300)), vcrit)
     from_below = nvt * np.log(np.maximum(v_new / nvt, 1e-300))
@@ -76,13 +78,16 @@ def bjt(vbe, vbc, *, is_a, bf, br, nf, nr, vaf, ikf, ise, ne, vt=VT_NOMINAL):
     cbc = is_a * (ebc - 1.0) + GMIN * vbc
     gbc = is_a * ebc / vtr + GMIN
 
-    nevt = np.where(ne > 0, ne, 1.5) * vt
-    eben = _exp(vbe / nevt)
-    cben = ise * (eben - 1.0)
-    gben = ise * eben / nevt
+    if np.any(ise):
+        nevt = np.where(ne > 0, ne, 1.5) * vt
+        eben = _exp(vbe / nevt)
+        cben = ise * (eben - 1.0)
+        gben = ise * eben / nevt
+    else:
+        cben = gben = 0.0
 
-    inv_vaf = np.where(vaf > 0, 1.0 / np.where(vaf > 0, vaf, 1.0), 0.0)
-    inv_ikf = np.where(ikf > 0, 1.0 / np.where(ikf > 0, ikf, 1.0), 0.0)
+    inv_vaf = np.divide(1.0, vaf, out=np.zeros(np.shape(vaf)), where=vaf > 0)
+    inv_ikf = np.divide(1.0, ikf, out=np.zeros(np.shape(ikf)), where=ikf > 0)
     q1 = 1.0 / (1.0 - inv_vaf * vbc)
     dq1_dvbc = q1 * q1 * inv_vaf
     q2 = inv_ikf * cbe

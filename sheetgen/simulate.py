@@ -26,7 +26,9 @@ RELTOL = 1e-3
 VNTOL = 1e-6  # V, Newton's absolute voltage tolerance (SPICE default)
 LTE_RELTOL = 1e-3
 LTE_ABSTOL = 1e-4  # V (or K on a lamp's thermal node)
-TRTOL = 7.0  # SPICE's allowance for its pessimistic LTE estimate
+TRTOL = 7.0
+DI_REL = 0.1  # largest change of a source current in one step, relative to its peak so far
+DI_FLOOR_A = 1e-6  # SPICE's allowance for its pessimistic LTE estimate
 MAX_NEWTON = 60
 MAX_DV = 5.0  # V, largest node-voltage change in one Newton iteration
 MAX_DT = 400.0  # K, largest filament-temperature change in one Newton iteration
@@ -474,7 +476,7 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
         n = max((np.size(a) for a in (overrides or {}).values()), default=1)
     c = Compiled(netlist, overrides, n)
     stop = netlist.stop_s
-    hmax = max_step_s or stop / 400.0
+    hmax = max_step_s or stop / 50.0
     bps = sorted({t for s in netlist.sources for t in s.breakpoints if 0 < t < stop} | {stop})
     h_start = min(stop * 1e-6, hmax)
 
@@ -496,6 +498,7 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
     np.add.at(rhs_op.T, cap_b, (-1e9 * cap_c * vc).T)
     x, ok, G, rhs = _newton(c, x, c.fixed_values(0.0), G_op, rhs_op, lim)
     times, volts, currents = [0.0], [x.copy()], [_source_currents(c, G, rhs, x)]
+    i_peak = np.abs(currents[0])
     hist_t, hist_v = [0.0], [vc.copy()]
 
     t, h, bp_i, first = 0.0, h_start, 0, True
@@ -533,13 +536,24 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
             grow = 2.0 if ratio == 0 else min(2.0, 0.9 * ratio ** (-1.0 / 3.0))
         else:
             grow = 2.0
+        # Resolve the curve a builder looks at: no source current may move by more
+        # than DI_REL of its largest value so far in one step, so fade crossings
+        # interpolate accurately even where the load current is steep in Vc.
+        i_new = _source_currents(c, G, rhs, xn)
+        i_scale = np.maximum(i_peak, np.abs(i_new)) + DI_FLOOR_A
+        di = np.max(np.abs(i_new - currents[-1]) / i_scale)
+        if di > DI_REL and h > h_start:
+            h *= max(0.2, 0.8 * DI_REL / di)
+            continue
+        grow = min(grow, max(1.0, 0.9 * DI_REL / max(di, 1e-12)))
+        i_peak = np.maximum(i_peak, np.abs(i_new))
         icn = geq * (vcn - vc) - (ic if trap else 0.0)
         x, vc, ic, lim = xn, vcn, icn, trial_lim
         t += h
         n_steps += 1
         times.append(t)
         volts.append(x.copy())
-        currents.append(_source_currents(c, G, rhs, x))
+        currents.append(i_new)
         hist_t.append(t)
         hist_v.append(vc.copy())
         first = False
