@@ -11,6 +11,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .size import Design
+from .tolerance import Spread
 
 
 @dataclass(frozen=True)
@@ -59,6 +60,8 @@ class Heat:
     heatsink_c_per_w: float | None
     power_t_s: np.ndarray  # Q1 dissipation over the fades at maximum supply
     power_w: np.ndarray
+    junction_c: np.ndarray  # junction temperature through those fades, from a cold start
+    fade_peak_junction_c: float  # the highest point of junction_c
     resistors: tuple[ResistorHeat, ...]
 
 
@@ -84,6 +87,17 @@ class BenchReading:
 
 
 @dataclass(frozen=True)
+class TuningRow:
+    """Fade times if one part is swapped for its neighbouring standard value."""
+
+    ref: str
+    value: float  # the neighbouring value, SI units
+    direction: str  # "lower" | "higher"
+    fade_in_s: float
+    fade_out_s: float
+
+
+@dataclass(frozen=True)
 class Report:
     design: Design
     curves: Curves
@@ -91,5 +105,8 @@ class Report:
     heat: Heat
     harness: Harness
     bench: tuple[BenchReading, ...]
+    spread: Spread
+    tuning: tuple[TuningRow, ...]
+    standby_a: float  # drawn from the always-on supply with the feed off
     wiring: tuple[str, ...]  # numbered steps, in order, without their numbers
     cautions: tuple[str, ...]
