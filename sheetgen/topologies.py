@@ -262,7 +262,7 @@ def _draw_npn(pen: Pen, netlist: Netlist) -> None:
     pen.terminal("switched feed", "left")
     pen.mark("inputs")
     pen.wire("right", 0.5)
-    pen.test_point(tp["feed"], "feed", "up")
+    pen.test_point(tp["feed"], "feed", "down")
     pen.wire("right", 0.25)
     pen.diode(d1, "right")
     pen.resistor(r1, "right")

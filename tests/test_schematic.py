@@ -1,0 +1,153 @@
+"""The schematic names every part, marks every test point, keeps text as text and fits its box.
+
+The netlists are built straight from the topology with fixed values (no sizing
+run), so these tests stay fast.  Text is read back out of a one-page PDF with
+pypdf, the way a reader's search or copy would see it.
+"""
+
+from __future__ import annotations
+
+import io
+import re
+import sys
+
+import pytest
+
+from sheetgen import catalog
+from sheetgen.render.schematic import FONT_PT, _layout, part_label, schematic_drawing, schematic_svg
+from sheetgen.spec import spec_from_mapping
+from sheetgen.topologies import NPN, TOPOLOGIES, Values, series_branches, window_for
+
+pypdf = pytest.importorskip("pypdf")
+
+LOADS = {
+    "2x3 LEDs": {"kind": "led", "current": "20 mA", "vf": "3.1 V", "per_string": 3, "strings": 2},
+    "1 LED": {"kind": "led", "current": "10 mA", "vf": "2.9 V"},
+    "4x5 LEDs": {"kind": "led", "current": "15 mA", "vf": "3.0 V", "per_string": 5, "strings": 4},
+    "lamp": {"kind": "lamp", "power": "3 W"},
+    "2 lamps": {"kind": "lamp", "power": "5 W", "count": 2},
+}
+
+
+def _netlist(load: dict, supply: str = "24 V"):
+    spec = spec_from_mapping({"title": "test", "supply": supply, "load": load,
+                              "fade": {"in": "1 s", "out": "3 s"}}, source="<test>")
+    values = Values(transistor=catalog.transistor("BD139"), diode=catalog.diode("1N4007"),
+                    r_charge_ohm=4700.0, r_bleed_ohm=10_000.0, r_base_ohm=1200.0, c_timing_f=1000e-6,
+                    r_led_ohm=560.0, ratings=(("C1", 35.0, None), ("R4", None, 0.5)))
+    return NPN.build(spec, values, window_for(1.0, 3.0))
+
+
+def _pdf_text(drawing) -> str:
+    """Put the drawing alone on a page and read its text back."""
+    from reportlab.graphics import renderPDF
+    from reportlab.pdfgen import canvas
+
+    out = io.BytesIO()
+    page = canvas.Canvas(out, pagesize=(drawing.width + 20, drawing.height + 20))
+    renderPDF.draw(drawing, page, 10, 10)
+    page.showPage()
+    page.save()
+    return pypdf.PdfReader(io.BytesIO(out.getvalue())).pages[0].extract_text()
+
+
+def _expand(text: str) -> set[str]:
+    """Every designator the text names, a range such as LED1–LED5 counting for all five."""
+    refs = set(re.findall(r"\b(?:LED|LP|TP|R|C|D|Q)\d+\b", text))
+    for prefix, a, b in re.findall(r"\b([A-Z]+)(\d+)\u2013\1(\d+)\b", text):
+        refs.update(f"{prefix}{n}" for n in range(int(a), int(b) + 1))
+    return refs
+
+
+@pytest.fixture(scope="module", params=sorted(LOADS))
+def case(request):
+    netlist = _netlist(LOADS[request.param])
+    drawing = schematic_drawing(netlist, NPN, max_width_pt=300.0, max_height_pt=260.0)
+    return netlist, drawing, _pdf_text(drawing)
+
+
+def test_every_part_is_named_with_its_value(case):
+    netlist, _, text = case
+    assert {p.ref for p in netlist.parts} <= _expand(text)
+    lines = {line.strip() for line in text.splitlines()}
+    for part in netlist.parts:
+        for value in part_label(part)[1:]:
+            assert value in lines, f"{part.ref}: {value!r} missing"
+
+
+def test_values_are_written_with_units():
+    text = _pdf_text(schematic_drawing(_netlist(LOADS["2x3 LEDs"]), NPN, max_width_pt=500, max_height_pt=500))
+    for written in ("4.7 k\u03a9", "10 k\u03a9", "1.2 k\u03a9", "560 \u03a9", "1000 \u00b5F", "35 V", "1N4007", "BD139"):
+        assert written in text
+
+
+def test_test_points_and_terminals_are_marked(case):
+    netlist, _, text = case
+    assert {label.split()[0] for label, _ in netlist.probes} == {f"TP{k}" for k in range(1, 6)}
+    assert {f"TP{k}" for k in range(1, 6)} <= _expand(text)
+    for words in ("+24 V always-on", "(via fuse)", "switched feed", "ground"):
+        assert words in text
+
+
+def test_it_fits_the_box(case):
+    _, drawing, _ = case
+    assert 0 < drawing.width <= 300.0 and 0 < drawing.height <= 260.0
+    x0, y0, x1, y1 = drawing.getBounds()
+    assert x0 >= -0.01 and y0 >= -0.01 and x1 <= drawing.width + 0.01 and y1 <= drawing.height + 0.01
+
+
+def test_a_roomy_box_does_not_blow_it_up():
+    small = schematic_drawing(_netlist(LOADS["1 LED"]), NPN, max_width_pt=2000, max_height_pt=2000)
+    bounds = small.getBounds()
+    assert bounds[3] - bounds[1] < 400  # natural size: FONT_PT text, not poster size
+    assert FONT_PT == pytest.approx(9.0)
+
+
+@pytest.mark.parametrize("name", sorted(LOADS))
+def test_labels_find_free_places(name):
+    pen = _layout(_netlist(LOADS[name]), NPN)
+    assert pen.collisions == []
+    for i, a in enumerate(pen.boxes):
+        for b in pen.boxes[i + 1:]:
+            assert not a.overlaps(b), (a.text, b.text)
+
+
+def test_svg_keeps_text_as_text_and_is_repeatable():
+    netlist = _netlist(LOADS["4x5 LEDs"])
+    svg = schematic_svg(netlist, NPN)
+    assert svg == schematic_svg(netlist, NPN)
+    assert b"<text" in svg and b"LED1\xe2\x80\x93LED5" in svg  # en dash, UTF-8
+    assert b"R5, R6" in svg  # the strings not drawn are still named
+
+
+def test_load_branches_follow_the_netlist():
+    netlist = _netlist(LOADS["4x5 LEDs"])
+    branches = series_branches(netlist, top="supply", bottom="collector")
+    assert [[p.ref for p in b] for b in branches][0] == ["R4", "LED1", "LED2", "LED3", "LED4", "LED5"]
+    assert len(branches) == 4
+
+
+def test_every_topology_has_a_recipe_and_the_engine_stays_clear_of_schemdraw():
+    assert all(callable(t.draw) for t in TOPOLOGIES.values())
+    code = "import sys, sheetgen.size, sheetgen.topologies; print('schemdraw' in sys.modules)"
+    import subprocess
+
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "False"
+
+
+def test_the_pen_speaks_the_whole_protocol_and_refuses_a_wrong_net():
+    from sheetgen.render.schematic import SchemdrawPen
+    from sheetgen.topologies import Pen
+
+    wanted = {name for name in vars(Pen) if not name.startswith("_")}
+    assert wanted <= set(dir(SchemdrawPen))
+    netlist = _netlist(LOADS["1 LED"])
+    pen = SchemdrawPen()
+    pen.start("feed")
+    with pytest.raises(ValueError, match="R2 has no pin on net 'feed'"):
+        pen.resistor(netlist.part("R2"), "right")
+    with pytest.raises(ValueError, match="ground symbol"):
+        pen.ground()
+    with pytest.raises(ValueError, match="test point"):
+        pen.test_point("TP2 timing capacitor", "timer", "up")
