@@ -239,7 +239,7 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, refusals: list[str
     C, R1, R2, R3 = C[valid], R1[valid], R2[valid], R3[valid]
     if C.size == 0:
         raise _NoFit(f"the feed cannot supply {format_quantity(od_min * ib_rule, 'A')} of base current "
-                     f"({od_min:.2g} × {format_quantity(i_at_min, 'A')} / hFE_min {hfe_min:g}) through any charge "
+                     f"({od_min:.2g} × {format_quantity(i_at_min, "A")} / hFE_min {hfe_min:.3g}) through any charge "
                      "resistor")
     R3 = _snap_below("E24", R3)
     v_feed = spec.supply.nominal_v - DIODE_DROP_V
@@ -428,7 +428,7 @@ def _finish(spec, topology, q, diode, r_led, window, best: _Trial, hfe_min, refu
     netlist = topology.build(spec, values, window)
     reasons = [f"{q.part_number} chosen: the smallest package that carries "
                f"{format_quantity(best.i_load, 'A')} and is driven to {best.overdrive:.2f}× its minimum-gain base "
-               f"current (hFE_min {hfe_min:g}) at {spec.supply.min_v:g} V"]
+               f"current (hFE_min {hfe_min:.3g}) at {spec.supply.min_v:g} V"]
     reasons += [f"not {r}" for r in refusals]
     return Design(spec=spec, topology=topology, values=values, netlist=netlist, load_current_a=best.i_load,
                   fade_in_s=best.t_in, fade_out_s=best.t_out, overdrive=best.overdrive, reasons=tuple(reasons))
