@@ -239,7 +239,7 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, refusals: list[str
     C, R1, R2, R3 = C[valid], R1[valid], R2[valid], R3[valid]
     if C.size == 0:
         raise _NoFit(f"the feed cannot supply {format_quantity(od_min * ib_rule, 'A')} of base current "
-                     f"({od_min:.2g} × {format_quantity(i_at_min, "A")} / hFE_min {hfe_min:.3g}) through any charge "
+                     f"({od_min:.2g} × {format_quantity(i_at_min, 'A')} / hFE_min {hfe_min:.3g}) through any charge "
                      "resistor")
     R3 = _snap_below("E24", R3)
     v_feed = spec.supply.nominal_v - DIODE_DROP_V
