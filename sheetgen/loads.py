@@ -23,7 +23,10 @@ def led_model(load: LedLoad) -> Model:
     else:
         colour = min(catalog.led_colours(), key=lambda c: abs(c.vf_typ_v - load.vf_v))
     n = colour.model["N"]
-    rs = colour.model.get("RS", 0.0)
+    # A power LED is a bigger die: its series resistance falls as its rated current rises, so the
+    # catalog card's resistance (a 5 mm part at its test current) is scaled by at_a / current
+    # (common practice, no source).
+    rs = colour.model.get("RS", 0.0) * min(1.0, colour.at_a / load.current_a)
     v_junction = load.vf_v - load.current_a * rs
     is_a = load.current_a / math.expm1(v_junction / (n * VT_NOMINAL))
     name = f"LED_{colour.name.upper().replace(' ', '_')}_{load.vf_v * 1000:.0f}MV"

@@ -4,8 +4,9 @@ Every draw is a full parameter set for the same netlist, passed to the
 simulator as overrides, so N draws cost one batched run:
 
 * resistors uniform within their tolerance, the timing capacitor within its own;
-* the transistor's gain log-uniform between the catalog's minimum and maximum at
-  the operating current (BF of the typical card scaled by the drawn ratio);
+* each bipolar transistor's gain log-uniform between the catalog's minimum and
+  maximum at the operating current (BF of the typical card scaled by the drawn
+  ratio); a MOSFET's threshold uniform over the catalog's range;
 * each LED's forward voltage uniform from half its colour's upward spread below
   the stated value to the full spread above it (vf_max − vf_typ of the catalog);
 * the supply uniform between the spec's minimum and maximum (feed and always-on
@@ -42,6 +43,7 @@ VBE_TC_V_PER_C = -2e-3
 HFE_TC_PER_C = 0.005
 AMBIENT_SPAN_C = 25.0
 T_MODEL_C = 27.0
+INPUT_STAGE_CURRENT_A = 0.01  # an input stage carries only the charge current, milliamps
 
 
 @dataclass(frozen=True)
@@ -69,14 +71,13 @@ def draw(design: "Design", *, n: int = DEFAULT_DRAWS, seed: int = SEED) -> Draws
     ambient = rng.uniform(spec.ambient_c - AMBIENT_SPAN_C, spec.ambient_c, n)
     dt = ambient - T_MODEL_C
 
-    q = design.values.transistor
-    switch = nl.by_role("switch")[0]
-    i_op = design.load_current_a
-    lo, hi = q.hfe_min_at(i_op), q.hfe_max_at(i_op)
-    gain = np.exp(rng.uniform(np.log(lo), np.log(hi), n)) / q.hfe_typ_at(i_op)
-    ov[(switch.ref, "BF")] = switch.model["BF"] * gain * (1 + HFE_TC_PER_C * dt)
-    nf = switch.model.get("NF", 1.0)
-    ov[(switch.ref, "IS")] = switch.model["IS"] * np.exp(-VBE_TC_V_PER_C * dt / (nf * VT_NOMINAL))
+    for part in nl.parts:
+        if part.kind in ("npn", "pnp"):
+            i_op = design.load_current_a if part.role == "switch" else INPUT_STAGE_CURRENT_A
+            _draw_bipolar(rng, ov, part, catalog.transistor(part.part_number), i_op, dt)
+        elif part.kind == "nmos":
+            lo, hi = catalog.transistor(part.part_number).vgs_th_v
+            ov[(part.ref, "VTO")] = rng.uniform(lo, hi, n)
 
     if isinstance(spec.load, LedLoad):
         colour = (catalog.led_colour(spec.load.colour) if spec.load.colour else
@@ -88,14 +89,27 @@ def draw(design: "Design", *, n: int = DEFAULT_DRAWS, seed: int = SEED) -> Draws
     return Draws(n=n, overrides=ov, supply_v=supply, ambient_c=ambient)
 
 
+def _draw_bipolar(rng, ov: dict, part, q, i_op: float, dt: np.ndarray) -> None:
+    """Gain log-uniform between the catalog's minimum and maximum, plus its temperature drift."""
+    n = dt.size
+    lo, hi = q.hfe_min_at(i_op), q.hfe_max_at(i_op)
+    gain = np.exp(rng.uniform(np.log(lo), np.log(hi), n)) / q.hfe_typ_at(i_op)
+    ov[(part.ref, "BF")] = part.model["BF"] * gain * (1 + HFE_TC_PER_C * dt)
+    nf = part.model.get("NF", 1.0)
+    ov[(part.ref, "IS")] = part.model["IS"] * np.exp(-VBE_TC_V_PER_C * dt / (nf * VT_NOMINAL))
+
+
 def full_brightness_yield(design: "Design", draws: Draws) -> float:
     """Fraction of draws whose steady current reaches 90 % of what a hard switch would give."""
     nl = design.netlist
     at = nl.release_s * 0.999
     real = simulate.operating_point(nl, at_s=at, overrides=draws.overrides, n=draws.n).i_source("VSUPPLY")
     hard = dict(draws.overrides)
-    switch = nl.by_role("switch")[0].ref
-    hard[(switch, "BF")] = draws.overrides[(switch, "BF")] * 1000.0
+    switch = nl.by_role("switch")[0]
+    if switch.kind == "nmos":
+        hard[(switch.ref, "KP")] = np.full(draws.n, switch.model["KP"] * 1000.0)
+    else:
+        hard[(switch.ref, "BF")] = draws.overrides[(switch.ref, "BF")] * 1000.0
     ideal = simulate.operating_point(nl, at_s=at, overrides=hard, n=draws.n).i_source("VSUPPLY")
     return float(np.mean(real >= FULL_BRIGHTNESS * ideal))
 

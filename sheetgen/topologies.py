@@ -39,6 +39,8 @@ class Values:
     c_timing_f: float
     r_led_ohm: float | None = None
     ratings: tuple[tuple[str, float | None, float | None], ...] = ()
+    input_transistor: Transistor | None = None  # the PNP of a ground-switched input stage
+    clamp: Diode | None = None  # zener across a MOSFET's gate where the supply exceeds the gate rating
 
 
 @dataclass(frozen=True)
@@ -49,9 +51,14 @@ class Window:
     stop_s: float
 
 
-def window_for(fade_in_s: float, fade_out_s: float) -> Window:
-    """A window long enough to see the fade-in settle and the fade-out finish."""
-    release = max(3.0 * fade_in_s, fade_in_s + 0.5)
+def window_for(fade_in_s: float, fade_out_s: float, *, settle_s: float = 0.0) -> Window:
+    """A window long enough to see the fade-in settle and the fade-out finish.
+
+    ``settle_s`` is how long the timing capacitor needs to charge fully (about
+    five time constants): the fade-out must start from a fully charged C1, as it
+    does after the light has been on for a while.
+    """
+    release = max(3.0 * fade_in_s, fade_in_s + 0.5, settle_s)
     return Window(release_s=release, stop_s=release + max(3.0 * fade_out_s, fade_out_s + 0.5))
 
 
@@ -103,6 +110,9 @@ class Pen(Protocol):
     def npn(self, part: Part) -> None:
         """An NPN with its base at the cursor, collector up, emitter down; the cursor stays."""
 
+    def pnp(self, part: Part) -> None:
+        """A PNP with its base at the cursor, emitter up, collector down; the cursor stays."""
+
     def load(self, branches: Sequence[Sequence[Part]], *, top: str) -> None:
         """Parallel branches hanging from net ``top`` down to the cursor's net.
 
@@ -123,10 +133,40 @@ class Pen(Protocol):
 
 
 @dataclass(frozen=True)
+class Stage:
+    """The output switch: which catalog parts fit and the rough figures for a first guess.
+
+    ``vce_sat_v`` is the on-state drop used for the LED resistor formula;
+    ``v_drive_v`` the base voltage while driven hard (a Darlington has two
+    junctions).  The simulator, not these figures, decides the design.
+    """
+
+    kind: str  # "bjt" | "mosfet"
+    darlington: bool
+    vce_sat_v: float
+    v_drive_v: float
+    cost_rank: int  # 0 cheapest: a plain NPN, then a Darlington, then a MOSFET
+    drive_net: str = "base"
+    out_net: str = "collector"
+
+
+SINGLE_NPN = Stage(kind="bjt", darlington=False, vce_sat_v=0.2, v_drive_v=0.75, cost_rank=0)
+# Darlington Vce(sat) about 1 V at moderate currents, VBE(on) 1.2-1.5 V (TIP120: 2 V max at 3 A; check-values §8)
+DARLINGTON = Stage(kind="bjt", darlington=True, vce_sat_v=1.0, v_drive_v=1.4, cost_rank=1)
+# A logic-level MOSFET fully on drops only I·RDS(on): tens of millivolts at an amp (IRLZ44N, 25 mΩ at 5 V)
+LOGIC_MOSFET = Stage(kind="mosfet", darlington=False, vce_sat_v=0.05, v_drive_v=0.0, cost_rank=2,
+                     drive_net="gate", out_net="drain")
+
+INPUT_PNP = "BC327-40"
+R_INPUT_BASE_OHM = 4700.0  # PNP base resistor to the grounded feed: about 2.3 mA of base current at 11 V
+R_PULLUP_OHM = 47000.0  # holds the PNP off when the feed wire is open (common practice, no source)
+
+
+@dataclass(frozen=True)
 class Topology:
     """One circuit template.
 
-    ``build`` makes the netlist; ``probes`` are the test points a builder
+    ``build()`` makes the netlist; ``probes`` are the test points a builder
     measures, ``(label, net)``; ``wiring`` words the off-board connections by
     function as ``(net, what to connect there)``; ``draw`` lays out the
     schematic of a netlist this topology built, on any ``Pen``.
@@ -135,10 +175,15 @@ class Topology:
     name: str
     title: str
     summary: str
-    build: Callable[[Spec, Values, Window], Netlist]
     probes: tuple[tuple[str, str], ...]
     wiring: tuple[tuple[str, str], ...]
     draw: Callable[[Pen, Netlist], None]
+    stage: Stage = SINGLE_NPN
+    trigger: str = "positive"  # the feed it takes: "positive" or "ground"
+
+    def build(self, spec: Spec, values: Values, window: Window) -> Netlist:
+        """The netlist of this template with the chosen values."""
+        return _build(spec, values, window, topology=self)
 
 
 def _rating(values: Values, ref: str) -> tuple[float | None, float | None]:
@@ -184,20 +229,67 @@ def load_parts(spec: Spec, values: Values, *, top: str, bottom: str, first_r: in
     return parts
 
 
-def feed_source(spec: Spec, window: Window) -> Source:
-    """The switched feed: on at t = 0, off at the release time, following the supply."""
+def feed_source(spec: Spec, window: Window, *, trigger: str) -> Source:
+    """The switched feed: on at t = 0, off at the release time, following the supply.
+
+    A positive feed rises from 0 V to the supply; a ground-switched feed sits at
+    the supply (held there by the pull-up or the vehicle's own lamp) and is
+    pulled to 0 V while the light should be on.
+    """
     e = TRIGGER_EDGE_S
-    shape = ((0.0, 0.0), (e, 1.0), (window.release_s, 1.0), (window.release_s + e, 0.0))
+    on, off = (1.0, 0.0) if trigger == "positive" else (0.0, 1.0)
+    shape = ((0.0, off), (e, on), (window.release_s, on), (window.release_s + e, off))
     return Source(name="VFEED", plus="feed", minus=GROUND, level_v=spec.supply.nominal_v, shape=shape)
 
 
-def _build_npn(spec: Spec, values: Values, window: Window) -> Netlist:
+def _input_parts(values: Values) -> list[Part]:
+    """Ground-switched input: a PNP high-side switch turns the grounded feed into a positive one."""
+    q = values.input_transistor
+    return [
+        Part(ref="Q2", kind="pnp", pins=(("C", "switched"), ("B", "q2_base"), ("E", "supply")), role="input",
+             model=q.model, part_number=q.part_number, description="PNP input switch: on while the feed is grounded",
+             rating_v=q.vmax_v, rating_w=q.pd_free_air_w, package=q.package),
+        _resistor("R4", "q2_base", "feed", "input_base", R_INPUT_BASE_OHM, values,
+                  "input base resistor: limits the current the feed wire sinks"),
+        _resistor("R5", "supply", "q2_base", "pullup", R_PULLUP_OHM, values,
+                  "pull-up: an open feed wire means off"),
+    ]
+
+
+def _switch(values: Values, stage: Stage) -> list[Part]:
+    """The low-side switch, its drive resistor and (for a MOSFET on a high supply) the gate clamp."""
     q = values.transistor
+    drive, out = stage.drive_net, stage.out_net
+    if stage.kind == "mosfet":
+        parts = [
+            _resistor("R3", "timer", drive, "base", values.r_base_ohm, values, "gate resistor: damps the gate"),
+            Part(ref="Q1", kind="nmos", pins=(("D", out), ("G", drive), ("S", GROUND)), role="switch",
+                 model=q.model, part_number=q.part_number, description="logic-level MOSFET switch, low side",
+                 rating_v=q.vmax_v, rating_w=q.pd_free_air_w, package=q.package),
+        ]
+        if values.clamp is not None:
+            z = values.clamp
+            parts.append(Part(ref="D2", kind="diode", pins=(("A", GROUND), ("K", drive)), role="clamp",
+                              model=z.model, part_number=z.part_number,
+                              description=f"{z.vrrm_v:g} V zener: clamps the gate below its rating",
+                              rating_v=z.vrrm_v, package=z.package))
+        return parts
+    return [
+        _resistor("R3", "timer", drive, "base", values.r_base_ohm, values, "base resistor: sets the drive to Q1"),
+        Part(ref="Q1", kind="npn", pins=(("C", out), ("B", drive), ("E", GROUND)), role="switch",
+             model=q.model, part_number=q.part_number,
+             description="Darlington switch, low side" if q.darlington else "NPN switch, low side",
+             rating_v=q.vmax_v, rating_w=q.pd_free_air_w, package=q.package),
+    ]
+
+
+def _build(spec: Spec, values: Values, window: Window, *, topology: "Topology") -> Netlist:
     d = values.diode
-    dv, _ = _rating(values, "D1")
     cv, _ = _rating(values, "C1")
+    ground_input = topology.trigger == "ground"
+    d1_anode = "switched" if ground_input else "feed"
     parts = [
-        Part(ref="D1", kind="diode", pins=(("A", "feed"), ("K", "feed_d")), role="blocking", model=d.model,
+        Part(ref="D1", kind="diode", pins=(("A", d1_anode), ("K", "feed_d")), role="blocking", model=d.model,
              part_number=d.part_number, description="blocking diode: the capacitor cannot discharge into the feed",
              rating_v=d.vrrm_v, package=d.package),
         _resistor("R1", "feed_d", "timer", "charge", values.r_charge_ohm, values, "charge resistor: sets the fade-in"),
@@ -205,18 +297,18 @@ def _build_npn(spec: Spec, values: Values, window: Window) -> Netlist:
              value=values.c_timing_f, description="timing capacitor, electrolytic", rating_v=cv,
              tolerance=0.20, package="radial"),
         _resistor("R2", "timer", GROUND, "bleed", values.r_bleed_ohm, values, "bleed resistor: sets the fade-out"),
-        _resistor("R3", "timer", "base", "base", values.r_base_ohm, values, "base resistor: sets the drive to Q1"),
-        Part(ref="Q1", kind="npn", pins=(("C", "collector"), ("B", "base"), ("E", GROUND)), role="switch",
-             model=q.model, part_number=q.part_number, description="NPN switch, low side",
-             rating_v=q.vmax_v, rating_w=q.pd_free_air_w, package=q.package),
+        *_switch(values, topology.stage),
     ]
-    parts += load_parts(spec, values, top="supply", bottom="collector", first_r=4)
+    if ground_input:
+        parts += _input_parts(values)
+    parts += load_parts(spec, values, top="supply", bottom=topology.stage.out_net,
+                        first_r=6 if ground_input else 4)
     sources = (
         Source(name="VSUPPLY", plus="supply", minus=GROUND, level_v=spec.supply.nominal_v),
-        feed_source(spec, window),
+        feed_source(spec, window, trigger=topology.trigger),
     )
     return Netlist(title=spec.title, parts=tuple(parts), sources=sources, release_s=window.release_s,
-                   stop_s=window.stop_s, probes=NPN.probes)
+                   stop_s=window.stop_s, probes=topology.probes)
 
 
 def series_branches(netlist: Netlist, *, top: str, bottom: str) -> tuple[tuple[Part, ...], ...]:
@@ -253,17 +345,70 @@ def _one(netlist: Netlist, role: str) -> Part:
 
 def _draw_npn(pen: Pen, netlist: Netlist) -> None:
     """Signal left to right along one row; the load hangs above Q1 from the supply rail."""
-    supply_v = netlist.source("VSUPPLY").level_v
     tp = {net: label for label, net in netlist.probes}
-    d1, r1, c1 = _one(netlist, "blocking"), _one(netlist, "charge"), _one(netlist, "timing")
-    r2, r3, q1 = _one(netlist, "bleed"), _one(netlist, "base"), _one(netlist, "switch")
-
     pen.start("feed")
     pen.terminal("switched feed", "left")
     pen.mark("inputs")
     pen.wire("right", 0.5)
     pen.test_point(tp["feed"], "feed", "down")
     pen.wire("right", 0.25)
+    _draw_timer_and_switch(pen, netlist, row="inputs")
+
+
+def _draw_ground(pen: Pen, netlist: Netlist) -> None:
+    """The PNP input stage on its own row above the timer row, so the signal still reads left to right.
+
+    The feed row carries R4 into Q2's base, R5 rises from there to the rail and
+    Q2's emitter meets the rail too; Q2's collector drops to the timer row, one
+    pitch below, which from D1 on is drawn exactly as the positive-feed layout.
+    """
+    tp = {net: label for label, net in netlist.probes}
+    q2, r4, r5 = _one(netlist, "input"), _one(netlist, "input_base"), _one(netlist, "pullup")
+
+    pen.start("feed")
+    pen.terminal("switched feed\n(grounded = on)", "left")
+    pen.mark("inputs")
+    pen.move("down", 1.0, net="switched")
+    pen.mark("row")  # where the timer row starts, below the feed terminal
+    pen.go("inputs")
+    pen.wire("right", 0.5)
+    pen.test_point(tp["feed"], "feed", "down")
+    pen.wire("right", 0.25)
+    pen.resistor(r4, "right")
+    pen.wire("right", 0.25)  # room between R4's value and R5
+    pen.junction()
+    pen.mark("q2_base")
+    pen.resistor(r5, "up")
+    pen.mark("pullup")
+    pen.go("q2_base")
+    pen.wire("right", 1.0)
+    pen.pnp(q2)
+    pen.pin(q2, "C")
+    pen.wire("down", until="row")
+    pen.wire("right", 0.5)
+    pen.test_point(tp["switched"], "switched", "down")
+    pen.wire("right", 0.25)
+    _draw_timer_and_switch(pen, netlist, row="row")
+    pen.go("pullup")
+    pen.wire("up", until="rail")
+    pen.junction()
+    pen.pin(q2, "E")
+    pen.wire("up", until="rail")
+    pen.junction()
+
+
+def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
+    """From D1 (the cursor on its anode's net) to the supply rail and the off-board terminals.
+
+    Both layouts share this, so a fix to the timer, Q1 or load drawing lands in
+    both.  ``row`` marks the left end of the cursor's row: the supply rail runs
+    back to its x and is marked ``rail``; the ground terminal stands below it.
+    """
+    supply_v = netlist.source("VSUPPLY").level_v
+    tp = {net: label for label, net in netlist.probes}
+    d1, r1, c1 = _one(netlist, "blocking"), _one(netlist, "charge"), _one(netlist, "timing")
+    r2, r3, q1 = _one(netlist, "bleed"), _one(netlist, "base"), _one(netlist, "switch")
+
     pen.diode(d1, "right")
     pen.resistor(r1, "right")
     pen.junction()
@@ -291,27 +436,70 @@ def _draw_npn(pen: Pen, netlist: Netlist) -> None:
     pen.wire("up", 0.5)
     pen.load(series_branches(netlist, top="supply", bottom="collector"), top="supply")
     pen.test_point(tp["supply"], "supply", "up")
-    pen.wire("left", until="inputs")
+    pen.mark("rail")
+    pen.wire("left", until=row)
     pen.terminal(f"+{supply_v:g} V always-on\n(via fuse)", "left")
-    pen.go("inputs")
+    pen.go(row)
     pen.move("down", 1.5, net=GROUND)
     pen.terminal("ground", "left")
     pen.wire("right", 0.5)
     pen.ground()
 
 
-NPN = Topology(
-    name="npn",
-    title="Single NPN, low side",
-    summary="The feed charges C1 through D1 and R1; C1 drives Q1's base through R3; R2 drains C1 "
-            "when the feed goes away, so the light fades out.",
-    build=_build_npn,
-    probes=(("TP1 feed", "feed"), ("TP2 timing capacitor", "timer"), ("TP3 base", "base"),
-            ("TP4 collector", "collector"), ("TP5 supply", "supply")),
-    wiring=(("supply", "always-on positive feed"),
-            ("feed", "switched feed (the wire that goes positive when the light should be on)"),
-            (GROUND, "ground (chassis or battery negative)")),
-    draw=_draw_npn,
-)
+def _draw_mosfet(pen: Pen, netlist: Netlist) -> None:
+    """MOSFET stage (drawn by the schematic work)."""
+    _draw_npn(pen, netlist)
 
-TOPOLOGIES: dict[str, Topology] = {t.name: t for t in (NPN,)}
+
+_POSITIVE_WIRING = (("supply", "always-on positive feed"),
+                    ("feed", "switched feed (the wire that goes positive when the light should be on)"),
+                    (GROUND, "ground (chassis or battery negative)"))
+_GROUND_WIRING = (("supply", "always-on positive feed"),
+                  ("feed", "switched feed (the wire that is grounded when the light should be on)"),
+                  (GROUND, "ground (chassis or battery negative)"))
+
+
+def _probes(stage: Stage, trigger: str) -> tuple[tuple[str, str], ...]:
+    probes = (("TP1 feed", "feed"), ("TP2 timing capacitor", "timer"), (f"TP3 {stage.drive_net}", stage.drive_net),
+              (f"TP4 {stage.out_net}", stage.out_net), ("TP5 supply", "supply"))
+    if trigger == "ground":
+        probes += (("TP6 input switch output", "switched"),)
+    return probes
+
+
+def _topology(name: str, title: str, summary: str, *, stage: Stage, trigger: str, draw) -> Topology:
+    return Topology(name=name, title=title, summary=summary, probes=_probes(stage, trigger),
+                    wiring=_GROUND_WIRING if trigger == "ground" else _POSITIVE_WIRING,
+                    draw=draw, stage=stage, trigger=trigger)
+
+
+_SUMMARY = ("The feed charges C1 through D1 and R1; C1 drives Q1's base through R3; R2 drains C1 when the feed "
+            "goes away, so the light fades out.")
+_GROUND_SUMMARY = (" A grounded feed wire turns on the PNP Q2, which feeds D1 from the always-on supply; R5 holds Q2 "
+                   "off when the wire is open.")
+
+NPN = _topology("npn", "Single NPN, low side", _SUMMARY, stage=SINGLE_NPN, trigger="positive", draw=_draw_npn)
+DARLINGTON_LOW = _topology("darlington", "Darlington, low side",
+                           _SUMMARY + " The Darlington's gain lets C1 be far smaller for heavy loads.",
+                           stage=DARLINGTON, trigger="positive", draw=_draw_npn)
+NPN_GROUND = _topology("npn-ground", "Single NPN, low side, ground-switched input", _SUMMARY + _GROUND_SUMMARY,
+                       stage=SINGLE_NPN, trigger="ground", draw=_draw_ground)
+DARLINGTON_GROUND = _topology("darlington-ground", "Darlington, low side, ground-switched input",
+                              _SUMMARY + _GROUND_SUMMARY, stage=DARLINGTON, trigger="ground", draw=_draw_ground)
+
+_MOSFET_SUMMARY = ("The feed charges C1 through D1 and R1; the R1-R2 divider sets the gate voltage of the "
+                   "logic-level MOSFET Q1 through R3; the light fades while C1's voltage crosses the gate "
+                   "threshold, and R2 drains C1 when the feed goes away.")
+MOSFET_LOW = _topology("mosfet", "Logic-level MOSFET, low side", _MOSFET_SUMMARY, stage=LOGIC_MOSFET,
+                       trigger="positive", draw=_draw_mosfet)
+MOSFET_GROUND = _topology("mosfet-ground", "Logic-level MOSFET, low side, ground-switched input",
+                          _MOSFET_SUMMARY + _GROUND_SUMMARY, stage=LOGIC_MOSFET, trigger="ground",
+                          draw=_draw_mosfet)
+
+TOPOLOGIES: dict[str, Topology] = {t.name: t for t in (NPN, DARLINGTON_LOW, MOSFET_LOW, NPN_GROUND,
+                                                       DARLINGTON_GROUND, MOSFET_GROUND)}
+
+
+def topologies_for(trigger: str) -> tuple[Topology, ...]:
+    """The templates that take this kind of feed, cheapest output stage first."""
+    return tuple(sorted((t for t in TOPOLOGIES.values() if t.trigger == trigger), key=lambda t: t.stage.cost_rank))

@@ -54,7 +54,8 @@ def test_missing_spec_file_exits_2(capsys):
 
 def test_impossible_fade_exits_3_with_the_limit(tmp_path, capsys):
     path = tmp_path / "lamp.yaml"
-    path.write_text("supply: 12 V\nload: {kind: lamp, power: 3 W}\nfade: {in: 3 s, out: 10 s}\n", encoding="utf-8")
+    path.write_text("supply: 12 V\nload: {kind: lamp, power: 3 W}\nfade: {in: 3 s, out: 10 s}\ntopology: npn\n",
+                    encoding="utf-8")
     assert main(["check", str(path)]) == 3
     err = capsys.readouterr().err
     assert "cannot meet this spec" in err and "µF" in err and "What would work" in err

@@ -1,7 +1,8 @@
 """The schematic names every part, marks every test point, keeps text as text and fits its box.
 
-The netlists are built straight from the topology with fixed values (no sizing
-run), so these tests stay fast.  Text is read back out of a one-page PDF with
+Every topology in the registry is drawn with every load.  The netlists are
+built straight from the topology with fixed values (no sizing run), so these
+tests stay fast.  Text is read back out of a one-page PDF with
 pypdf, the way a reader's search or copy would see it.
 """
 
@@ -29,13 +30,19 @@ LOADS = {
 }
 
 
-def _netlist(load: dict, supply: str = "24 V"):
+def _netlist(load: dict, topology=NPN, supply: str = "24 V"):
     spec = spec_from_mapping({"title": "test", "supply": supply, "load": load,
                               "fade": {"in": "1 s", "out": "3 s"}}, source="<test>")
-    values = Values(transistor=catalog.transistor("BD139"), diode=catalog.diode("1N4007"),
-                    r_charge_ohm=4700.0, r_bleed_ohm=10_000.0, r_base_ohm=1200.0, c_timing_f=1000e-6,
-                    r_led_ohm=560.0, ratings=(("C1", 35.0, None), ("R4", None, 0.5)))
-    return NPN.build(spec, values, window_for(1.0, 3.0))
+    ground = topology.trigger == "ground"
+    values = Values(transistor=catalog.transistor("TIP120" if topology.stage.darlington else "BD139"),
+                    diode=catalog.diode("1N4007"), r_charge_ohm=4700.0, r_bleed_ohm=10_000.0,
+                    r_base_ohm=1200.0, c_timing_f=1000e-6, r_led_ohm=560.0,
+                    ratings=(("C1", 35.0, None), ("R6" if ground else "R4", None, 0.5)),
+                    input_transistor=catalog.transistor("BC327-40") if ground else None)
+    return topology.build(spec, values, window_for(1.0, 3.0))
+
+
+CASES = [(topology, load) for topology in sorted(TOPOLOGIES) for load in sorted(LOADS)]
 
 
 def _pdf_text(drawing) -> str:
@@ -59,15 +66,16 @@ def _expand(text: str) -> set[str]:
     return refs
 
 
-@pytest.fixture(scope="module", params=sorted(LOADS))
+@pytest.fixture(scope="module", params=CASES, ids=[f"{t}-{load}" for t, load in CASES])
 def case(request):
-    netlist = _netlist(LOADS[request.param])
-    drawing = schematic_drawing(netlist, NPN, max_width_pt=300.0, max_height_pt=260.0)
-    return netlist, drawing, _pdf_text(drawing)
+    topology = TOPOLOGIES[request.param[0]]
+    netlist = _netlist(LOADS[request.param[1]], topology)
+    drawing = schematic_drawing(netlist, topology, max_width_pt=300.0, max_height_pt=260.0)
+    return topology, netlist, drawing, _pdf_text(drawing)
 
 
 def test_every_part_is_named_with_its_value(case):
-    netlist, _, text = case
+    _, netlist, _, text = case
     assert {p.ref for p in netlist.parts} <= _expand(text)
     lines = {line.strip() for line in text.splitlines()}
     for part in netlist.parts:
@@ -81,16 +89,28 @@ def test_values_are_written_with_units():
         assert written in text
 
 
+def test_a_ground_switched_darlington_names_both_transistors_and_the_input_resistors():
+    topology = TOPOLOGIES["darlington-ground"]
+    text = _pdf_text(schematic_drawing(_netlist(LOADS["2x3 LEDs"], topology), topology,
+                                       max_width_pt=600, max_height_pt=500))
+    for written in ("TIP120", "BC327-40", "4.7 k\u03a9", "47 k\u03a9", "560 \u03a9", "0.5 W"):
+        assert written in text
+
+
 def test_test_points_and_terminals_are_marked(case):
-    netlist, _, text = case
-    assert {label.split()[0] for label, _ in netlist.probes} == {f"TP{k}" for k in range(1, 6)}
-    assert {f"TP{k}" for k in range(1, 6)} <= _expand(text)
+    topology, netlist, _, text = case
+    tags = {label.split()[0] for label, _ in netlist.probes}
+    ground = topology.trigger == "ground"
+    assert netlist.probes == topology.probes
+    assert tags == {f"TP{k}" for k in range(1, 7 if ground else 6)}
+    assert tags <= _expand(text)
     for words in ("+24 V always-on", "(via fuse)", "switched feed", "ground"):
         assert words in text
+    assert ("(grounded = on)" in text) == ground
 
 
 def test_it_fits_the_box(case):
-    _, drawing, _ = case
+    _, _, drawing, _ = case
     assert 0 < drawing.width <= 300.0 and 0 < drawing.height <= 260.0
     x0, y0, x1, y1 = drawing.getBounds()
     assert x0 >= -0.01 and y0 >= -0.01 and x1 <= drawing.width + 0.01 and y1 <= drawing.height + 0.01
@@ -103,9 +123,9 @@ def test_a_roomy_box_does_not_blow_it_up():
     assert FONT_PT == pytest.approx(9.0)
 
 
-@pytest.mark.parametrize("name", sorted(LOADS))
-def test_labels_find_free_places(name):
-    pen = _layout(_netlist(LOADS[name]), NPN)
+@pytest.mark.parametrize("topology,load", CASES)
+def test_labels_find_free_places(topology, load):
+    pen = _layout(_netlist(LOADS[load], TOPOLOGIES[topology]), TOPOLOGIES[topology])
     assert pen.collisions == []
     for i, a in enumerate(pen.boxes):
         for b in pen.boxes[i + 1:]:
@@ -125,6 +145,24 @@ def test_load_branches_follow_the_netlist():
     branches = series_branches(netlist, top="supply", bottom="collector")
     assert [[p.ref for p in b] for b in branches][0] == ["R4", "LED1", "LED2", "LED3", "LED4", "LED5"]
     assert len(branches) == 4
+    ground = _netlist(LOADS["4x5 LEDs"], TOPOLOGIES["npn-ground"])
+    assert [p.ref for p in series_branches(ground, top="supply", bottom="collector")[0]][0] == "R6"
+
+
+def test_the_input_stage_sits_on_its_nets():
+    """Q2's emitter rises to the rail, its collector drops to the timer row where D1 starts."""
+    topology = TOPOLOGIES["npn-ground"]
+    pen = _layout(_netlist(LOADS["1 LED"], topology), topology)
+    (_, e_y), e_net = pen._pins[("Q2", "E")]
+    (_, b_y), b_net = pen._pins[("Q2", "B")]
+    (c_x, c_y), c_net = pen._pins[("Q2", "C")]
+    (d_x, d_y), d_net = pen._pins[("D1", "A")]
+    assert (e_net, b_net, c_net, d_net) == ("supply", "q2_base", "switched", "switched")
+    assert e_y > b_y > c_y > d_y and d_x > c_x
+    (r4_x, r4_y), _ = pen._pins[("R4", "1")]
+    (r5_x, r5_y), _ = pen._pins[("R5", "2")]
+    (q_x, _), _ = pen._pins[("Q2", "B")]
+    assert r4_y == r5_y == b_y and r4_x < r5_x < q_x  # R5 tees into the base wire between R4 and Q2
 
 
 def test_every_topology_has_a_recipe_and_the_engine_stays_clear_of_schemdraw():
@@ -151,3 +189,8 @@ def test_the_pen_speaks_the_whole_protocol_and_refuses_a_wrong_net():
         pen.ground()
     with pytest.raises(ValueError, match="test point"):
         pen.test_point("TP2 timing capacitor", "timer", "up")
+    with pytest.raises(ValueError, match="Q1 is drawn as a pnp"):
+        pen.pnp(netlist.part("Q1"))
+    ground = _netlist(LOADS["1 LED"], TOPOLOGIES["npn-ground"])
+    with pytest.raises(ValueError, match="Q2: base is on 'q2_base'"):
+        pen.pnp(ground.part("Q2"))

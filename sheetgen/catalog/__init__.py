@@ -155,16 +155,23 @@ class Transistor:
 
 @dataclass(frozen=True)
 class Diode:
-    """A rectifier or Schottky diode: ratings, one forward-voltage limit, model card."""
+    """A rectifier, Schottky or zener diode: ratings, one forward-voltage limit, model card.
+
+    A zener also carries its breakdown voltage window ``vz_min_v``–``vz_max_v``
+    at test current ``iz_a`` (the card's BV and IBV describe the typical part).
+    """
 
     part_number: str
     package: str
-    vrrm_v: float           # repetitive peak reverse voltage
+    vrrm_v: float           # repetitive peak reverse voltage (a zener: its nominal Vz)
     if_avg_a: float         # average forward current rating
     vf_max_v: float         # maximum forward voltage at vf_at_a
     vf_at_a: float          # test current of vf_max_v
     model: Model
     sources: tuple[str, ...]
+    vz_min_v: float | None = None
+    vz_max_v: float | None = None
+    iz_a: float | None = None
 
 
 @dataclass(frozen=True)
@@ -573,14 +580,15 @@ def _transistor(data: Any, where: str) -> Transistor:
 
 def _diode(data: Any, where: str) -> Diode:
     e = _Entry(data, where, ("part_number", "package", "vrrm_v", "if_avg_a", "vf_max_v",
-                             "vf_at_a", "model", "sources"))
+                             "vf_at_a", "model", "sources", "vz_min_v", "vz_max_v", "iz_a"))
     model = _model(e.raw("model"), f"{where}.model")
     if model.kind != "D":
         raise CatalogDataError(f"{where}.model.kind must be D")
     return Diode(part_number=e.text("part_number"), package=e.text("package"),
                  vrrm_v=e.num("vrrm_v"), if_avg_a=e.num("if_avg_a"),
                  vf_max_v=e.num("vf_max_v"), vf_at_a=e.num("vf_at_a"),
-                 model=model, sources=e.sources())
+                 model=model, sources=e.sources(), vz_min_v=e.num("vz_min_v", optional=True),
+                 vz_max_v=e.num("vz_max_v", optional=True), iz_a=e.num("iz_a", optional=True))
 
 
 def _led(data: Any, where: str) -> LedColour:

@@ -225,16 +225,12 @@ class SchemdrawPen:
     def npn(self, part: Part) -> None:
         import schemdraw.elements as elm
 
-        if part.net("B") != self._current():
-            raise ValueError(f"{part.ref}: base is on {part.net('B')!r}, the cursor on {self._net!r}")
-        q = self.drawing.add(elm.BjtNpn(circle=True).right().anchor("base").at(self._here))
-        for pin, anchor in (("C", q.collector), ("B", q.base), ("E", q.emitter)):
-            self._pins[(part.ref, pin)] = ((float(anchor[0]), float(anchor[1])), part.net(pin))
-        box = q.get_bbox(transform=True, includetext=False)
-        mid_y = (box.ymin + box.ymax) / 2
-        self._ask(part_label(part), [_Spot(box.xmax + GAP, mid_y - 0.2, "left", "center"),
-                                     _Spot(box.xmax + GAP, box.ymin, "left", "top")], _PART)
-        self.named.append(part.ref)
+        self._bjt(part, elm.BjtNpn(circle=True), "npn")
+
+    def pnp(self, part: Part) -> None:
+        import schemdraw.elements as elm
+
+        self._bjt(part, elm.BjtPnp(circle=True), "pnp")
 
     def load(self, branches: Sequence[Sequence[Part]], *, top: str) -> None:
         bottom = self._current()
@@ -423,6 +419,21 @@ class SchemdrawPen:
             plus_end = start if plus_pin == near else end
             at = (mid[0] + (plus_end[0] - mid[0]) * 0.3, mid[1] + (plus_end[1] - mid[1]) * 0.3)
             self._ask(["+"], _spots(at, across[::-1], half + 0.05), _SIGN)
+
+    def _bjt(self, part: Part, element: Any, kind: str) -> None:
+        """A transistor hung by its base from the cursor, labelled to its right, clear of its leads."""
+        if part.kind != kind:
+            raise ValueError(f"{part.ref} is drawn as a {kind} but the netlist has a {part.kind}")
+        if part.net("B") != self._current():
+            raise ValueError(f"{part.ref}: base is on {part.net('B')!r}, the cursor on {self._net!r}")
+        q = self.drawing.add(element.right().anchor("base").at(self._here))
+        for pin, anchor in (("C", q.collector), ("B", q.base), ("E", q.emitter)):
+            self._pins[(part.ref, pin)] = ((float(anchor[0]), float(anchor[1])), part.net(pin))
+        box = q.get_bbox(transform=True, includetext=False)
+        mid_y = (box.ymin + box.ymax) / 2
+        self._ask(part_label(part), [_Spot(box.xmax + GAP, mid_y - 0.2, "left", "center"),
+                                     _Spot(box.xmax + GAP, box.ymin, "left", "top")], _PART)
+        self.named.append(part.ref)
 
     def _draw_branch(self, branch: Sequence[Part]) -> None:
         """One column of the load, from its top net downwards, cursor ending at its foot."""
