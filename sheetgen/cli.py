@@ -43,6 +43,40 @@ def cmd_check(args) -> int:
     return EXIT_OK
 
 
+def _sheet(spec, *, layout_choice: str | None, out: str) -> int:
+    """Check the layout and the output path first, then size, analyse and write the sheet."""
+    from .analyse import analyse
+    from .render.layout import load_layout
+    from .render.sheet import build_sheet, sheet_date
+    from .render.write import check_writable
+    from .size import size
+
+    layout = load_layout(layout_choice)
+    check_writable(out)
+    sheet_date()  # a malformed SOURCE_DATE_EPOCH is bad input: say so before the slow part
+    path = build_sheet(analyse(size(spec)), layout, out)
+    print(path)
+    return EXIT_OK
+
+
+def cmd_build(args) -> int:
+    from pathlib import Path
+
+    from .spec import load_spec
+
+    spec = load_spec(args.spec)
+    out = args.output or f"{Path(args.spec).stem}.pdf"
+    if Path(out).resolve() == Path(args.spec).resolve():
+        raise SpecError(f"-o {out}: would overwrite the spec itself; give a .pdf name")
+    return _sheet(spec, layout_choice=args.layout, out=out)
+
+
+def cmd_demo(args) -> int:
+    from .demo import OUTPUT, demo_spec
+
+    return _sheet(demo_spec(), layout_choice=None, out=OUTPUT)
+
+
 def parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
         prog="sheetgen",
@@ -60,6 +94,21 @@ def parser() -> argparse.ArgumentParser:
                                    "is wrong, 3 if no design can meet it.")
     c.add_argument("spec", metavar="SPEC", help="spec file (YAML)")
     c.set_defaults(func=cmd_check)
+
+    b = sub.add_parser("build", help="size a fader and write its printable build sheet (PDF)",
+                       description="Size a fader for SPEC and write the build sheet: summary, cautions, timing, "
+                                   "schematic, parts list, bench readings, heat and wiring steps.")
+    b.add_argument("spec", metavar="SPEC", help="spec file (YAML)")
+    b.add_argument("-o", "--output", metavar="OUT.pdf",
+                   help="where to write the sheet (default: the spec's name with .pdf, in the current folder)")
+    b.add_argument("--layout", metavar="NAME|FILE",
+                   help="a shipped layout (a4-sheet, letter-sheet; default a4-sheet) or a layout file")
+    b.set_defaults(func=cmd_build)
+
+    d = sub.add_parser("demo", help="write the sheet of a built-in scenario into the current folder",
+                       description="Size a built-in scenario (a camper van awning light), write its build sheet "
+                                   "to sheetgen-demo.pdf in the current folder and print the path.")
+    d.set_defaults(func=cmd_demo)
     return p
 
 

@@ -265,7 +265,8 @@ class _Limits:
         return new
 
 
-def _stamp_nonlinear(c: Compiled, x: np.ndarray, lim: _Limits, G: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+def _stamp_nonlinear(c: Compiled, x: np.ndarray, lim: _Limits, G: np.ndarray, rhs: np.ndarray,
+                     init_junctions: bool = False) -> np.ndarray:
     """Add every nonlinear device's linearisation at ``x``; return the 'limited' mask (N,)."""
     n, size = c.n, c.size
     Gf = G.reshape(n, size * size)
@@ -277,6 +278,8 @@ def _stamp_nonlinear(c: Compiled, x: np.ndarray, lim: _Limits, G: np.ndarray, rh
         a, k = d.nodes[:, 0], d.nodes[:, 1]
         v = x[:, a] - x[:, k]
         nvt = d.params["n"] * vt
+        if init_junctions:  # SPICE's first DC iteration: every junction starts at its critical voltage
+            v = lim.d_vcrit
         v, hit = devices.pnjlim(v, lim.vd, nvt, lim.d_vcrit)
         lim.vd = v
         limited |= hit.any(axis=1)
@@ -293,6 +296,8 @@ def _stamp_nonlinear(c: Compiled, x: np.ndarray, lim: _Limits, G: np.ndarray, rh
         vbe = s * (x[:, bn] - x[:, en])
         vbc = s * (x[:, bn] - x[:, cn])
         nvt_f, nvt_r = p["nf"] * vt, p["nr"] * vt
+        if init_junctions:  # base-emitter at its critical voltage, base-collector at zero
+            vbe, vbc = lim.be_vcrit, np.zeros_like(vbc)
         vbe, h1 = devices.pnjlim(vbe, lim.vbe, nvt_f, lim.be_vcrit)
         vbc, h2 = devices.pnjlim(vbc, lim.vbc, nvt_r, lim.bc_vcrit)
         lim.vbe, lim.vbc = vbe, vbc
@@ -348,18 +353,34 @@ def _stamp_nonlinear(c: Compiled, x: np.ndarray, lim: _Limits, G: np.ndarray, rh
 
 
 def _solve(A: np.ndarray, b: np.ndarray) -> np.ndarray:
-    """Batched dense solve; small systems, so numpy's LAPACK loop is fine."""
+    """Batched dense solve; small systems, so numpy's LAPACK loop is fine.
+
+    A member whose matrix is singular (or holds non-finite numbers, after a wild
+    Newton step) gets NaN, which the caller treats as not converged, instead of
+    stopping the whole batch.
+    """
     if A.shape[1] == 0:
         return b.copy()
     try:
         return np.linalg.solve(A, b[..., None])[..., 0]
-    except np.linalg.LinAlgError as exc:  # singular: a floating node
-        raise SimulationError(f"singular circuit matrix ({exc})") from exc
+    except np.linalg.LinAlgError:
+        out = np.full(b.shape, np.nan)
+        for k in range(A.shape[0]):
+            if np.all(np.isfinite(A[k])) and np.all(np.isfinite(b[k])):
+                try:
+                    out[k] = np.linalg.solve(A[k], b[k])
+                except np.linalg.LinAlgError:
+                    pass
+        return out
 
 
 def _newton(c: Compiled, x0: np.ndarray, xf: np.ndarray, G0: np.ndarray, rhs0: np.ndarray,
-            lim: _Limits, max_iter: int = MAX_NEWTON):
-    """Newton iterations at one time point; returns (x, converged mask, G, rhs)."""
+            lim: _Limits, max_iter: int = MAX_NEWTON, init_junctions: bool = False):
+    """Newton iterations at one time point; returns (x, converged mask, G, rhs).
+
+    ``init_junctions`` linearises the first iteration at SPICE's junction
+    starting guesses rather than at ``x0`` (for a DC solve from nothing).
+    """
     nu = c.n_unknown
     x = x0.copy()
     x[:, nu:nu + c.n_fixed] = xf
@@ -369,13 +390,15 @@ def _newton(c: Compiled, x0: np.ndarray, xf: np.ndarray, G0: np.ndarray, rhs0: n
     if th is not None:
         step_limit[th] = MAX_DT
     done = np.zeros(c.n, dtype=bool)
-    for _ in range(max_iter):
+    for it in range(max_iter):
         G = G0.copy()
         rhs = rhs0.copy()
-        limited = _stamp_nonlinear(c, x, lim, G, rhs)
+        limited = _stamp_nonlinear(c, x, lim, G, rhs, init_junctions and it == 0)
         A = G[:, :nu, :nu]
         b = rhs[:, :nu] - np.einsum("nij,nj->ni", G[:, :nu, nu:], x[:, nu:])
         xu = _solve(A, b)
+        bad = ~np.all(np.isfinite(xu), axis=1)
+        xu[bad] = x[bad, :nu]  # leave a failed member where it was; it stays unconverged
         step = xu - x[:, :nu]
         # Damped Newton: no node moves more than MAX_DV (a lamp's thermal node
         # more than MAX_DT) in one iteration, so a poor linearisation cannot fling
@@ -387,7 +410,8 @@ def _newton(c: Compiled, x0: np.ndarray, xf: np.ndarray, G0: np.ndarray, rhs0: n
         if th is not None:  # a filament is never colder than the room it sits in
             xu[:, th] = np.maximum(xu[:, th], c.lamps.params["troom"])
         dx = np.abs(step)
-        ok = np.all(dx <= RELTOL * np.maximum(np.abs(xu), np.abs(x[:, :nu])) + VNTOL, axis=1) & ~limited & ~damped
+        ok = (np.all(dx <= RELTOL * np.maximum(np.abs(xu), np.abs(x[:, :nu])) + VNTOL, axis=1) & ~limited & ~damped
+              & ~bad)
         x[:, :nu] = xu
         done = ok
         if done.all():
@@ -599,23 +623,54 @@ def operating_point(netlist: Netlist, *, at_s: float, overrides: Overrides | Non
     """Steady DC state with the sources as they are at time ``at_s``.
 
     Capacitors are open.  Sources are ramped up in steps (source stepping) so
-    that Newton starts every step close to the answer.
+    that Newton starts every step close to the answer; members that still do
+    not converge are solved again with gmin stepping, SPICE's other fallback: a
+    large conductance from every node to ground, relaxed a decade at a time, pins
+    nodes that only reverse-biased junctions reach while Newton finds its way.
     """
     if n is None:
         n = max((np.size(a) for a in (overrides or {}).values()), default=1)
     c = Compiled(netlist, overrides, n)
-    x = np.zeros((n, c.size))
-    if c.lamps.refs:
-        x[:, c.lamps.nodes[:, 2]] = c.lamps.params["troom"]
-    lim = _Limits(c)
-    rhs0 = np.zeros((n, c.size))
-    # A tiny conductance to ground on every unknown keeps capacitor-only nodes solvable.
-    G0 = c.g_lin.copy()
-    idx = np.arange(c.n_unknown)
-    G0[:, idx, idx] += devices.GMIN
-    for scale in np.linspace(0.1, 1.0, 10):
-        x, ok, G, rhs = _newton(c, x, c.fixed_values(at_s, scale), G0, rhs0, lim, max_iter=200)
+    x, ok, G, rhs = _dc_source_stepping(c, at_s)
     if not ok.all():
-        raise SimulationError(f"{netlist.title}: DC operating point did not converge")
+        bad = np.flatnonzero(~ok)
+        sub_ov = {k: (np.asarray(v)[bad] if np.ndim(v) else v) for k, v in (overrides or {}).items()}
+        sub = Compiled(netlist, sub_ov, bad.size)
+        xs, oks, Gs, rhss = _dc_gmin_stepping(sub, at_s)
+        if not oks.all():
+            raise SimulationError(f"{netlist.title}: DC operating point did not converge")
+        x[bad], G[bad], rhs[bad] = xs, Gs, rhss
     return OperatingPoint(netlist=netlist, names=tuple(c.names), voltages=x,
                           source_currents=_source_currents(c, G, rhs, x))
+
+
+def _dc_start(c: Compiled):
+    x = np.zeros((c.n, c.size))
+    if c.lamps.refs:
+        x[:, c.lamps.nodes[:, 2]] = c.lamps.params["troom"]
+    return x, _Limits(c), np.zeros((c.n, c.size))
+
+
+def _with_gmin(c: Compiled, gmin: float) -> np.ndarray:
+    """The linear matrix with ``gmin`` from every unknown node to ground."""
+    G0 = c.g_lin.copy()
+    idx = np.arange(c.n_unknown)
+    G0[:, idx, idx] += gmin
+    return G0
+
+
+def _dc_source_stepping(c: Compiled, at_s: float):
+    x, lim, rhs0 = _dc_start(c)
+    G0 = _with_gmin(c, devices.GMIN)  # keeps capacitor-only nodes solvable
+    for k, scale in enumerate(np.linspace(0.1, 1.0, 10)):
+        x, ok, G, rhs = _newton(c, x, c.fixed_values(at_s, scale), G0, rhs0, lim, max_iter=200,
+                                init_junctions=k == 0)
+    return x, ok, G, rhs
+
+
+def _dc_gmin_stepping(c: Compiled, at_s: float):
+    x, lim, rhs0 = _dc_start(c)
+    for k, gmin in enumerate(10.0 ** np.arange(-2, -13, -1)):
+        x, ok, G, rhs = _newton(c, x, c.fixed_values(at_s), _with_gmin(c, gmin), rhs0, lim, max_iter=200,
+                                init_junctions=k == 0)
+    return x, ok, G, rhs

@@ -39,6 +39,7 @@ C_MIN_F, C_MAX_F = 1e-6, 10_000e-6
 C_MAX_AUTO_F = 4_700e-6  # automatic choice moves to a stronger stage before using a bigger can
 R_CHARGE_RANGE = (22.0, 220e3)
 R_BLEED_RANGE = (100.0, 220e3)  # above this, electrolytic leakage (µA) starts to rival the bleed current
+HEATSINK_MIN_C_PER_W = 1.0  # a better heatsink than this is a fan-cooled extrusion, not a fader's (common practice)
 TJ_LIMIT_C = 125.0  # keep the junction under 125 °C at worst case (common practice, no source)
 IC_DERATE = 0.6  # run a transistor at no more than 60 % of its rated collector current (common practice, no source)
 DIODE = "1N4007"
@@ -191,6 +192,12 @@ def _transistor_candidates(spec: Spec, topology: Topology, refusals: list[str]) 
             refusals.append(f"{q.part_number}: up to {p_peak:.2f} W while fading would take the junction "
                             f"to {tj:.0f} °C in free air at {spec.ambient_c:g} °C")
             continue
+        sink = (TJ_LIMIT_C - spec.ambient_c) / p_peak - q.rth_jc_c_per_w - q.rth_cs_c_per_w if p_peak > 0 else 1e9
+        if tj > TJ_LIMIT_C and sink < HEATSINK_MIN_C_PER_W:
+            refusals.append(f"{q.part_number}: a feed that hovers half-on would put {p_peak:.1f} W into it; keeping "
+                            f"the junction under {TJ_LIMIT_C:g} °C would take a heatsink better than "
+                            f"{HEATSINK_MIN_C_PER_W:g} °C/W")
+            continue
         ok.append(q)
     package_rank = {"TO-92": 0, "TO-126": 1, "TO-220": 2}
     i_nom = rated_current_a(spec.load)
@@ -293,7 +300,7 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_m
         if round_no >= 1 and (best is None or best.error(spec) > 4 * ACCURACY):
             break
     if best is None or best.error(spec) > ACCURACY:
-        raise _NoFit(_why_not(spec, best, c_max))
+        raise _NoFit(_why_not(spec, best, c_max, drive.limit_note))
     return _finish(spec, topology, base_values, _window(spec, drive, [best]), best, drive.reason(best))
 
 
@@ -399,6 +406,8 @@ class _BaseDrive:
                 break
         return [t for t in trials if self.od_min <= t.overdrive <= self.od_max * 1.1]
 
+    limit_note = "the base current this load needs drains C1 quickly"
+
     @staticmethod
     def charge_tau_s(t) -> float:
         """C1 charges through R1 against R2 and the base path (R3 into about 0.7 V)."""
@@ -473,6 +482,9 @@ class _GateDrive:
         """The gate draws nothing: C1 charges through R1 against R2 alone."""
         return t.c / (1 / t.r1 + 1 / t.r2)
 
+    limit_note = ("with a MOSFET the light comes on early on C1's charge curve, so its fade-in can only be a "
+                  "small part of its fade-out")
+
     def reason(self, best) -> str:
         clamp = f", gate clamped by a {self.clamp.part_number}" if self.clamp else ""
         return (f"{self.q.part_number} chosen: the gate reaches {best.overdrive:.2f}× the {self.v_full:g} V its "
@@ -497,7 +509,7 @@ def _simulate(spec, topology, base, window, trials) -> None:
         t.t_in, t.t_out, t.i_load = float(a), float(b), float(s)
 
 
-def _why_not(spec: Spec, best: _Trial | None, c_max: float) -> str:
+def _why_not(spec: Spec, best: _Trial | None, c_max: float, note: str) -> str:
     if best is None:
         return "no combination of standard values gave both fades inside the simulated window"
     cap = format_quantity(best.c, "F")
@@ -506,10 +518,11 @@ def _why_not(spec: Spec, best: _Trial | None, c_max: float) -> str:
            f"R3 {format_quantity(best.r3, 'ohm')})")
     slow = best.t_out < spec.fade_out_s * (1 - ACCURACY) or best.t_in < spec.fade_in_s * (1 - ACCURACY)
     if best.c >= c_max * 0.999 and slow:
-        msg += (f"; a slower fade needs a timing capacitor above the {format_quantity(c_max, 'F')} limit, "
-                "because the base current this load needs drains C1 quickly")
+        msg += f"; a slower fade needs a timing capacitor above the {format_quantity(c_max, 'F')} limit, because {note}"
     elif best.c <= C_MIN_F * 1.001 and not slow:
         msg += f"; a faster fade needs a timing capacitor below {format_quantity(C_MIN_F, 'F')}"
+    else:
+        msg += f"; {note}"
     return msg
 
 

@@ -105,13 +105,16 @@ class Pen(Protocol):
         """A capacitor from the cursor (the + plate where its + pin is)."""
 
     def diode(self, part: Part, toward: Direction) -> None:
-        """A diode from the cursor (the bar at its cathode)."""
+        """A diode from the cursor (the bar at its cathode); a ``clamp`` is drawn as the zener it is."""
 
     def npn(self, part: Part) -> None:
         """An NPN with its base at the cursor, collector up, emitter down; the cursor stays."""
 
     def pnp(self, part: Part) -> None:
         """A PNP with its base at the cursor, emitter up, collector down; the cursor stays."""
+
+    def nmos(self, part: Part) -> None:
+        """An n-channel MOSFET with its gate at the cursor, drain up, source down; the cursor stays."""
 
     def load(self, branches: Sequence[Sequence[Part]], *, top: str) -> None:
         """Parallel branches hanging from net ``top`` down to the cursor's net.
@@ -343,7 +346,7 @@ def _one(netlist: Netlist, role: str) -> Part:
     return parts[0]
 
 
-def _draw_npn(pen: Pen, netlist: Netlist) -> None:
+def _draw_positive_feed(pen: Pen, netlist: Netlist) -> None:
     """Signal left to right along one row; the load hangs above Q1 from the supply rail."""
     tp = {net: label for label, net in netlist.probes}
     pen.start("feed")
@@ -355,7 +358,7 @@ def _draw_npn(pen: Pen, netlist: Netlist) -> None:
     _draw_timer_and_switch(pen, netlist, row="inputs")
 
 
-def _draw_ground(pen: Pen, netlist: Netlist) -> None:
+def _draw_ground_feed(pen: Pen, netlist: Netlist) -> None:
     """The PNP input stage on its own row above the timer row, so the signal still reads left to right.
 
     The feed row carries R4 into Q2's base, R5 rises from there to the rail and
@@ -397,17 +400,26 @@ def _draw_ground(pen: Pen, netlist: Netlist) -> None:
     pen.junction()
 
 
+# Q1's drive, output and grounded pins by its kind: the netlist, not the topology, says which.
+_SWITCH_PINS = {"npn": ("B", "C", "E"), "nmos": ("G", "D", "S")}
+
+
 def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
     """From D1 (the cursor on its anode's net) to the supply rail and the off-board terminals.
 
-    Both layouts share this, so a fix to the timer, Q1 or load drawing lands in
-    both.  ``row`` marks the left end of the cursor's row: the supply rail runs
-    back to its x and is marked ``rail``; the ground terminal stands below it.
+    Every layout shares this, so a fix to the timer, Q1 or load drawing lands in
+    all of them.  Q1 is drawn as the kind the netlist gives it, probed on its
+    own drive and output nets; a gate clamp, where there is one, drops from the
+    drive node to ground between R3 and Q1.  ``row`` marks the left end of the
+    cursor's row: the supply rail runs back to its x and is marked ``rail``; the
+    ground terminal stands below it.
     """
     supply_v = netlist.source("VSUPPLY").level_v
     tp = {net: label for label, net in netlist.probes}
     d1, r1, c1 = _one(netlist, "blocking"), _one(netlist, "charge"), _one(netlist, "timing")
     r2, r3, q1 = _one(netlist, "bleed"), _one(netlist, "base"), _one(netlist, "switch")
+    drive_pin, out_pin, common_pin = _SWITCH_PINS[q1.kind]
+    drive, out = q1.net(drive_pin), q1.net(out_pin)
 
     pen.diode(d1, "right")
     pen.resistor(r1, "right")
@@ -424,17 +436,28 @@ def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
     pen.ground()
     pen.go("bleed")
     pen.resistor(r3, "right")
+    if netlist.by_role("clamp"):
+        pen.wire("right", 0.25)
+        pen.junction()
+        pen.mark("clamp")
+        pen.diode(_one(netlist, "clamp"), "down")
+        pen.ground()
+        pen.go("clamp")
+        pen.wire("right", 1.0)  # room for the clamp's label between it and Q1
     pen.wire("right", 0.25)
-    pen.test_point(tp["base"], "base", "down")
+    pen.test_point(tp[drive], drive, "down")
     pen.wire("right", 0.25)
-    pen.npn(q1)
-    pen.pin(q1, "E")
+    if q1.kind == "nmos":
+        pen.nmos(q1)
+    else:
+        pen.npn(q1)
+    pen.pin(q1, common_pin)
     pen.ground()
-    pen.pin(q1, "C")
+    pen.pin(q1, out_pin)
     pen.wire("up", 0.5)
-    pen.test_point(tp["collector"], "collector", "right")
+    pen.test_point(tp[out], out, "right")
     pen.wire("up", 0.5)
-    pen.load(series_branches(netlist, top="supply", bottom="collector"), top="supply")
+    pen.load(series_branches(netlist, top="supply", bottom=out), top="supply")
     pen.test_point(tp["supply"], "supply", "up")
     pen.mark("rail")
     pen.wire("left", until=row)
@@ -444,11 +467,6 @@ def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
     pen.terminal("ground", "left")
     pen.wire("right", 0.5)
     pen.ground()
-
-
-def _draw_mosfet(pen: Pen, netlist: Netlist) -> None:
-    """MOSFET stage (drawn by the schematic work)."""
-    _draw_npn(pen, netlist)
 
 
 _POSITIVE_WIRING = (("supply", "always-on positive feed"),
@@ -478,23 +496,23 @@ _SUMMARY = ("The feed charges C1 through D1 and R1; C1 drives Q1's base through 
 _GROUND_SUMMARY = (" A grounded feed wire turns on the PNP Q2, which feeds D1 from the always-on supply; R5 holds Q2 "
                    "off when the wire is open.")
 
-NPN = _topology("npn", "Single NPN, low side", _SUMMARY, stage=SINGLE_NPN, trigger="positive", draw=_draw_npn)
+NPN = _topology("npn", "Single NPN, low side", _SUMMARY, stage=SINGLE_NPN, trigger="positive", draw=_draw_positive_feed)
 DARLINGTON_LOW = _topology("darlington", "Darlington, low side",
                            _SUMMARY + " The Darlington's gain lets C1 be far smaller for heavy loads.",
-                           stage=DARLINGTON, trigger="positive", draw=_draw_npn)
+                           stage=DARLINGTON, trigger="positive", draw=_draw_positive_feed)
 NPN_GROUND = _topology("npn-ground", "Single NPN, low side, ground-switched input", _SUMMARY + _GROUND_SUMMARY,
-                       stage=SINGLE_NPN, trigger="ground", draw=_draw_ground)
+                       stage=SINGLE_NPN, trigger="ground", draw=_draw_ground_feed)
 DARLINGTON_GROUND = _topology("darlington-ground", "Darlington, low side, ground-switched input",
-                              _SUMMARY + _GROUND_SUMMARY, stage=DARLINGTON, trigger="ground", draw=_draw_ground)
+                              _SUMMARY + _GROUND_SUMMARY, stage=DARLINGTON, trigger="ground", draw=_draw_ground_feed)
 
 _MOSFET_SUMMARY = ("The feed charges C1 through D1 and R1; the R1-R2 divider sets the gate voltage of the "
                    "logic-level MOSFET Q1 through R3; the light fades while C1's voltage crosses the gate "
                    "threshold, and R2 drains C1 when the feed goes away.")
 MOSFET_LOW = _topology("mosfet", "Logic-level MOSFET, low side", _MOSFET_SUMMARY, stage=LOGIC_MOSFET,
-                       trigger="positive", draw=_draw_mosfet)
+                       trigger="positive", draw=_draw_positive_feed)
 MOSFET_GROUND = _topology("mosfet-ground", "Logic-level MOSFET, low side, ground-switched input",
                           _MOSFET_SUMMARY + _GROUND_SUMMARY, stage=LOGIC_MOSFET, trigger="ground",
-                          draw=_draw_mosfet)
+                          draw=_draw_ground_feed)
 
 TOPOLOGIES: dict[str, Topology] = {t.name: t for t in (NPN, DARLINGTON_LOW, MOSFET_LOW, NPN_GROUND,
                                                        DARLINGTON_GROUND, MOSFET_GROUND)}

@@ -16,6 +16,7 @@ import pytest
 
 from sheetgen import catalog
 from sheetgen.render.schematic import FONT_PT, _layout, part_label, schematic_drawing, schematic_svg
+from sheetgen.size import GATE_CLAMP
 from sheetgen.spec import spec_from_mapping
 from sheetgen.topologies import NPN, TOPOLOGIES, Values, series_branches, window_for
 
@@ -34,11 +35,17 @@ def _netlist(load: dict, topology=NPN, supply: str = "24 V"):
     spec = spec_from_mapping({"title": "test", "supply": supply, "load": load,
                               "fade": {"in": "1 s", "out": "3 s"}}, source="<test>")
     ground = topology.trigger == "ground"
-    values = Values(transistor=catalog.transistor("TIP120" if topology.stage.darlington else "BD139"),
-                    diode=catalog.diode("1N4007"), r_charge_ohm=4700.0, r_bleed_ohm=10_000.0,
+    if topology.stage.kind == "mosfet":
+        q = catalog.transistor("IRLZ44N")
+    else:
+        q = catalog.transistor("TIP120" if topology.stage.darlington else "BD139")
+    # As the sizer does: a zener across the gate where the supply could exceed the gate rating.
+    gate_at_risk = q.polarity == "nmos" and spec.supply.max_v > q.vgs_max_v
+    values = Values(transistor=q, diode=catalog.diode("1N4007"), r_charge_ohm=4700.0, r_bleed_ohm=10_000.0,
                     r_base_ohm=1200.0, c_timing_f=1000e-6, r_led_ohm=560.0,
                     ratings=(("C1", 35.0, None), ("R6" if ground else "R4", None, 0.5)),
-                    input_transistor=catalog.transistor("BC327-40") if ground else None)
+                    input_transistor=catalog.transistor("BC327-40") if ground else None,
+                    clamp=catalog.diode(GATE_CLAMP) if gate_at_risk else None)
     return topology.build(spec, values, window_for(1.0, 3.0))
 
 
@@ -163,6 +170,29 @@ def test_the_input_stage_sits_on_its_nets():
     (r5_x, r5_y), _ = pen._pins[("R5", "2")]
     (q_x, _), _ = pen._pins[("Q2", "B")]
     assert r4_y == r5_y == b_y and r4_x < r5_x < q_x  # R5 tees into the base wire between R4 and Q2
+
+
+@pytest.mark.parametrize("name", ["mosfet", "mosfet-ground"])
+def test_a_mosfet_hangs_by_its_gate_and_a_high_supply_clamps_it(name):
+    """Q1 is drawn as the MOSFET it is; on 24 V the zener drops from the gate node to ground between R3 and Q1."""
+    topology = TOPOLOGIES[name]
+    pen = _layout(_netlist(LOADS["lamp"], topology), topology)
+    (g_x, g_y), g_net = pen._pins[("Q1", "G")]
+    (d_x, d_y), d_net = pen._pins[("Q1", "D")]
+    (s_x, s_y), s_net = pen._pins[("Q1", "S")]
+    assert (g_net, d_net, s_net) == ("gate", "drain", "0")
+    assert d_y > g_y > s_y and d_x == s_x > g_x
+    (k_x, k_y), k_net = pen._pins[("D2", "K")]
+    (a_x, a_y), a_net = pen._pins[("D2", "A")]
+    (r3_x, r3_y), _ = pen._pins[("R3", "2")]
+    assert (k_net, a_net) == ("gate", "0")
+    assert k_y == g_y == r3_y > a_y and k_x == a_x and r3_x < k_x < g_x
+    kinds = {type(e).__name__ for e in pen.drawing.elements}
+    assert {"AnalogNFet", "Zener"} <= kinds and not {"BjtNpn"} & kinds
+
+    low = _layout(_netlist(LOADS["lamp"], topology, supply="12 V"), topology)
+    assert "D2" not in low.named and "Zener" not in {type(e).__name__ for e in low.drawing.elements}
+    assert low.collisions == []
 
 
 def test_every_topology_has_a_recipe_and_the_engine_stays_clear_of_schemdraw():

@@ -21,8 +21,12 @@ SHEET_GLYPHS = "µΩ°±–×≤≥→·²"
 
 
 def register() -> None:
-    """Register both faces and their family with reportlab; safe to call again."""
-    from reportlab.lib.fonts import addMapping
+    """Register both faces and their family with reportlab; safe to call again.
+
+    The family also becomes reportlab's default graphics font: every vector
+    drawing opens by selecting that default, and left at Helvetica it would put
+    an unembedded font into the PDF even though no glyph is drawn with it.
+    """
     from reportlab.pdfbase import pdfmetrics
     from reportlab.pdfbase.ttfonts import TTFont
 
@@ -32,8 +36,8 @@ def register() -> None:
     for name, filename in _FILES.items():
         with resources.as_file(folder / filename) as path:
             pdfmetrics.registerFont(TTFont(name, str(path)))
-    for bold, italic, face in ((0, 0, REGULAR), (1, 0, BOLD), (0, 1, REGULAR), (1, 1, BOLD)):
-        addMapping(REGULAR, bold, italic, face)
+    pdfmetrics.registerFontFamily(REGULAR, normal=REGULAR, bold=BOLD, italic=REGULAR, boldItalic=BOLD,
+                                  baseFontFor="graphics")
 
 
 def missing_glyphs(text: str, *, font: str = REGULAR) -> str:

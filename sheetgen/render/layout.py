@@ -36,7 +36,7 @@ __all__ = [
 ]
 
 #: Every block a layout may place; the renderer has one flowable for each.
-BLOCK_NAMES = ("summary", "schematic", "parts", "timing", "heat", "bench", "wiring", "cautions")
+BLOCK_NAMES = ("summary", "schematic", "parts", "timing", "heat", "bench", "tuning", "wiring", "cautions")
 
 #: Blocks every sheet must carry, whatever the layout says.
 REQUIRED_BLOCKS = ("cautions",)

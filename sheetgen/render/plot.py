@@ -116,7 +116,7 @@ def panels_drawing(*, width_pt: float, height_pt: float, panels: tuple[Panel, ..
     right_w = _axis_room(right) if right is not None else 8.0
     legend_h = 12.0 * _legend_rows(legend, width_pt) if legend else 0.0
     bottom = 26.0 + legend_h
-    top_pad = 14.0 if any(p.heading for p in panels) else 6.0
+    top_pad = 14.0 if any(p.heading or p.events for p in panels) else 6.0
     plot_h = height_pt - bottom - top_pad
     usable = width_pt - left_w - right_w - gap_pt * (len(panels) - 1)
     panel_w = usable / len(panels)
@@ -174,8 +174,6 @@ def _panel(d: Drawing, p: Panel, *, x0, y0, w, h, left: Axis, right: Axis | None
         d.add(Line(x, y0, x, y0 - TICK_PT, strokeColor=BLACK, strokeWidth=0.6))
         d.add(String(x, y0 - TICK_PT - LABEL_PT - 0.5, tick_label(t, xt), fontName=REGULAR, fontSize=LABEL_PT,
                      textAnchor="middle", fillColor=BLACK))
-    d.add(String(x0 + w / 2, y0 - TICK_PT - LABEL_PT - AXIS_TITLE_PT - 3.5, p.x_title, fontName=REGULAR,
-                 fontSize=AXIS_TITLE_PT, textAnchor="middle", fillColor=BLACK))
     if p.heading:
         d.add(String(x0, y0 + h + 4.0, p.heading, fontName=BOLD, fontSize=AXIS_TITLE_PT, fillColor=BLACK))
     if show_left:
@@ -183,12 +181,24 @@ def _panel(d: Drawing, p: Panel, *, x0, y0, w, h, left: Axis, right: Axis | None
     if show_right and right is not None:
         _value_axis(d, right, right.ticks or nice_ticks(right.lo, right.hi), x=x0 + w, y0=y0, h=h, side=1)
 
+    heading_end = x0 + (stringWidth(p.heading, BOLD, AXIS_TITLE_PT) + 6 if p.heading else 0)
+    events_labels: list[tuple[float, float, str]] = []
+    x_title_notes: list[str] = []
     for x_event, label in p.events:
         x = float(px(x_event))
         d.add(Line(x, y0, x, y0 + h, strokeColor=BLACK, strokeWidth=0.6, strokeDashArray=(1, 2)))
         if label:
-            d.add(String(x + 2, y0 + h - LABEL_PT - 1, label, fontName=REGULAR, fontSize=LABEL_PT, fillColor=BLACK))
-
+            # Above the frame, where no curve runs, centred on the line; if the heading is in the way
+            # the axis title says which line it is instead.
+            lw = stringWidth(label, REGULAR, LABEL_PT)
+            lx = min(x - lw / 2, x0 + w - lw)
+            if lx >= heading_end:
+                events_labels.append((lx, y0 + h + 4.0, label))
+            else:
+                x_title_notes.append(f"dotted: {label}")
+    x_title = "; ".join([p.x_title, *x_title_notes])
+    d.add(String(x0 + w / 2, y0 - TICK_PT - LABEL_PT - AXIS_TITLE_PT - 3.5, x_title, fontName=REGULAR,
+                 fontSize=AXIS_TITLE_PT, textAnchor="middle", fillColor=BLACK))
     clip = Group()
     for s in p.series:
         axis = right if (s.right_axis and right is not None) else left
@@ -200,6 +210,8 @@ def _panel(d: Drawing, p: Panel, *, x0, y0, w, h, left: Axis, right: Axis | None
         clip.add(PolyLine(pts, strokeColor=BLACK, strokeWidth=s.width_pt, strokeDashArray=s.dash,
                           strokeLineJoin=1, strokeLineCap=0))
     d.add(clip)
+    for lx, ly, label in events_labels:
+        d.add(String(lx, ly, label, fontName=REGULAR, fontSize=LABEL_PT, fillColor=BLACK))
 
     for m in p.markers:
         axis = right if (m.right_axis and right is not None) else left

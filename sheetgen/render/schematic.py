@@ -220,17 +220,24 @@ class SchemdrawPen:
     def diode(self, part: Part, toward: Direction) -> None:
         import schemdraw.elements as elm
 
-        self._two_terminal(part, elm.Diode(), toward)
+        # A clamp is a zener working in breakdown: its symbol warns the builder off fitting a plain rectifier there.
+        self._two_terminal(part, elm.Zener() if part.role == "clamp" else elm.Diode(), toward)
 
     def npn(self, part: Part) -> None:
         import schemdraw.elements as elm
 
-        self._bjt(part, elm.BjtNpn(circle=True), "npn")
+        self._transistor(part, elm.BjtNpn(circle=True).right(), "npn", ("collector", "base", "emitter"))
 
     def pnp(self, part: Part) -> None:
         import schemdraw.elements as elm
 
-        self._bjt(part, elm.BjtPnp(circle=True), "pnp")
+        self._transistor(part, elm.BjtPnp(circle=True).right(), "pnp", ("collector", "base", "emitter"))
+
+    def nmos(self, part: Part) -> None:
+        import schemdraw.elements as elm
+
+        # Gate centred between drain and source, so it reads like the BJTs; the source arrow says n-channel.
+        self._transistor(part, elm.AnalogNFet(offset_gate=False).reverse(), "nmos", ("drain", "gate", "source"))
 
     def load(self, branches: Sequence[Sequence[Part]], *, top: str) -> None:
         bottom = self._current()
@@ -420,15 +427,22 @@ class SchemdrawPen:
             at = (mid[0] + (plus_end[0] - mid[0]) * 0.3, mid[1] + (plus_end[1] - mid[1]) * 0.3)
             self._ask(["+"], _spots(at, across[::-1], half + 0.05), _SIGN)
 
-    def _bjt(self, part: Part, element: Any, kind: str) -> None:
-        """A transistor hung by its base from the cursor, labelled to its right, clear of its leads."""
+    def _transistor(self, part: Part, element: Any, kind: str, anchors: tuple[str, str, str]) -> None:
+        """A transistor hung by its control pin from the cursor, labelled to its right, clear of its leads.
+
+        ``anchors`` names the symbol's anchors in the order of the kind's pins
+        (``PIN_ORDER``: output, control, common), so every kind shares one check.
+        """
         if part.kind != kind:
             raise ValueError(f"{part.ref} is drawn as a {kind} but the netlist has a {part.kind}")
-        if part.net("B") != self._current():
-            raise ValueError(f"{part.ref}: base is on {part.net('B')!r}, the cursor on {self._net!r}")
-        q = self.drawing.add(element.right().anchor("base").at(self._here))
-        for pin, anchor in (("C", q.collector), ("B", q.base), ("E", q.emitter)):
-            self._pins[(part.ref, pin)] = ((float(anchor[0]), float(anchor[1])), part.net(pin))
+        pins = PIN_ORDER[kind]
+        control = pins[1]
+        if part.net(control) != self._current():
+            raise ValueError(f"{part.ref}: {anchors[1]} is on {part.net(control)!r}, the cursor on {self._net!r}")
+        q = self.drawing.add(element.anchor(anchors[1]).at(self._here))
+        for pin, name in zip(pins, anchors):
+            x, y = q.absanchors[name]
+            self._pins[(part.ref, pin)] = ((float(x), float(y)), part.net(pin))
         box = q.get_bbox(transform=True, includetext=False)
         mid_y = (box.ymin + box.ymax) / 2
         self._ask(part_label(part), [_Spot(box.xmax + GAP, mid_y - 0.2, "left", "center"),
