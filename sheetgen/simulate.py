@@ -14,7 +14,7 @@ Kirchhoff's law at their node.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -258,6 +258,17 @@ class _Limits:
         q = c.bjts.params
         self.be_vcrit = devices.junction_vcrit(q["is"], q["nf"] * devices.VT_NOMINAL)
         self.bc_vcrit = devices.junction_vcrit(q["is"], q["nr"] * devices.VT_NOMINAL)
+
+    def start_at(self, c: Compiled, x: np.ndarray) -> "_Limits":
+        """Take the junction voltages of a known state ``x`` as the previous iterate."""
+        d, q = c.diodes.nodes, c.bjts.nodes
+        if len(d):
+            self.vd = x[:, d[:, 0]] - x[:, d[:, 1]]
+        if len(q):
+            sgn = c.bjts.params["sign"]
+            self.vbe = sgn * (x[:, q[:, 1]] - x[:, q[:, 2]])
+            self.vbc = sgn * (x[:, q[:, 1]] - x[:, q[:, 0]])
+        return self
 
     def copy(self) -> "_Limits":
         new = object.__new__(_Limits)
@@ -638,10 +649,38 @@ def operating_point(netlist: Netlist, *, at_s: float, overrides: Overrides | Non
         sub = Compiled(netlist, sub_ov, bad.size)
         xs, oks, Gs, rhss = _dc_gmin_stepping(sub, at_s)
         if not oks.all():
+            xs, oks, Gs, rhss = _dc_pseudo_transient(netlist, sub_ov, bad.size, at_s, sub)
+        if not oks.all():
             raise SimulationError(f"{netlist.title}: DC operating point did not converge")
         x[bad], G[bad], rhs[bad] = xs, Gs, rhss
     return OperatingPoint(netlist=netlist, names=tuple(c.names), voltages=x,
                           source_currents=_source_currents(c, G, rhs, x))
+
+
+def _dc_pseudo_transient(netlist: Netlist, overrides: dict, n: int, at_s: float, c: Compiled):
+    """The last resort: let the circuit settle in time from rest, with every capacitor made tiny.
+
+    The DC state does not depend on capacitances, and small time steps keep
+    each Newton solve close to the previous one, which is what makes a
+    transient converge where a cold DC solve does not.  The final state is then
+    polished by one more Newton solve.
+    """
+    held = tuple(replace(s, level_v=s.level_v * s.value_at(at_s), shape=None) for s in netlist.sources)
+    settle = replace(netlist, sources=held, release_s=1e-3, stop_s=1e-3)
+    ov = dict(overrides)
+    for part in netlist.parts:
+        if part.kind == "capacitor":
+            ov[(part.ref, "value")] = np.full(n, 1e-9)
+        elif part.kind == "lamp":
+            ov[(part.ref, "CTH")] = np.full(n, 1e-9)
+    for src in netlist.sources:
+        if (src.name, "level") in ov:
+            ov[(src.name, "level")] = np.asarray(ov[(src.name, "level")]) * src.value_at(at_s)
+    tr = transient(settle, overrides=ov, n=n)
+    x0 = tr.voltages[:, -1, :]
+    lim = _Limits(c).start_at(c, x0)
+    return _newton(c, x0, c.fixed_values(at_s), _with_gmin(c, devices.GMIN), np.zeros((c.n, c.size)), lim,
+                   max_iter=200)
 
 
 def _dc_start(c: Compiled):
