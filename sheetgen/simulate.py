@@ -633,31 +633,32 @@ def operating_point(netlist: Netlist, *, at_s: float, overrides: Overrides | Non
                     n: int | None = None) -> OperatingPoint:
     """Steady DC state with the sources as they are at time ``at_s``.
 
-    Capacitors are open.  Sources are ramped up in steps (source stepping) so
-    that Newton starts every step close to the answer; members that still do
-    not converge are solved again with gmin stepping, SPICE's other fallback: a
-    large conductance from every node to ground, relaxed a decade at a time, pins
-    nodes that only reverse-biased junctions reach while Newton finds its way.
+    Capacitors are open.  Newton starts from SPICE's junction guesses; members
+    that do not converge are solved again with the sources ramped up in steps
+    (source stepping), then with gmin stepping (a large conductance from every
+    node to ground, relaxed a decade at a time, pins nodes that only
+    reverse-biased junctions reach), then by letting the circuit settle in time.
     """
     if n is None:
         n = max((np.size(a) for a in (overrides or {}).values()), default=1)
     c = Compiled(netlist, overrides, n)
-    x, ok, G, rhs = _dc_source_stepping(c, at_s)
-    if not ok.all():
+    x, ok, G, rhs = _dc_direct(c, at_s)
+    for fallback in (_dc_source_stepping, _dc_gmin_stepping, _dc_pseudo_transient):
+        if ok.all():
+            break
         bad = np.flatnonzero(~ok)
         sub_ov = {k: (np.asarray(v)[bad] if np.ndim(v) else v) for k, v in (overrides or {}).items()}
         sub = Compiled(netlist, sub_ov, bad.size)
-        xs, oks, Gs, rhss = _dc_gmin_stepping(sub, at_s)
-        if not oks.all():
-            xs, oks, Gs, rhss = _dc_pseudo_transient(netlist, sub_ov, bad.size, at_s, sub)
-        if not oks.all():
-            raise SimulationError(f"{netlist.title}: DC operating point did not converge")
+        xs, oks, Gs, rhss = fallback(sub, at_s)
         x[bad], G[bad], rhs[bad] = xs, Gs, rhss
+        ok[bad] = oks
+    if not ok.all():
+        raise SimulationError(f"{netlist.title}: DC operating point did not converge")
     return OperatingPoint(netlist=netlist, names=tuple(c.names), voltages=x,
                           source_currents=_source_currents(c, G, rhs, x))
 
 
-def _dc_pseudo_transient(netlist: Netlist, overrides: dict, n: int, at_s: float, c: Compiled):
+def _dc_pseudo_transient(c: Compiled, at_s: float):
     """The last resort: let the circuit settle in time from rest, with every capacitor made tiny.
 
     The DC state does not depend on capacitances, and small time steps keep
@@ -665,9 +666,10 @@ def _dc_pseudo_transient(netlist: Netlist, overrides: dict, n: int, at_s: float,
     transient converge where a cold DC solve does not.  The final state is then
     polished by one more Newton solve.
     """
+    netlist, n = c.netlist, c.n
     held = tuple(replace(s, level_v=s.level_v * s.value_at(at_s), shape=None) for s in netlist.sources)
     settle = replace(netlist, sources=held, release_s=1e-3, stop_s=1e-3)
-    ov = dict(overrides)
+    ov = dict(c.overrides)
     for part in netlist.parts:
         if part.kind == "capacitor":
             ov[(part.ref, "value")] = np.full(n, 1e-9)
@@ -696,6 +698,13 @@ def _with_gmin(c: Compiled, gmin: float) -> np.ndarray:
     idx = np.arange(c.n_unknown)
     G0[:, idx, idx] += gmin
     return G0
+
+
+def _dc_direct(c: Compiled, at_s: float):
+    """One Newton solve at the full sources from SPICE's junction guesses: enough for most members."""
+    x, lim, rhs0 = _dc_start(c)
+    return _newton(c, x, c.fixed_values(at_s), _with_gmin(c, devices.GMIN), rhs0, lim, max_iter=100,
+                   init_junctions=True)
 
 
 def _dc_source_stepping(c: Compiled, at_s: float):
