@@ -11,8 +11,9 @@ written with our model cards and run in ngspice is a fair judge of our solver:
 * MOSFET: Shichman-Hodges (SPICE level 1) with channel-length modulation;
 * tungsten lamp: resistance R0 (T/TROOM)^ALPHA and a radiative heat balance.
 
-Series resistances (RS, RB, RC, RE, RD) are separate linear resistors in the
-solver, exactly as SPICE places them on internal nodes.
+Series resistances (RB, RC, RE, RD) are separate linear resistors in the
+solver, exactly as SPICE places them on internal nodes; a diode's RS is
+eliminated inside the diode by the solver, which is the same equations.
 """
 
 from __future__ import annotations
@@ -52,13 +53,27 @@ def pnjlim(v_new, v_old, nvt, vcrit):
     return np.where(big, limited, v_new), big
 
 
+def junction(v, is_a, nvt):
+    """Shockley current and conductance of one junction with GMIN in parallel."""
+    e = _exp(v / nvt)
+    return is_a * (e - 1.0) + GMIN * v, is_a * e / nvt + GMIN
+
+
 def diode(v, *, is_a, n, vt=VT_NOMINAL):
     """Junction current and conductance at junction voltage ``v``."""
-    nvt = n * vt
-    e = _exp(v / nvt)
-    i = is_a * (e - 1.0) + GMIN * v
-    g = is_a * e / nvt + GMIN
-    return i, g
+    return junction(v, is_a, n * vt)
+
+
+def inverse_or_zero(x):
+    """1/x, with 0 standing for SPICE's "infinite" (VAF, IKF left unset)."""
+    return np.divide(1.0, x, out=np.zeros(np.shape(x)), where=x > 0)
+
+
+def be_leakage(vbe, ise, ne, vt=VT_NOMINAL):
+    """Base-emitter leakage current ISE (exp(vbe / NE Vt) - 1) and its conductance."""
+    nevt = np.where(ne > 0, ne, 1.5) * vt
+    e = _exp(vbe / nevt)
+    return ise * (e - 1.0), ise * e / nevt
 
 
 def bjt(vbe, vbc, *, is_a, bf, br, nf, nr, vaf, ikf, ise, ne, vt=VT_NOMINAL):
@@ -69,49 +84,37 @@ def bjt(vbe, vbc, *, is_a, bf, br, nf, nr, vaf, ikf, ise, ne, vt=VT_NOMINAL):
     currents flowing *into* the device.  A PNP uses the same call with every
     voltage and current negated.
     """
-    vtf = nf * vt
-    vtr = nr * vt
-    ebe = _exp(vbe / vtf)
-    cbe = is_a * (ebe - 1.0) + GMIN * vbe
-    gbe = is_a * ebe / vtf + GMIN
-    ebc = _exp(vbc / vtr)
-    cbc = is_a * (ebc - 1.0) + GMIN * vbc
-    gbc = is_a * ebc / vtr + GMIN
+    cbe, gbe = junction(vbe, is_a, nf * vt)
+    cbc, gbc = junction(vbc, is_a, nr * vt)
+    leak = be_leakage(vbe, ise, ne, vt) if np.any(ise) else None
+    return gummel_poon(cbe, gbe, cbc, gbc, vbc, leak, inv_bf=1.0 / bf, inv_br=1.0 / br,
+                       inv_vaf=inverse_or_zero(vaf), inv_ikf=inverse_or_zero(ikf))
 
-    if np.any(ise):
-        nevt = np.where(ne > 0, ne, 1.5) * vt
-        eben = _exp(vbe / nevt)
-        cben = ise * (eben - 1.0)
-        gben = ise * eben / nevt
-    else:
-        cben = gben = 0.0
 
-    inv_vaf = np.divide(1.0, vaf, out=np.zeros(np.shape(vaf)), where=vaf > 0)
-    inv_ikf = np.divide(1.0, ikf, out=np.zeros(np.shape(ikf)), where=ikf > 0)
+def gummel_poon(cbe, gbe, cbc, gbc, vbc, leak, *, inv_bf, inv_br, inv_vaf, inv_ikf):
+    """:func:`bjt` from its two junctions' currents and conductances.
+
+    Split out so the solver can evaluate every junction of a circuit in one
+    pass; ``leak`` is :func:`be_leakage`'s result, or None without ISE.
+    """
     q1 = 1.0 / (1.0 - inv_vaf * vbc)
-    dq1_dvbc = q1 * q1 * inv_vaf
-    q2 = inv_ikf * cbe
-    arg = np.maximum(1.0 + 4.0 * q2, 0.0)
-    sq = np.sqrt(arg)
-    sq_safe = np.where(sq > 0, sq, 1.0)
-    qb = q1 * (1.0 + sq) / 2.0
-    dqb_dvbe = np.where(sq > 0, q1 * inv_ikf * gbe / sq_safe, 0.0)
-    dqb_dvbc = dq1_dvbc * (1.0 + sq) / 2.0
+    # The knee's square root stays positive: its argument is 1 + 4 cbe / IKF and
+    # cbe > -IS for any junction voltage a circuit reaches.
+    sq = np.sqrt(np.maximum(1.0 + 4.0 * inv_ikf * cbe, 1e-30))
+    qb = q1 * (0.5 + 0.5 * sq)
+    dqb_dvbe = q1 * inv_ikf * gbe / sq
+    dqb_dvbc = q1 * inv_vaf * qb
 
     it = (cbe - cbc) / qb
     dit_dvbe = (gbe - it * dqb_dvbe) / qb
-    dit_dvbc = (-gbc - it * dqb_dvbc) / qb
-
-    ic = it - cbc / br
-    ib = cbe / bf + cben + cbc / br
-    return (
-        ic,
-        ib,
-        dit_dvbe,
-        dit_dvbc - gbc / br,
-        gbe / bf + gben,
-        gbc / br,
-    )
+    gbc_r = gbc * inv_br
+    ic = it - cbc * inv_br
+    ib = cbe * inv_bf + cbc * inv_br
+    dib_dvbe = gbe * inv_bf
+    if leak is not None:
+        ib = ib + leak[0]
+        dib_dvbe = dib_dvbe + leak[1]
+    return ic, ib, dit_dvbe, -(gbc + it * dqb_dvbc) / qb - gbc_r, dib_dvbe, gbc_r
 
 
 def mosfet_level1(vgs, vds, *, vto, kp, lam):

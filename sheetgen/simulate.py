@@ -1,7 +1,7 @@
 """Batched nonlinear transient and DC analysis of a netlist.
 
 Modified nodal analysis with Newton's method at every implicit time step, run on
-N parameter sets at once: every array carries the batch as its first axis, so a
+N parameter sets at once: every array carries the batch along one axis, so a
 thousand tolerance draws cost one pass of numpy work per Newton iteration, not a
 thousand Python loops.  The integrator is the trapezoidal rule with local
 truncation-error step control, falling back to backward Euler on the first step
@@ -10,6 +10,16 @@ after each source breakpoint (as SPICE does) so switching edges do not ring.
 Sources must have their minus terminal on ground; their nodes are then known
 voltages and drop out of the unknowns, and the current they deliver comes out of
 Kirchhoff's law at their node.
+
+Internally the batch is the *last* axis, so that picking nodes or matrix
+entries yields contiguous rows and the linear solve (:mod:`.linsolve`) runs as a
+short program of whole-batch operations on the matrix's fixed sparsity pattern.
+A diode's series resistance is eliminated inside the diode rather than solved
+for: its anode-side node is carried along and updated from the solution, so
+the Newton iterates are the ones SPICE's internal node would give.  Newton
+starts each step from the curve extrapolated through the last points, and a
+member that has converged stops iterating, so the later iterations of a step
+run only on the few members still moving.
 """
 
 from __future__ import annotations
@@ -21,6 +31,7 @@ import numpy as np
 from . import devices
 from .circuit import GROUND, Netlist, Overrides, Part
 from .errors import SimulationError
+from .linsolve import Gather, Scatter, SparseLU
 
 RELTOL = 1e-3
 VNTOL = 1e-6  # V, Newton's absolute voltage tolerance (SPICE default)
@@ -32,6 +43,7 @@ DI_FLOOR_A = 1e-6  # SPICE's allowance for its pessimistic LTE estimate
 MAX_NEWTON = 60
 MAX_DV = 5.0  # V, largest node-voltage change in one Newton iteration
 MAX_DT = 400.0  # K, largest filament-temperature change in one Newton iteration
+SPARSE_MIN_BATCH = 64  # below this LAPACK's per-member loop beats the sparse plan's fixed cost
 
 
 # --------------------------------------------------------------------- compile
@@ -45,7 +57,12 @@ class _Group:
 
 
 class Compiled:
-    """A netlist flattened into node indices and batched parameter arrays."""
+    """A netlist flattened into node indices, batched parameters and a solve plan.
+
+    ``names`` orders the nodes: the ``n_unknown`` solved for, then each
+    diode's inner node between RS and junction (carried, not solved for), then
+    the ``n_fixed`` source nodes, then ground.
+    """
 
     def __init__(self, netlist: Netlist, overrides: Overrides | None, n: int):
         self.netlist = netlist
@@ -61,24 +78,27 @@ class Compiled:
         parts, hidden = self._merge_chains(netlist, fixed)
         unknown = [net for net in netlist.nets if net not in fixed and net not in hidden]
         self._internal: list[str] = []
+        self._behind_rs: list[str] = []
         res, caps, diodes, bjts, mos, lamps = [], [], [], [], [], []
         for part in parts:
             self._add(part, unknown, res, caps, diodes, bjts, mos, lamps)
         unknown += self._internal
-        self.names = unknown + fixed + [GROUND]
+        self.names = unknown + self._behind_rs + fixed + [GROUND]
         self.n_unknown = len(unknown)
+        self.n_state = self.n_unknown + len(self._behind_rs)  # rows Newton updates; fixed nodes follow
         self.n_fixed = len(fixed)
         self.size = len(self.names)
         self.index = {name: i for i, name in enumerate(self.names)}
         self.sources = netlist.sources
         self.source_levels = np.stack([self._value(s.name, "level", s.level_v) for s in netlist.sources], axis=1)
-        self.res = self._group(res, ("g",))
-        self.caps = self._group(caps, ("c", "ic"))
-        self.diodes = self._group(diodes, ("is", "n"))
+        self.res = self._group(res, ("g",), 2)
+        self.caps = self._group(caps, ("c", "ic"), 2)
+        self.diodes = self._group(diodes, ("is", "n", "rs"))
         self.bjts = self._group(bjts, ("sign", "is", "bf", "br", "nf", "nr", "vaf", "ikf", "ise", "ne"))
         self.mos = self._group(mos, ("vto", "kp", "lam"))
         self.lamps = self._group(lamps, ("r0", "troom", "alpha", "k"))
-        self._flat_linear()
+        self._plan_devices()
+        self._plan_system()
 
     def _merge_chains(self, netlist: Netlist, fixed: list[str]):
         """Replace each series chain of identical diodes (an LED string) by one diode.
@@ -169,8 +189,13 @@ class Compiled:
             caps.append((part.ref, part.nets, {"c": self._value(part.ref, "value", part.value), "ic": np.zeros(self.n)}))
         elif k in ("diode", "led"):
             a, kk = part.nets
-            a_int = self._series(part, a, "RS", "a", res)
-            diodes.append((part.ref, (a_int, kk), {"is": self._model(part, "IS", 1e-14), "n": self._model(part, "N", 1.0)}))
+            rs = np.maximum(self._model(part, "RS", 0.0), 0.0)
+            a_int = a
+            if np.any(rs > 0):  # the junction's own anode, behind RS
+                a_int = f"{part.ref}:a"
+                self._behind_rs.append(a_int)
+            diodes.append((part.ref, (a, kk, a_int), {"is": self._model(part, "IS", 1e-14),
+                                                      "n": self._model(part, "N", 1.0), "rs": rs}))
         elif k in ("npn", "pnp"):
             c, b, e = part.nets
             c = self._series(part, c, "RC", "c", res)
@@ -199,45 +224,144 @@ class Compiled:
         else:  # pragma: no cover - PartKind is closed
             raise ValueError(f"{part.ref}: unknown kind {k}")
 
-    def _group(self, items, names) -> _Group:
+    def _group(self, items, names, width: int = 3) -> _Group:
         if not items:
-            return _Group([], np.zeros((0, 0), dtype=int), {k: np.zeros((self.n, 0)) for k in names})
+            return _Group([], np.zeros((0, width), dtype=int), {k: np.zeros((self.n, 0)) for k in names})
         refs = [r for r, _, _ in items]
         nodes = np.array([[self.index[x] for x in nets] for _, nets, _ in items], dtype=int)
         params = {k: np.stack([p[k] for _, _, p in items], axis=1) for k in names}
         return _Group(refs, nodes, params)
 
-    # Linear stamps ---------------------------------------------------------
-    def _pair_stamp(self, nodes: np.ndarray, values: np.ndarray) -> np.ndarray:
-        """Sum two-terminal conductances ``values`` (N, n_dev) into a matrix."""
-        m = np.zeros((self.n, self.size, self.size))
-        for j, (a, b) in enumerate(nodes[:, :2]):
-            v = values[:, j]
-            m[:, a, a] += v
-            m[:, b, b] += v
-            m[:, a, b] -= v
-            m[:, b, a] -= v
-        return m
+    # Solve plan --------------------------------------------------------------
+    def _plan_devices(self) -> None:
+        """Per-member device parameters (``batch``, batch last) and every pn junction in one table."""
+        vt = devices.VT_NOMINAL
+        d, q = self.diodes, self.bjts
+        self._nd, self._nq = len(d.refs), len(q.refs)
+        dp = {k: v.T for k, v in d.params.items()}
+        qp = {k: v.T for k, v in q.params.items()}
+        # Junctions: diodes, then base-emitter, then base-collector; v = sign (x[plus] - x[minus]).
+        self._j_plus = np.concatenate([d.nodes[:, 2], q.nodes[:, 1], q.nodes[:, 1]])
+        self._j_minus = np.concatenate([d.nodes[:, 1], q.nodes[:, 2], q.nodes[:, 0]])
+        j_is = np.concatenate([dp["is"], qp["is"], qp["is"]])
+        j_nvt = np.concatenate([dp["n"], qp["nf"], qp["nr"]]) * vt
+        b = {"j_is": j_is, "j_nvt": j_nvt, "j_vcrit": devices.junction_vcrit(j_is, j_nvt),
+             "inv_bf": 1.0 / qp["bf"], "inv_br": 1.0 / qp["br"],
+             "inv_vaf": devices.inverse_or_zero(qp["vaf"]), "inv_ikf": devices.inverse_or_zero(qp["ikf"])}
+        if np.any(qp["sign"] != 1.0):
+            b["q_sign"] = qp["sign"]
+            b["j_sign"] = np.concatenate([np.ones((self._nd, self.n)), qp["sign"], qp["sign"]])
+        if np.any(dp["rs"] > 0):
+            b["rs"] = dp["rs"]
+        if np.any(qp["ise"]):
+            b["ise"], b["ne"] = qp["ise"], qp["ne"]
+        b.update({k: v.T for k, v in self.mos.params.items()})
+        b.update({k: v.T for k, v in self.lamps.params.items()})
+        # One array, so narrowing the batch to some members is one gather.
+        self._batch_rows, start = {}, 0
+        for k, v in b.items():
+            self._batch_rows[k] = slice(start, start + len(v))
+            start += len(v)
+        self._batch = np.concatenate(list(b.values()))
+        self.batch = self.batch_of(self._batch)
+        folded = np.flatnonzero(d.nodes[:, 2] != d.nodes[:, 0])  # diodes with a node behind RS, in row order
+        self._fold = slice(None) if len(folded) == self._nd else folded
+        self._fold_a, self._fold_k = d.nodes[folded, 0], d.nodes[folded, 1]
+        limit = np.full((self.n_state, 1), 1.0 / MAX_DV)
+        limit[self.lamps.nodes[:, 2]] = 1.0 / MAX_DT
+        self._inv_step_limit = limit
 
-    def _flat_linear(self) -> None:
-        self.g_lin = self._pair_stamp(self.res.nodes, self.res.params["g"])
-        self.g_cap = self._pair_stamp(self.caps.nodes, self.caps.params["c"])
-        size = self.size
-        d = self.diodes.nodes
-        if len(d):
-            a, k = d[:, 0], d[:, 1]
-            self._d_flat = np.concatenate([a * size + a, k * size + k, a * size + k, k * size + a])
-        b = self.bjts.nodes
-        if len(b):
-            rows = np.concatenate([b[:, 0], b[:, 1], b[:, 2]])
-            self._q_rows = rows
-            self._q_flat = np.concatenate([r * size + b[:, c] for r in (b[:, 0], b[:, 1], b[:, 2]) for c in (0, 1, 2)])
-        m = self.mos.nodes
-        if len(m):
-            self._m_flat = np.concatenate([r * size + m[:, c] for r in (m[:, 0], m[:, 2]) for c in (0, 1, 2)])
-        lp = self.lamps.nodes
-        if len(lp):
-            self._l_flat = np.concatenate([r * size + lp[:, c] for r in (lp[:, 0], lp[:, 1], lp[:, 2]) for c in (0, 1, 2)])
+    def junction_guess(self) -> np.ndarray:
+        """SPICE's first DC guess: diodes and base-emitters at their critical voltage, base-collectors at 0 V."""
+        v = self.batch["j_vcrit"].copy()
+        v[self._nd + self._nq:] = 0.0
+        return v
+
+    def batch_of(self, arr: np.ndarray) -> dict:
+        """The per-member parameters by name, as views of ``arr`` (rows of ``_batch``, some members)."""
+        return {k: arr[sl] for k, sl in self._batch_rows.items()}
+
+    def _plan_system(self) -> None:
+        """Matrix slots, the sparse LU plan, the linear values and where each stamp lands.
+
+        Every value of the Newton system lives in one (slots, N) array: first
+        the LU's entries and right-hand side over the unknowns, then the
+        entries coupling unknown rows to source nodes (moved to the right-hand
+        side each iteration), then the source rows with their own right-hand
+        side (for the source currents).
+        """
+        n, nu, f0, nf = self.n, self.n_unknown, self.n_state, self.n_fixed
+
+        def live(i):
+            return i < nu or f0 <= i < f0 + nf
+
+        # _stamp stacks its values in blocks of one row per device; each block
+        # feeds matrix entries (row, col) and rhs terms (row, RHS), named here by
+        # position in the device's node tuple, added (+1) or subtracted (-1).
+        rhs = -1
+        bjt = [[(0, 0, -1)], [(0, 1, 1)], [(0, 2, -1)], [(1, 0, -1)], [(1, 1, 1)], [(1, 2, -1)],
+               [(2, 0, 1)], [(2, 1, -1)], [(2, 2, 1)], [(0, rhs, 1)], [(1, rhs, 1)], [(2, rhs, -1)]]
+        mos = [[(0, 0, 1), (2, 0, -1)], [(0, 1, 1), (2, 1, -1)], [(0, 2, -1), (2, 2, 1)],
+               [(0, rhs, -1), (2, rhs, 1)]]
+        lamp = [[(0, 0, 1), (0, 1, -1), (1, 0, -1), (1, 1, 1)], [(0, 2, 1), (1, 2, -1)],
+                [(2, 0, -1), (2, 1, 1)], [(2, 2, -1)], [(0, rhs, 1), (1, rhs, -1)], [(2, rhs, 1)]]
+        stamps = [(self.diodes.nodes, [[(0, 0, 1), (1, 1, 1), (0, 1, -1), (1, 0, -1)], [(1, rhs, 1), (0, rhs, -1)]]),
+                  (self.bjts.nodes, bjt), (self.mos.nodes, mos), (self.lamps.nodes, lamp)]
+        stamp_keys, stamp_rows, stamp_signs, row = [], [], [], 0
+        for nodes, blocks in stamps:
+            for block in blocks:
+                for j, nd in enumerate(nodes):
+                    for rt, ct, sign in block:
+                        key = (nd[rt], rhs if ct == rhs else nd[ct])
+                        if live(key[0]) and (key[1] == rhs or live(key[1])):
+                            stamp_keys.append(key)
+                            stamp_rows.append(row + j)
+                            stamp_signs.append(sign)
+                row += len(nodes)
+
+        def pair(a, b):
+            return [((a, a), 1.0), ((b, b), 1.0), ((a, b), -1.0), ((b, a), -1.0)]
+
+        lin_keys = {k for nodes in (self.res.nodes, self.caps.nodes) for a, b in nodes
+                    for k, _ in pair(a, b) if live(k[0]) and live(k[1])}
+        keys = set(stamp_keys) | lin_keys
+        self.lu = SparseLU(nu, [k for k in keys if k[0] < nu and 0 <= k[1] < nu])
+        slot = dict(self.lu.slot)
+        self._n_lu = len(slot)
+        uf = sorted(k for k in keys if k[0] < nu and k[1] >= f0)
+        fx = sorted(k for k in keys if k[0] >= f0 and k[1] >= 0)
+        for k in uf + fx:
+            slot[k] = len(slot)
+        for r in range(f0, f0 + nf):
+            slot[(r, rhs)] = len(slot)
+        self._uf = slice(self._n_lu, self._n_lu + len(uf))
+        self._uf_cols = np.array([c for _, c in uf], dtype=int)
+        self._uf_scatter = Scatter([slot[(r, rhs)] for r, _ in uf])
+        self._fx = slice(self._uf.stop, self._uf.stop + len(fx))
+        self._fx_cols = np.array([c for _, c in fx], dtype=int)
+        self._src_scatter = Scatter([r - f0 for r, _ in fx])
+        self._src = slice(self._fx.start, self._fx.stop + nf)  # the source rows: entries, then rhs
+        self._src_g = slice(0, len(fx))
+        self._src_rhs = slice(len(fx), len(fx) + nf)
+        self._stamp_scatter = Gather([slot[k] for k in stamp_keys], stamp_rows, stamp_signs, len(slot), row)
+        self._diag = np.array([slot[(i, i)] for i in range(nu)], dtype=int)
+
+        self._w_lin = np.zeros((len(slot), n))
+        self._w_cap = np.zeros((len(slot), n))
+        for w, group, name in ((self._w_lin, self.res, "g"), (self._w_cap, self.caps, "c")):
+            for (a, b), v in zip(group.nodes, group.params[name].T):
+                for key, sgn in pair(a, b):
+                    if key in slot:
+                        w[slot[key]] += sgn * v
+        cap_t, cap_s = [], []
+        for j, (a, b) in enumerate(self.caps.nodes):
+            for node, src in ((a, j), (b, len(self.caps.nodes) + j)):
+                if live(node):
+                    cap_t.append(slot[(node, rhs)])
+                    cap_s.append(src)
+        self._cap_scatter = Scatter(cap_t, cap_s)  # of [i; -i]: a capacitor's history current into its nodes
+        cap_slots = np.flatnonzero(np.any(self._w_cap != 0.0, axis=1))
+        self._cap_slots, self._w_cap = cap_slots, self._w_cap[cap_slots]
 
     def fixed_values(self, t_s: float, scale: float = 1.0) -> np.ndarray:
         """Source node voltages at time ``t_s``, shape (N, n_fixed)."""
@@ -246,188 +370,203 @@ class Compiled:
 
 
 # ---------------------------------------------------------------- nonlinear
-class _Limits:
-    """Junction voltages of the previous Newton iterate, for SPICE-style limiting."""
+def _stamp(c: Compiled, p: dict, x: np.ndarray, vj_old: np.ndarray, m0: np.ndarray, x_uf: np.ndarray,
+           v_start: np.ndarray | None = None):
+    """The Newton system at iterate ``x``: every device's linearisation added to ``m0``.
 
-    def __init__(self, c: Compiled):
-        self.vd = np.zeros_like(c.diodes.params["is"])
-        self.vbe = np.zeros_like(c.bjts.params["is"])
-        self.vbc = np.zeros_like(c.bjts.params["is"])
-        nvt = c.diodes.params["n"] * devices.VT_NOMINAL
-        self.d_vcrit = devices.junction_vcrit(c.diodes.params["is"], nvt)
-        q = c.bjts.params
-        self.be_vcrit = devices.junction_vcrit(q["is"], q["nf"] * devices.VT_NOMINAL)
-        self.bc_vcrit = devices.junction_vcrit(q["is"], q["nr"] * devices.VT_NOMINAL)
+    ``p`` holds the members' parameters (``Compiled.batch`` or a narrowing of
+    it) and ``vj_old`` their junction voltages at the previous iterate, for
+    SPICE's limiting; ``v_start`` replaces the junction voltages of ``x``
+    (SPICE's guesses for a DC solve from nothing).  Returns the system (a new
+    array laid out as :meth:`Compiled._plan_system` says), the junction
+    voltages used, a mask of members where limiting acted (or None) and, for
+    the diodes with a node behind RS, what :func:`_behind_rs` needs.
+    """
+    blocks = []
+    limited = fold = None
+    vj = vj_old
+    if len(c._j_plus):
+        v = _junction_voltages(c, p, x) if v_start is None else v_start
+        vj, hit = devices.pnjlim(v, vj_old, p["j_nvt"], p["j_vcrit"])
+        if hit.any():
+            limited = hit.any(axis=0)
+        ij, gj = devices.junction(vj, p["j_is"], p["j_nvt"])
 
-    def start_at(self, c: Compiled, x: np.ndarray) -> "_Limits":
-        """Take the junction voltages of a known state ``x`` as the previous iterate."""
-        d, q = c.diodes.nodes, c.bjts.nodes
-        if len(d):
-            self.vd = x[:, d[:, 0]] - x[:, d[:, 1]]
-        if len(q):
-            sgn = c.bjts.params["sign"]
-            self.vbe = sgn * (x[:, q[:, 1]] - x[:, q[:, 2]])
-            self.vbc = sgn * (x[:, q[:, 1]] - x[:, q[:, 0]])
-        return self
+    nd, nq = c._nd, c._nq
+    if nd:
+        i_j, g_j, v_j = ij[:nd], gj[:nd], vj[:nd]
+        if "rs" in p:
+            # RS in series: the terminal sees g_j / (1 + RS g_j) at the terminal
+            # voltage v_j + RS i_j, exactly what solving for the inner node gives.
+            rs = p["rs"]
+            share = 1.0 / (1.0 + rs * g_j)
+            g = g_j * share
+            v_t = v_j + rs * i_j
+            fold = (v_j[c._fold], v_t[c._fold], share[c._fold])
+        else:
+            g, v_t = g_j, v_j
+        blocks += [g, i_j - g * v_t]
 
-    def copy(self) -> "_Limits":
-        new = object.__new__(_Limits)
-        new.__dict__ = {k: v.copy() for k, v in self.__dict__.items()}
-        return new
+    if nq:
+        be, bc = slice(nd, nd + nq), slice(nd + nq, nd + 2 * nq)
+        vbe, vbc = vj[be], vj[bc]
+        leak = devices.be_leakage(vbe, p["ise"], p["ne"]) if "ise" in p else None
+        ic, ib, dic_be, dic_bc, dib_be, dib_bc = devices.gummel_poon(
+            ij[be], gj[be], ij[bc], gj[bc], vbc, leak,
+            inv_bf=p["inv_bf"], inv_br=p["inv_br"], inv_vaf=p["inv_vaf"], inv_ikf=p["inv_ikf"])
+        # Linearised about the limited junction voltages; rows C, B, E by (vc, vb, ve).
+        r_c = dic_be * vbe + dic_bc * vbc - ic
+        r_b = dib_be * vbe + dib_bc * vbc - ib
+        if "q_sign" in p:
+            r_c *= p["q_sign"]
+            r_b *= p["q_sign"]
+        j_cb, j_bb = dic_be + dic_bc, dib_be + dib_bc
+        blocks += [dic_bc, j_cb, dic_be, dib_bc, j_bb, dib_be,
+                   dic_bc + dib_bc, j_cb + j_bb, dic_be + dib_be, r_c, r_b, r_c + r_b]
 
-
-def _stamp_nonlinear(c: Compiled, x: np.ndarray, lim: _Limits, G: np.ndarray, rhs: np.ndarray,
-                     init_junctions: bool = False) -> np.ndarray:
-    """Add every nonlinear device's linearisation at ``x``; return the 'limited' mask (N,)."""
-    n, size = c.n, c.size
-    Gf = G.reshape(n, size * size)
-    limited = np.zeros(n, dtype=bool)
-    vt = devices.VT_NOMINAL
-
-    d = c.diodes
-    if d.refs:
-        a, k = d.nodes[:, 0], d.nodes[:, 1]
-        v = x[:, a] - x[:, k]
-        nvt = d.params["n"] * vt
-        if init_junctions:  # SPICE's first DC iteration: every junction starts at its critical voltage
-            v = lim.d_vcrit
-        v, hit = devices.pnjlim(v, lim.vd, nvt, lim.d_vcrit)
-        lim.vd = v
-        limited |= hit.any(axis=1)
-        i, g = devices.diode(v, is_a=d.params["is"], n=d.params["n"])
-        ieq = i - g * v
-        np.add.at(Gf.T, c._d_flat, np.concatenate([g, g, -g, -g], axis=1).T)
-        np.add.at(rhs.T, np.concatenate([a, k]), np.concatenate([-ieq, ieq], axis=1).T)
-
-    q = c.bjts
-    if q.refs:
-        p = q.params
-        s = p["sign"]
-        cn, bn, en = q.nodes[:, 0], q.nodes[:, 1], q.nodes[:, 2]
-        vbe = s * (x[:, bn] - x[:, en])
-        vbc = s * (x[:, bn] - x[:, cn])
-        nvt_f, nvt_r = p["nf"] * vt, p["nr"] * vt
-        if init_junctions:  # base-emitter at its critical voltage, base-collector at zero
-            vbe, vbc = lim.be_vcrit, np.zeros_like(vbc)
-        vbe, h1 = devices.pnjlim(vbe, lim.vbe, nvt_f, lim.be_vcrit)
-        vbc, h2 = devices.pnjlim(vbc, lim.vbc, nvt_r, lim.bc_vcrit)
-        lim.vbe, lim.vbc = vbe, vbc
-        limited |= (h1 | h2).any(axis=1)
-        ic, ib, dic_be, dic_bc, dib_be, dib_bc = devices.bjt(
-            vbe, vbc, is_a=p["is"], bf=p["bf"], br=p["br"], nf=p["nf"], nr=p["nr"],
-            vaf=p["vaf"], ikf=p["ikf"], ise=p["ise"], ne=p["ne"])
-        # Terminal currents in node terms; derivatives w.r.t. (vc, vb, ve).
-        Ic, Ib = s * ic, s * ib
-        jc = (-dic_bc, dic_be + dic_bc, -dic_be)
-        jb = (-dib_bc, dib_be + dib_bc, -dib_be)
-        je = tuple(-(u + w) for u, w in zip(jc, jb))
-        # Linearise around the limited junction voltages, not the raw iterate.
-        vb_l = x[:, en] + s * vbe
-        vc_l = vb_l - s * vbc
-        vnodes = (vc_l, vb_l, x[:, en])
-        ieq = []
-        for I, J in ((Ic, jc), (Ib, jb), (-(Ic + Ib), je)):
-            ieq.append(I - sum(Jk * vk for Jk, vk in zip(J, vnodes)))
-        vals = np.concatenate([*jc, *jb, *je], axis=1)
-        np.add.at(Gf.T, c._q_flat, vals.T)
-        np.add.at(rhs.T, c._q_rows, -np.concatenate(ieq, axis=1).T)
-
-    m = c.mos
-    if m.refs:
-        p = m.params
-        dn, gn, sn = m.nodes[:, 0], m.nodes[:, 1], m.nodes[:, 2]
-        vgs = x[:, gn] - x[:, sn]
-        vds = x[:, dn] - x[:, sn]
+    if c.mos.refs:
+        dn, gn, sn = c.mos.nodes.T
+        vgs = x[gn] - x[sn]
+        vds = x[dn] - x[sn]
         i_d, gm, gds = devices.mosfet_level1(vgs, vds, vto=p["vto"], kp=p["kp"], lam=p["lam"])
-        jd = (gds, gm, -(gm + gds))
-        js = tuple(-u for u in jd)
-        ieq_d = i_d - gm * vgs - gds * vds
-        np.add.at(Gf.T, c._m_flat, np.concatenate([*jd, *js], axis=1).T)
-        np.add.at(rhs.T, np.concatenate([dn, sn]), np.concatenate([-ieq_d, ieq_d], axis=1).T)
+        blocks += [gds, gm, gm + gds, i_d - gm * vgs - gds * vds]
 
-    lp = c.lamps
-    if lp.refs:
-        p = lp.params
-        an, bn2, tn = lp.nodes[:, 0], lp.nodes[:, 1], lp.nodes[:, 2]
-        v = x[:, an] - x[:, bn2]
-        t = np.maximum(x[:, tn], 1.0)
+    if c.lamps.refs:
+        an, bn, tn = c.lamps.nodes.T
+        v = x[an] - x[bn]
+        t = np.maximum(x[tn], 1.0)
         i, di_dv, di_dt, p_net, dp_dv, dp_dt = devices.lamp(
             v, t, r0_ohm=p["r0"], t_room_k=p["troom"], alpha=p["alpha"], k_w_per_k4=p["k"])
-        ja = (di_dv, -di_dv, di_dt)
-        jb = (-di_dv, di_dv, -di_dt)
-        jt = (-dp_dv, dp_dv, -dp_dt)
-        xs = (x[:, an], x[:, bn2], t)
-        ieq = [I - sum(Jk * vk for Jk, vk in zip(J, xs)) for I, J in ((i, ja), (-i, jb), (-p_net, jt))]
-        np.add.at(Gf.T, c._l_flat, np.concatenate([*ja, *jb, *jt], axis=1).T)
-        np.add.at(rhs.T, np.concatenate([an, bn2, tn]), -np.concatenate(ieq, axis=1).T)
-    return limited
+        blocks += [di_dv, di_dt, dp_dv, dp_dt, di_dv * v + di_dt * t - i, p_net - dp_dv * v - dp_dt * t]
+
+    m = c._stamp_scatter.onto(m0, blocks)
+    c._uf_scatter.sub(m, m[c._uf] * x_uf)  # known source voltages go to the right-hand side
+    return m, vj, limited, fold
 
 
-def _solve(A: np.ndarray, b: np.ndarray) -> np.ndarray:
-    """Batched dense solve; small systems, so numpy's LAPACK loop is fine.
+def _junction_voltages(c: Compiled, p: dict, x: np.ndarray) -> np.ndarray:
+    """Every junction's voltage (diodes, base-emitters, base-collectors) at node voltages ``x``."""
+    v = x[c._j_plus] - x[c._j_minus]
+    if "j_sign" in p:
+        v *= p["j_sign"]
+    return v
 
-    A member whose matrix is singular (or holds non-finite numbers, after a wild
-    Newton step) gets NaN, which the caller treats as not converged, instead of
-    stopping the whole batch.
+
+def _behind_rs(c: Compiled, y: np.ndarray, fold) -> np.ndarray:
+    """Nodes behind diodes' RS at the solution ``y``: the inner node SPICE would have solved for."""
+    v_j, v_t, share = fold
+    k = y[c._fold_k]
+    return k + v_j + (y[c._fold_a] - k - v_t) * share
+
+
+def _solve(c: Compiled, m: np.ndarray, rebuild) -> np.ndarray:
+    """The unknowns' Newton solution, shape (n_unknown, N); overwrites ``m``'s LU part.
+
+    ``rebuild()`` gives the system again for LAPACK when the sparse plan meets
+    a collapsed pivot.  A member whose matrix is singular (or holds non-finite
+    numbers, after a wild Newton step) gets NaN, which the caller treats as not
+    converged, instead of stopping the whole batch.
     """
-    if A.shape[1] == 0:
-        return b.copy()
+    if m.shape[1] >= SPARSE_MIN_BATCH:
+        x = c.lu.solve(m[:c._n_lu])
+        if x is not None:
+            return x
+        m = rebuild()
     try:
-        return np.linalg.solve(A, b[..., None])[..., 0]
+        return c.lu.dense_solve(m[:c._n_lu])
     except np.linalg.LinAlgError:
+        a, b = c.lu.dense(m[:c._n_lu])
         out = np.full(b.shape, np.nan)
-        for k in range(A.shape[0]):
-            if np.all(np.isfinite(A[k])) and np.all(np.isfinite(b[k])):
+        for k in range(a.shape[0]):
+            if np.all(np.isfinite(a[k])) and np.all(np.isfinite(b[k])):
                 try:
-                    out[k] = np.linalg.solve(A[k], b[k])
+                    out[k] = np.linalg.solve(a[k], b[k])
                 except np.linalg.LinAlgError:
                     pass
-        return out
+        return out.T
 
 
-def _newton(c: Compiled, x0: np.ndarray, xf: np.ndarray, G0: np.ndarray, rhs0: np.ndarray,
-            lim: _Limits, max_iter: int = MAX_NEWTON, init_junctions: bool = False):
-    """Newton iterations at one time point; returns (x, converged mask, G, rhs).
+def _newton(c: Compiled, x0: np.ndarray, xf: np.ndarray, m0: np.ndarray, vj: np.ndarray,
+            max_iter: int = MAX_NEWTON, init_junctions: bool = False):
+    """Newton iterations at one time point.
 
-    ``init_junctions`` linearises the first iteration at SPICE's junction
-    starting guesses rather than at ``x0`` (for a DC solve from nothing).
+    ``x0`` (n_state, N) is the starting point, ``xf`` (n_fixed, N) the source
+    voltages now, ``m0`` the linear part of the system and ``vj`` the
+    junction voltages behind ``x0``.  ``init_junctions`` linearises the first
+    iteration at SPICE's junction starting guesses rather than at ``x0`` (for
+    a DC solve from nothing).  Members stop iterating once converged,
+    so the later iterations run only on the few that still move.  Returns
+    (x, converged mask, the source rows of each member's last system,
+    junction voltages).
     """
-    nu = c.n_unknown
-    x = x0.copy()
-    x[:, nu:nu + c.n_fixed] = xf
-    x[:, -1] = 0.0
-    th = c.lamps.nodes[:, 2] if c.lamps.refs else None
-    step_limit = np.full(nu, MAX_DV)
-    if th is not None:
-        step_limit[th] = MAX_DT
-    done = np.zeros(c.n, dtype=bool)
-    for it in range(max_iter):
-        G = G0.copy()
-        rhs = rhs0.copy()
-        limited = _stamp_nonlinear(c, x, lim, G, rhs, init_junctions and it == 0)
-        A = G[:, :nu, :nu]
-        b = rhs[:, :nu] - np.einsum("nij,nj->ni", G[:, :nu, nu:], x[:, nu:])
-        xu = _solve(A, b)
-        bad = ~np.all(np.isfinite(xu), axis=1)
-        xu[bad] = x[bad, :nu]  # leave a failed member where it was; it stays unconverged
-        step = xu - x[:, :nu]
+    nu, ns = c.n_unknown, c.n_state
+    x = np.empty((c.size, c.n))
+    x[:ns] = x0
+    x[ns:ns + c.n_fixed] = xf
+    x[-1] = 0.0
+    th = c.lamps.nodes[:, 2]
+    # The members still iterating (None while it is all of them), and their
+    # slices of everything kept per member.
+    act = None
+    xa, vja, m0a, p = x, vj, m0, c.batch
+    x_uf = x[c._uf_cols]
+    y = x.copy()  # the solution, beside the known voltages
+    v_start = c.junction_guess() if init_junctions else None
+    for _ in range(max_iter):
+        m, vj_new, limited, fold = _stamp(c, p, xa, vja, m0a, x_uf, v_start)
+        if nu:
+            y[:nu] = _solve(c, m, lambda: _stamp(c, p, xa, vja, m0a, x_uf, v_start)[0])
+        if fold is not None:
+            y[nu:ns] = _behind_rs(c, y, fold)
+        v_start = None
+        step = y[:ns] - xa[:ns]
+        size = np.abs(step)
+        peak = size.max() if ns else 0.0
+        if not np.isfinite(peak):  # a member's solve failed: it stays where it was, unconverged
+            bad = ~np.all(np.isfinite(step), axis=0)
+            step[:, bad] = 0.0
+            size[:, bad] = 0.0
+            limited = bad if limited is None else limited | bad
+            peak = size.max()
         # Damped Newton: no node moves more than MAX_DV (a lamp's thermal node
         # more than MAX_DT) in one iteration, so a poor linearisation cannot fling
         # the iterate far from the physical region.
-        ratio = np.max(np.abs(step) / step_limit, axis=1, initial=0.0)
-        damped = ratio > 1.0
-        step = step / np.maximum(ratio, 1.0)[:, None]
-        xu = x[:, :nu] + step
-        if th is not None:  # a filament is never colder than the room it sits in
-            xu[:, th] = np.maximum(xu[:, th], c.lamps.params["troom"])
-        dx = np.abs(step)
-        ok = (np.all(dx <= RELTOL * np.maximum(np.abs(xu), np.abs(x[:, :nu])) + VNTOL, axis=1) & ~limited & ~damped
-              & ~bad)
-        x[:, :nu] = xu
-        done = ok
+        any_damped = peak > MAX_DV  # MAX_DV is the tightest limit: below it none is damped
+        if any_damped:
+            ratio = np.max(size * c._inv_step_limit, axis=0)
+            damped = ratio > 1.0
+            scale = 1.0 / np.maximum(ratio, 1.0)
+            step *= scale
+            size *= scale
+        tol = np.abs(xa[:ns])
+        xa[:ns] += step
+        if len(th):  # a filament is never colder than the room it sits in
+            xa[th] = np.maximum(xa[th], p["troom"])
+        np.maximum(tol, np.abs(xa[:ns]), out=tol)
+        tol *= RELTOL
+        tol += VNTOL
+        done = np.all(size <= tol, axis=0)
+        if any_damped:
+            done &= ~damped
+        if limited is not None:
+            done &= ~limited
+        if act is None:
+            vj, src, ok = vj_new, m[c._src], done
+        else:
+            x[:, act] = xa
+            vj[:, act] = vj_new
+            src[:, act] = m[c._src]
+            ok[act] = done
         if done.all():
             break
-    return x, done, G, rhs
+        vja = vj_new
+        if done.any():
+            keep = ~done
+            act = np.flatnonzero(keep) if act is None else act[keep]
+            xa, vja, m0a, x_uf = x[:, act], vj_new[:, keep], m0[:, act], x_uf[:, keep]
+            y = xa.copy()
+            p = c.batch_of(c._batch[:, act])
+    return x, ok, src, vj
 
 
 # ------------------------------------------------------------------ results
@@ -491,11 +630,26 @@ class Traces:
         return self.source_currents[:, :, idx]
 
 
-def _source_currents(c: Compiled, G: np.ndarray, rhs: np.ndarray, x: np.ndarray) -> np.ndarray:
-    """Current each source delivers: the KCL imbalance at its node."""
-    nu, nf = c.n_unknown, c.n_fixed
-    rows = slice(nu, nu + nf)
-    return np.einsum("nij,nj->ni", G[:, rows, :], x) - rhs[:, rows]
+def _source_currents(c: Compiled, src: np.ndarray, x: np.ndarray) -> np.ndarray:
+    """Current each source delivers, (n_fixed, N): the KCL imbalance at its node.
+
+    ``src`` are the source rows of the last Newton system, as :func:`_newton` returns them.
+    """
+    out = -src[c._src_rhs]
+    c._src_scatter.add(out, src[c._src_g] * x[c._fx_cols])
+    return out
+
+
+def _linear_system(c: Compiled, g_per_f: float, i_cap: np.ndarray) -> np.ndarray:
+    """The linear part of the Newton system, each capacitor a companion model.
+
+    A capacitor C is a conductance ``g_per_f`` · C in parallel with a current
+    source ``i_cap`` (n_caps, N) into its plus node.
+    """
+    m = c._w_lin.copy()
+    m[c._cap_slots] += c._w_cap * g_per_f
+    c._cap_scatter.add(m, np.concatenate([i_cap, -i_cap]))
+    return m
 
 
 # ---------------------------------------------------------------- transient
@@ -515,29 +669,23 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
     bps = sorted({t for s in netlist.sources for t in s.breakpoints if 0 < t < stop} | {stop})
     h_start = min(stop * 1e-6, hmax)
 
-    x = np.zeros((n, c.size))
-    if c.lamps.refs:
-        x[:, c.lamps.nodes[:, 2]] = c.lamps.params["troom"]
-    x[:, c.n_unknown:c.n_unknown + c.n_fixed] = c.fixed_values(0.0)
+    x = np.zeros((c.size, n))
+    x[c.lamps.nodes[:, 2]] = c.batch["troom"]
     cap_a, cap_b = c.caps.nodes[:, 0], c.caps.nodes[:, 1]
-    cap_c = c.caps.params["c"]
-    vc = x[:, cap_a] - x[:, cap_b]
+    cap_c = c.caps.params["c"].T
+    vc = x[cap_a] - x[cap_b]
     ic = np.zeros_like(vc)
-    lim = _Limits(c)
+    vj = np.zeros_like(c.batch["j_is"])
 
     # Operating point at t = 0 with capacitors held at their initial voltage:
     # a tiny backward-Euler step.
-    G_op = c.g_lin + c.g_cap * 1e9
-    rhs_op = np.zeros((n, c.size))
-    np.add.at(rhs_op.T, cap_a, (1e9 * cap_c * vc).T)
-    np.add.at(rhs_op.T, cap_b, (-1e9 * cap_c * vc).T)
-    x, ok, G, rhs = _newton(c, x, c.fixed_values(0.0), G_op, rhs_op, lim)
-    times, volts, currents = [0.0], [x.copy()], [_source_currents(c, G, rhs, x)]
+    m_op = _linear_system(c, 1e9, 1e9 * cap_c * vc)
+    x, ok, src, vj = _newton(c, x[:c.n_state], c.fixed_values(0.0).T, m_op, vj)
+    times, volts, currents = [0.0], [x], [_source_currents(c, src, x)]
     i_peak = np.abs(currents[0])
-    hist_t, hist_v = [0.0], [vc.copy()]
+    hist_t, hist_v = [0.0], [vc]
 
     t, h, bp_i, first = 0.0, h_start, 0, True
-    n_steps = 0
     while t < stop * (1 - 1e-12):
         while bps[bp_i] <= t * (1 + 1e-12):
             bp_i += 1
@@ -546,23 +694,18 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
         alpha = 2.0 if trap else 1.0
         geq = alpha * cap_c / h
         hist = geq * vc + (ic if trap else 0.0)
-        G0 = c.g_lin + c.g_cap * (alpha / h)
-        rhs0 = np.zeros((n, c.size))
-        np.add.at(rhs0.T, cap_a, hist.T)
-        np.add.at(rhs0.T, cap_b, (-hist).T)
-        trial_lim = lim.copy()
-        xn, ok, G, rhs = _newton(c, x, c.fixed_values(t + h), G0, rhs0, trial_lim)
+        m0 = _linear_system(c, alpha / h, hist)
+        x_start = _predict(hist_t[-3:], [v[:c.n_state] for v in volts[-min(3, len(hist_t)):]], t + h)
+        xn, ok, src, vjn = _newton(c, x_start, c.fixed_values(t + h).T, m0, vj)
         if not ok.all():
             h /= 8.0
             if h < stop * 1e-12:
                 raise SimulationError(f"{netlist.title}: time step too small at t = {t:.6g} s")
             continue
-        vcn = xn[:, cap_a] - xn[:, cap_b]
+        vcn = xn[cap_a] - xn[cap_b]
         if trap and len(hist_t) >= 3:
-            ts = np.array(hist_t[-3:] + [t + h])
-            vs = np.stack(hist_v[-3:] + [vcn])
-            dd3 = _third_divided_difference(ts, vs)
-            lte = h**3 * np.abs(dd3) / 2.0
+            dd3 = _third_divided_difference(hist_t[-3:] + [t + h], hist_v[-3:] + [vcn])
+            lte = np.abs(dd3) * (h**3 / 2.0)
             tol = TRTOL * (LTE_RELTOL * np.maximum(np.abs(vcn), np.abs(vc)) + LTE_ABSTOL)
             ratio = np.max(lte / tol) if lte.size else 0.0
             if ratio > 1.0 and h > h_start:
@@ -574,7 +717,7 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
         # Resolve the curve a builder looks at: no source current may move by more
         # than DI_REL of its largest value so far in one step, so fade crossings
         # interpolate accurately even where the load current is steep in Vc.
-        i_new = _source_currents(c, G, rhs, xn)
+        i_new = _source_currents(c, src, xn)
         i_scale = np.maximum(i_peak, np.abs(i_new)) + DI_FLOOR_A
         di = np.max(np.abs(i_new - currents[-1]) / i_scale)
         if di > DI_REL and h > h_start:
@@ -583,30 +726,53 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
         grow = min(grow, max(1.0, 0.9 * DI_REL / max(di, 1e-12)))
         i_peak = np.maximum(i_peak, np.abs(i_new))
         icn = geq * (vcn - vc) - (ic if trap else 0.0)
-        x, vc, ic, lim = xn, vcn, icn, trial_lim
+        x, vc, ic, vj = xn, vcn, icn, vjn
         t += h
-        n_steps += 1
         times.append(t)
-        volts.append(x.copy())
+        volts.append(x)
         currents.append(i_new)
         hist_t.append(t)
-        hist_v.append(vc.copy())
+        hist_v.append(vc)
         first = False
         if bp_i < len(bps) and t >= bps[bp_i] * (1 - 1e-12):
             first = True
             h = h_start
-            hist_t, hist_v = [t], [vc.copy()]  # no divided differences across a corner
+            hist_t, hist_v = [t], [vc]  # no divided differences across a corner
         else:
             h *= max(grow, 0.5)
+    # Stacked as (T, rows, N) and viewed as (N, T, rows): no transposing copy.
     return Traces(netlist=netlist, t_s=np.array(times), names=tuple(c.names),
-                  voltages=np.stack(volts, axis=1), source_currents=np.stack(currents, axis=1), compiled=c)
+                  voltages=np.stack(volts).transpose(2, 0, 1),
+                  source_currents=np.stack(currents).transpose(2, 0, 1), compiled=c)
 
 
-def _third_divided_difference(ts: np.ndarray, vs: np.ndarray) -> np.ndarray:
-    """f[t0, t1, t2, t3] for arrays vs of shape (4, N, k); ≈ f'''/6."""
-    d1 = [(vs[i + 1] - vs[i]) / (ts[i + 1] - ts[i]) for i in range(3)]
-    d2 = [(d1[i + 1] - d1[i]) / (ts[i + 2] - ts[i]) for i in range(2)]
-    return (d2[1] - d2[0]) / (ts[3] - ts[0])
+def _predict(ts: list[float], xs: list[np.ndarray], t: float) -> np.ndarray:
+    """Newton's starting point: the polynomial through the last points, at ``t``.
+
+    SPICE starts from the last point; extrapolating along the curve lands most
+    members within tolerance at once, so they converge in one iteration.  The
+    points are those since the last breakpoint, where the slope changes.
+    """
+    out = None
+    for i, (ti, xi) in enumerate(zip(ts, xs)):
+        w = 1.0
+        for j, tj in enumerate(ts):
+            if j != i:
+                w *= (t - tj) / (ti - tj)
+        out = xi * w if out is None else out + xi * w
+    return out
+
+
+def _third_divided_difference(ts: list[float], vs: list[np.ndarray]) -> np.ndarray:
+    """f[t0, t1, t2, t3] ≈ f'''/6 of four values (k, N), as their weighted sum: no stacking."""
+    out = None
+    for i, (ti, vi) in enumerate(zip(ts, vs)):
+        w = 1.0
+        for j, tj in enumerate(ts):
+            if j != i:
+                w /= ti - tj
+        out = vi * w if out is None else out + vi * w
+    return out
 
 
 # ----------------------------------------------------------------------- DC
@@ -642,20 +808,20 @@ def operating_point(netlist: Netlist, *, at_s: float, overrides: Overrides | Non
     if n is None:
         n = max((np.size(a) for a in (overrides or {}).values()), default=1)
     c = Compiled(netlist, overrides, n)
-    x, ok, G, rhs = _dc_direct(c, at_s)
+    x, ok, src, _ = _dc_direct(c, at_s)
     for fallback in (_dc_source_stepping, _dc_gmin_stepping, _dc_pseudo_transient):
         if ok.all():
             break
         bad = np.flatnonzero(~ok)
         sub_ov = {k: (np.asarray(v)[bad] if np.ndim(v) else v) for k, v in (overrides or {}).items()}
         sub = Compiled(netlist, sub_ov, bad.size)
-        xs, oks, Gs, rhss = fallback(sub, at_s)
-        x[bad], G[bad], rhs[bad] = xs, Gs, rhss
+        xs, oks, srcs, _ = fallback(sub, at_s)
+        x[:, bad], src[:, bad] = xs, srcs
         ok[bad] = oks
     if not ok.all():
         raise SimulationError(f"{netlist.title}: DC operating point did not converge")
-    return OperatingPoint(netlist=netlist, names=tuple(c.names), voltages=x,
-                          source_currents=_source_currents(c, G, rhs, x))
+    return OperatingPoint(netlist=netlist, names=tuple(c.names), voltages=np.ascontiguousarray(x.T),
+                          source_currents=np.ascontiguousarray(_source_currents(c, src, x).T))
 
 
 def _dc_pseudo_transient(c: Compiled, at_s: float):
@@ -678,47 +844,46 @@ def _dc_pseudo_transient(c: Compiled, at_s: float):
     for src in netlist.sources:
         if (src.name, "level") in ov:
             ov[(src.name, "level")] = np.asarray(ov[(src.name, "level")]) * src.value_at(at_s)
-    tr = transient(settle, overrides=ov, n=n)
-    x0 = tr.voltages[:, -1, :]
-    lim = _Limits(c).start_at(c, x0)
-    return _newton(c, x0, c.fixed_values(at_s), _with_gmin(c, devices.GMIN), np.zeros((c.n, c.size)), lim,
-                   max_iter=200)
+    x0 = transient(settle, overrides=ov, n=n).voltages[:, -1, :].T
+    return _newton(c, x0[:c.n_state], c.fixed_values(at_s).T, _with_gmin(c, devices.GMIN),
+                   _junction_voltages(c, c.batch, x0), max_iter=200)
 
 
 def _dc_start(c: Compiled):
-    x = np.zeros((c.n, c.size))
-    if c.lamps.refs:
-        x[:, c.lamps.nodes[:, 2]] = c.lamps.params["troom"]
-    return x, _Limits(c), np.zeros((c.n, c.size))
+    """Every node at 0 V (filaments at room temperature), and the junction voltages that go with it."""
+    x = np.zeros((c.n_state, c.n))
+    x[c.lamps.nodes[:, 2]] = c.batch["troom"]
+    return x, np.zeros_like(c.batch["j_is"])
 
 
 def _with_gmin(c: Compiled, gmin: float) -> np.ndarray:
-    """The linear matrix with ``gmin`` from every unknown node to ground."""
-    G0 = c.g_lin.copy()
-    idx = np.arange(c.n_unknown)
-    G0[:, idx, idx] += gmin
-    return G0
+    """The linear system with ``gmin`` from every unknown node to ground."""
+    m0 = c._w_lin.copy()
+    m0[c._diag] += gmin
+    return m0
 
 
 def _dc_direct(c: Compiled, at_s: float):
     """One Newton solve at the full sources from SPICE's junction guesses: enough for most members."""
-    x, lim, rhs0 = _dc_start(c)
-    return _newton(c, x, c.fixed_values(at_s), _with_gmin(c, devices.GMIN), rhs0, lim, max_iter=100,
+    x, vj = _dc_start(c)
+    return _newton(c, x, c.fixed_values(at_s).T, _with_gmin(c, devices.GMIN), vj, max_iter=100,
                    init_junctions=True)
 
 
 def _dc_source_stepping(c: Compiled, at_s: float):
-    x, lim, rhs0 = _dc_start(c)
-    G0 = _with_gmin(c, devices.GMIN)  # keeps capacitor-only nodes solvable
+    x, vj = _dc_start(c)
+    m0 = _with_gmin(c, devices.GMIN)  # keeps capacitor-only nodes solvable
     for k, scale in enumerate(np.linspace(0.1, 1.0, 10)):
-        x, ok, G, rhs = _newton(c, x, c.fixed_values(at_s, scale), G0, rhs0, lim, max_iter=200,
-                                init_junctions=k == 0)
-    return x, ok, G, rhs
+        xx, ok, src, vj = _newton(c, x, c.fixed_values(at_s, scale).T, m0, vj, max_iter=200,
+                                  init_junctions=k == 0)
+        x = xx[:c.n_state]
+    return xx, ok, src, vj
 
 
 def _dc_gmin_stepping(c: Compiled, at_s: float):
-    x, lim, rhs0 = _dc_start(c)
+    x, vj = _dc_start(c)
     for k, gmin in enumerate(10.0 ** np.arange(-2, -13, -1)):
-        x, ok, G, rhs = _newton(c, x, c.fixed_values(at_s), _with_gmin(c, gmin), rhs0, lim, max_iter=200,
-                                init_junctions=k == 0)
-    return x, ok, G, rhs
+        xx, ok, src, vj = _newton(c, x, c.fixed_values(at_s).T, _with_gmin(c, gmin), vj, max_iter=200,
+                                  init_junctions=k == 0)
+        x = xx[:c.n_state]
+    return xx, ok, src, vj
