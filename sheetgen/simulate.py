@@ -96,7 +96,7 @@ class Compiled:
         self.diodes = self._group(diodes, ("is", "n", "rs"))
         self.bjts = self._group(bjts, ("sign", "is", "bf", "br", "nf", "nr", "vaf", "ikf", "ise", "ne"))
         self.mos = self._group(mos, ("vto", "kp", "lam"))
-        self.lamps = self._group(lamps, ("r0", "troom", "alpha", "k"))
+        self.lamps = self._group(lamps, ("r0", "troom", "alpha", "k", "thot"))
         self._plan_devices()
         self._plan_system()
 
@@ -219,7 +219,8 @@ class Compiled:
             troom = self._model(part, "TROOM", 300.0)
             lamps.append((part.ref, (*part.nets, th), {"r0": self._model(part, "R0", 1.0), "troom": troom,
                                                        "alpha": self._model(part, "ALPHA", 1.2),
-                                                       "k": self._model(part, "K", 1e-12)}))
+                                                       "k": self._model(part, "K", 1e-12),
+                                                       "thot": self._model(part, "THOT", 2700.0)}))
             caps.append((f"{part.ref}.CTH", (th, GROUND), {"c": self._model(part, "CTH", 1e-3), "ic": troom}))
         else:  # pragma: no cover - PartKind is closed
             raise ValueError(f"{part.ref}: unknown kind {k}")
@@ -850,9 +851,10 @@ def _dc_pseudo_transient(c: Compiled, at_s: float):
 
 
 def _dc_start(c: Compiled):
-    """Every node at 0 V (filaments at room temperature), and the junction voltages that go with it."""
+    """Every node at 0 V and filaments at their rated temperature (a lit lamp is the usual DC
+    question; an unlit one cools to room temperature in a few damped steps)."""
     x = np.zeros((c.n_state, c.n))
-    x[c.lamps.nodes[:, 2]] = c.batch["troom"]
+    x[c.lamps.nodes[:, 2]] = c.batch["thot"]
     return x, np.zeros_like(c.batch["j_is"])
 
 
@@ -866,7 +868,7 @@ def _with_gmin(c: Compiled, gmin: float) -> np.ndarray:
 def _dc_direct(c: Compiled, at_s: float):
     """One Newton solve at the full sources from SPICE's junction guesses: enough for most members."""
     x, vj = _dc_start(c)
-    return _newton(c, x, c.fixed_values(at_s).T, _with_gmin(c, devices.GMIN), vj, max_iter=100,
+    return _newton(c, x, c.fixed_values(at_s).T, _with_gmin(c, devices.GMIN), vj, max_iter=40,
                    init_junctions=True)
 
 
