@@ -51,7 +51,8 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
                   bench=_bench(design, sample), spread=tolerance.spread(design, sample),
                   tuning=_tuning(design), standby_a=_standby(design),
                   wiring=instructions.wiring_steps(design, harness),
-                  cautions=instructions.cautions(design, heat))
+                  cautions=instructions.cautions(design, heat),
+                  brief=instructions.brief(design, harness, heat))
 
 
 def _light(design: Design, tr) -> np.ndarray:

@@ -43,18 +43,23 @@ def cmd_check(args) -> int:
     return EXIT_OK
 
 
-def _sheet(spec, *, layout_choice: str | None, out: str) -> int:
-    """Check the layout and the output path first, then size, analyse and write the sheet."""
+def _sheet(spec, *, layout, out: str) -> int:
+    """Check the output path first, then size, analyse and write the sheet (or a sheet of cards)."""
     from .analyse import analyse
-    from .render.layout import load_layout
+    from .render.layout import CardLayout
     from .render.sheet import build_sheet, sheet_date
-    from .render.write import check_writable
+    from .render.write import atomic_write, check_writable
     from .size import size
 
-    layout = load_layout(layout_choice)
     check_writable(out)
     sheet_date()  # a malformed SOURCE_DATE_EPOCH is bad input: say so before the slow part
-    path = build_sheet(analyse(size(spec)), layout, out)
+    report = analyse(size(spec))
+    if isinstance(layout, CardLayout):
+        from .render.cards import render_cards, single_design_cards
+
+        path = atomic_write(out, render_cards(single_design_cards(report, layout), layout, title=spec.title))
+    else:
+        path = build_sheet(report, layout, out)
     print(path)
     return EXIT_OK
 
@@ -62,19 +67,124 @@ def _sheet(spec, *, layout_choice: str | None, out: str) -> int:
 def cmd_build(args) -> int:
     from pathlib import Path
 
+    from .render.layout import CardLayout, load_layout
     from .spec import load_spec
 
     spec = load_spec(args.spec)
-    out = args.output or f"{Path(args.spec).stem}.pdf"
+    layout = load_layout(args.layout)
+    suffix = "-cards.pdf" if isinstance(layout, CardLayout) else ".pdf"
+    out = args.output or f"{Path(args.spec).stem}{suffix}"
     if Path(out).resolve() == Path(args.spec).resolve():
         raise SpecError(f"-o {out}: would overwrite the spec itself; give a .pdf name")
-    return _sheet(spec, layout_choice=args.layout, out=out)
+    return _sheet(spec, layout=layout, out=out)
 
 
 def cmd_demo(args) -> int:
     from .demo import OUTPUT, demo_spec
+    from .render.layout import load_layout
 
-    return _sheet(demo_spec(), layout_choice=None, out=OUTPUT)
+    return _sheet(demo_spec(), layout=load_layout(None), out=OUTPUT)
+
+
+PACK_FILES = ("booklet.pdf", "cards.pdf", "kit-list.csv")
+
+
+def _check_printable(event) -> None:
+    """Every name and line of the event must be printable in the embedded font; say which is not."""
+    from .render.fonts import BOLD, REGULAR, missing_glyphs
+
+    problems = []
+    for key, text in (("title", event.title), ("venue", event.venue)):
+        if text and (missing_glyphs(text, font=BOLD) or missing_glyphs(text, font=REGULAR)):
+            problems.append(f"{event.source}: {key}: '{text}' has characters the booklet's font cannot print "
+                            f"({missing_glyphs(text, font=BOLD) or missing_glyphs(text, font=REGULAR)})")
+    for build in event.builds:
+        for b in build.builders:
+            missing = missing_glyphs(b.name, font=BOLD) if b.name is not None else ""
+            if missing:
+                problems.append(f"{build.source}:{b.line}: builds[{build.index}].builders[{b.number - 1}]: "
+                                f"'{b.name}' has characters the card font cannot print ({missing}); it covers "
+                                "Latin, Greek and Cyrillic letters")
+    if problems:
+        raise SpecError(problems)
+
+
+def _progress(total: int):
+    """A progress bar on stderr for the slow parts of a pack; silent unless stderr is a terminal."""
+    from tqdm import tqdm
+
+    tqdm.monitor_interval = 0  # no monitor thread: sizing may fork worker processes
+    return tqdm(total=total, desc="pack", unit="step", file=sys.stderr, disable=not sys.stderr.isatty(),
+                leave=False, dynamic_ncols=True)
+
+
+def cmd_pack(args) -> int:
+    """Check everything, size each distinct design once, render all in memory, then write all three files."""
+    from . import batch
+    from .event import load_event
+    from .kit import KitUse, kit_csv, kit_list
+    from .render.booklet import PackDesign, render_booklet
+    from .render.cards import Card, render_cards
+    from .render.layout import load_card_layout, load_sheet_layout
+    from .render.sheet import sheet_date
+    from .render.write import atomic_write_files, check_folder
+
+    event = load_event(args.event)
+    _check_printable(event)
+    sheet_layout = load_sheet_layout(args.layout)
+    card_layout = load_card_layout(args.cards)
+    folder = check_folder(args.output)
+    sheet_date()  # a malformed SOURCE_DATE_EPOCH is bad input: say so before the slow part
+    if args.jobs is not None and args.jobs < 1:
+        raise SpecError(f"--jobs: {args.jobs}: give 1 or more")
+    specs = batch.distinct([b.spec for b in event.builds])
+    jobs = args.jobs or batch.default_jobs(len(specs))
+    with _progress(2 * len(specs) + 2) as bar:
+        bar.set_description_str(f"sizing {len(specs)} design{'s' if len(specs) != 1 else ''}")
+        try:
+            reports = batch.analyse_all(specs, jobs=jobs, on_done=lambda _k: bar.update())
+        except batch.DesignFailed as failed:
+            build = next(b for b in event.builds if batch.spec_key(b.spec) == batch.spec_key(specs[failed.index]))
+            what = f"{build.where} ({build.spec_label})"
+            if isinstance(failed.error, InfeasibleDesign):
+                raise InfeasibleDesign(f"{what}: {failed.error}") from None
+            if isinstance(failed.error, SpecError):
+                raise SpecError([f"{what}: {p}" for p in failed.error.problems]) from None
+            raise failed.error from None
+        letters = _letters(len(specs))
+        by_key = {batch.spec_key(spec): k for k, spec in enumerate(specs)}
+        designs = [PackDesign(letter=letters[k], report=reports[k],
+                              builds=tuple(b for b in event.builds if by_key[batch.spec_key(b.spec)] == k))
+                   for k in range(len(specs))]
+        kit = kit_list([KitUse(report=d.report, design=d.letter, kits=d.kits) for d in designs],
+                       spares=event.spares)
+        on_card = " \u00b7 ".join(x for x in (event.title, event.date.isoformat() if event.date else "") if x)
+        cards = [Card(report=d.report, design=d.letter, name=b.name, place=b.place, event=on_card)
+                 for d in designs for build in d.builds for b in build.builders]
+        bar.set_description_str("cards")
+        cards_pdf = render_cards(cards, card_layout, title=event.title, on_design=lambda _d: bar.update())
+        bar.set_description_str("booklet")
+        sheets = sum(-(-d.kits // card_layout.per_sheet) for d in designs)
+        booklet = render_booklet(event, designs, kit, sheet_layout, card_layout, card_sheets=sheets)
+        bar.update()
+        bar.set_description_str("writing")
+        paths = atomic_write_files(folder, dict(zip(PACK_FILES, (booklet, cards_pdf, kit_csv(kit)))))
+        bar.update()
+    for path in paths:
+        print(path)
+    return EXIT_OK
+
+
+def _letters(n: int) -> list[str]:
+    """Kit letters A, B, ... Z, then AA, AB, ... as spreadsheet columns go."""
+    out = []
+    for k in range(n):
+        text, k = "", k + 1
+        while k:
+            k, r = divmod(k - 1, 26)
+            text = chr(ord("A") + r) + text
+        out.append(text)
+    return out
 
 
 def parser() -> argparse.ArgumentParser:
@@ -102,8 +212,23 @@ def parser() -> argparse.ArgumentParser:
     b.add_argument("-o", "--output", metavar="OUT.pdf",
                    help="where to write the sheet (default: the spec's name with .pdf, in the current folder)")
     b.add_argument("--layout", metavar="NAME|FILE",
-                   help="a shipped layout (a4-sheet, letter-sheet; default a4-sheet) or a layout file")
+                   help="a shipped layout (a4-sheet, letter-sheet; default a4-sheet) or a layout file; a card "
+                        "layout (a6-card, 4x6-card) writes a sheet of wiring cards instead, to SPEC-cards.pdf")
     b.set_defaults(func=cmd_build)
+
+    k = sub.add_parser("pack", help="write a build night's booklet, wiring cards and kit list into a folder",
+                       description="Read EVENT (who builds which design), size each distinct design once and "
+                                   "write booklet.pdf, cards.pdf and kit-list.csv into DIR, all or none.")
+    k.add_argument("event", metavar="EVENT", help="event file (YAML)")
+    k.add_argument("-o", "--output", metavar="DIR", required=True,
+                   help="the folder to write into (made if needed); other files in it are left alone")
+    k.add_argument("--layout", metavar="NAME|FILE", help="sheet layout for the booklet (default a4-sheet)")
+    k.add_argument("--cards", metavar="NAME|FILE", help="card layout for the cards (default a6-card; "
+                                                        "4x6-card for US Letter)")
+    k.add_argument("--jobs", type=int, metavar="N",
+                   help="designs sized at once in separate processes (default: one per core, at most one per "
+                        "design)")
+    k.set_defaults(func=cmd_pack)
 
     d = sub.add_parser("demo", help="write the sheet of a built-in scenario into the current folder",
                        description="Size a built-in scenario (a camper van awning light), write its build sheet "

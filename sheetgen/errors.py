@@ -18,6 +18,10 @@ class SpecError(ValueError, SheetgenError):
         self.problems = list(problems)
         super().__init__("\n".join(self.problems))
 
+    def __reduce__(self):
+        # Rebuilt from its lines, so an error raised in a worker process arrives with them intact.
+        return (type(self), (self.problems,))
+
 
 class InfeasibleDesign(SheetgenError):
     """The spec is valid but no design can meet it.  Exit code 3.

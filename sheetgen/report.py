@@ -98,6 +98,19 @@ class TuningRow:
 
 
 @dataclass(frozen=True)
+class Brief:
+    """The builder's words again, shortened for a wiring card (same steps, same cautions).
+
+    ``steps`` name leads without their descriptions and join a run of LEDs in
+    series into one step; ``leads`` says once how to tell the leads apart.
+    """
+
+    steps: tuple[str, ...]
+    leads: str
+    cautions: tuple[str, ...]
+
+
+@dataclass(frozen=True)
 class Report:
     design: Design
     curves: Curves
@@ -110,3 +123,4 @@ class Report:
     standby_a: float  # drawn from the always-on supply with the feed off
     wiring: tuple[str, ...]  # numbered steps, in order, without their numbers
     cautions: tuple[str, ...]
+    brief: Brief  # the steps and cautions in a card's words

@@ -28,7 +28,7 @@ from .catalog import Transistor
 from .errors import InfeasibleDesign, SpecError
 from .loads import rated_current_a
 from .measure import fade_times
-from .spec import LampLoad, LedLoad, Spec
+from .spec import LedLoad, Spec
 from .topologies import INPUT_PNP, TOPOLOGIES, Stage, Topology, Values, Window, topologies_for, window_for
 from .units import format_quantity
 

@@ -35,6 +35,7 @@ __all__ = [
     "load_spec",
     "parse_spec",
     "spec_from_mapping",
+    "spec_from_node",
     "default_supply_span",
     "COVERED_MIN_V",
     "COVERED_MAX_V",
@@ -167,6 +168,18 @@ def spec_from_mapping(data: dict, *, source: str) -> Spec:
     return _build(data, _Problems(source))
 
 
+def spec_from_node(node: yaml.Node, *, source: str, key_prefix: str) -> Spec:
+    """Check a spec that sits inside another YAML file (an event's inline design).
+
+    ``node`` is the composed mapping from that file, so problems keep its real
+    line numbers; each key path is printed after ``key_prefix``
+    (``builds[2].design``), so the message says which spec it is about.
+    """
+    problems = _Problems(source, key_prefix=key_prefix)
+    problems.lines[()] = node.start_mark.line + 1
+    return _build(_Converter(problems).convert(node, ()), problems)
+
+
 def _yaml_error_line(exc: yaml.MarkedYAMLError, text: str, source: str) -> str:
     """One line for a YAML syntax error: file, line, what the parser said, and a tab hint."""
     mark = exc.problem_mark or exc.context_mark
@@ -253,10 +266,15 @@ class _Converter:
 class _Problems:
     """Collects problems with their lines so they can be reported together, in file order."""
 
-    def __init__(self, source: str) -> None:
+    def __init__(self, source: str, *, key_prefix: str = "") -> None:
         self.source = source
+        self.key_prefix = key_prefix  # the spec's own place in a larger file, e.g. "builds[2].design"
         self.lines: dict[tuple[str, ...], int] = {}
         self._items: list[tuple[int, int, str]] = []
+
+    def key(self, path: tuple[str, ...]) -> str:
+        """The key path as printed: the prefix, then the path inside the spec."""
+        return ".".join(((self.key_prefix,) if self.key_prefix else ()) + tuple(path))
 
     def _line_of(self, path: tuple[str, ...]) -> int | None:
         for end in range(len(path), -1, -1):
@@ -274,7 +292,7 @@ class _Problems:
     def add(self, path: tuple[str, ...], message: str, *, line: int | None = None) -> None:
         """Record a problem about the key at ``path``."""
         order, where = self._where(path, line)
-        key = ".".join(path)
+        key = self.key(path)
         text = f"{where}: {key}: {message}" if key else f"{where}: {message}"
         self._items.append((order, len(self._items), text))
 
@@ -344,7 +362,7 @@ def _check_keys(
 
 def _quantity(p: _Problems, value: Any, path: tuple[str, ...], unit: str) -> float | None:
     try:
-        return parse_quantity(value, unit, key=".".join(path))
+        return parse_quantity(value, unit, key=p.key(path))
     except SpecError as exc:
         for problem in exc.problems:
             p.add_keyed(path, problem)

@@ -29,3 +29,27 @@ def pytest_runtest_setup(item: pytest.Item) -> None:
     if os.environ.get("CI", "").strip().lower() == "true":
         pytest.fail("ngspice is required when CI=true, but it is not on PATH", pytrace=False)
     pytest.skip("ngspice is not installed")
+
+
+# Sized designs shared by the card and pack tests: sizing and analysis cost seconds per design,
+# so each is done once per session.  Two small examples: two LED strings, and a single LED.
+@pytest.fixture(scope="session")
+def camper_report():
+    from pathlib import Path
+
+    from sheetgen.analyse import analyse
+    from sheetgen.size import size
+    from sheetgen.spec import load_spec
+
+    return analyse(size(load_spec(Path(__file__).parent.parent / "examples" / "camper-van-step-light.yaml")))
+
+
+@pytest.fixture(scope="session")
+def railway_report():
+    from pathlib import Path
+
+    from sheetgen.analyse import analyse
+    from sheetgen.size import size
+    from sheetgen.spec import load_spec
+
+    return analyse(size(load_spec(Path(__file__).parent.parent / "examples" / "model-railway-station.yaml")))

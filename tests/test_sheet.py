@@ -294,11 +294,16 @@ def test_cli_layout_file_with_a_typo_names_file_line_and_key(tmp_path, monkeypat
 
 # ------------------------------------------------------------------- layouts
 def test_shipped_layouts_load_and_name_every_block_once():
-    assert set(shipped_layouts()) >= {"a4-sheet", "letter-sheet"}
+    from sheetgen.render.layout import CARD_BLOCK_NAMES, CardLayout
+
+    assert set(shipped_layouts()) >= {"a4-sheet", "letter-sheet", "a6-card", "4x6-card"}
     for name in shipped_layouts():
         layout = load_layout(name)
         assert layout.name == name
-        assert sorted(b.name for b in layout.blocks) == sorted(BLOCK_NAMES)
+        if isinstance(layout, CardLayout):  # a card places its own blocks over its two sides
+            assert sorted(layout.front + layout.back) == sorted(CARD_BLOCK_NAMES)
+        else:
+            assert sorted(b.name for b in layout.blocks) == sorted(BLOCK_NAMES)
 
 
 def test_the_package_copy_is_the_top_level_folder():

@@ -811,3 +811,12 @@ def build_blocks(report: Report, layout: Layout, *, frame_width_pt: float, frame
             row.setdefault(placement.column, []).append(flowable)
     close_row()
     return story
+
+
+# ------------------------------------------------- for the other renderers
+#: The same kit under public names, for the pack's booklet: one look for every page it prints.
+plain_paragraph = _p
+markup_paragraph = _pm
+ruled_table = _table
+width_shares = _fractions
+SizedToWidth = _Sized

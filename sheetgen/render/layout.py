@@ -5,6 +5,12 @@ file (``layouts/a4-sheet.yaml``).  It is read here into frozen dataclasses and
 checked completely before any page is built, so a typo in a layout stops the
 build with the file, line and key named instead of a half-drawn sheet.
 
+Two kinds share the syntax: a sheet layout (``blocks:`` flowing over pages)
+and a card layout (``card:`` gives a trimmed card size, ``front:`` and
+``back:`` its blocks; ``layouts/a6-card.yaml``), whose cards are printed
+several to a sheet of paper with cut marks.  A file with ``card:`` is a card
+layout.
+
 The shipped layouts live in the repository's top-level ``layouts/`` folder,
 the one source; ``sheetgen/layouts`` is a symbolic link to it, so the package
 reads the same files through ``importlib.resources`` and wheels carry them.
@@ -25,11 +31,16 @@ from sheetgen.errors import SpecError
 
 __all__ = [
     "BLOCK_NAMES",
+    "CARD_BLOCK_NAMES",
+    "CARD_SIZES_MM",
     "PAGE_SIZES_PT",
     "DEFAULT_LAYOUT",
+    "DEFAULT_CARD_LAYOUT",
     "Column",
     "BlockPlacement",
     "Layout",
+    "CardLayout",
+    "Slot",
     "shipped_layouts",
     "load_layout",
     "parse_layout",
@@ -41,17 +52,28 @@ BLOCK_NAMES = ("summary", "schematic", "parts", "timing", "heat", "bench", "tuni
 #: Blocks every sheet must carry, whatever the layout says.
 REQUIRED_BLOCKS = ("cautions",)
 
+#: Every block a card layout may place, on its front or back.
+CARD_BLOCK_NAMES = ("schematic", "parts", "harness", "steps", "readings", "cautions")
+
 #: Paper sizes (width, height) in points, portrait.
 PAGE_SIZES_PT = {"A4": (595.2756, 841.8898), "letter": (612.0, 792.0)}
 
+#: Trimmed card sizes (width, height) in mm, portrait: ISO 216 A6 and the 4 × 6 inch index card.
+CARD_SIZES_MM = {"A6": (105.0, 148.0), "4x6in": (101.6, 152.4)}
+
 FULL = "full"
 DEFAULT_LAYOUT = "a4-sheet"
+DEFAULT_CARD_LAYOUT = "a6-card"
+CARD_RANGE_MM = (60.0, 200.0)  # smaller holds nothing readable; larger is a sheet, not a card
+CARD_GAP_RANGE_MM = (6.0, 30.0)  # the cut marks of two neighbours sit in the gap without touching
 MARGIN_RANGE_MM = (5.0, 40.0)  # below 5 mm most printers clip; above 40 mm nothing fits
 GUTTER_RANGE_MM = (0.0, 25.0)
 
 _MM_PER = {"mm": 1.0, "cm": 10.0, "in": 25.4, "pt": 25.4 / 72.0}
 _LENGTH_RE = re.compile(r"^\s*(?P<num>\d+(?:\.\d*)?|\.\d+)\s*(?P<unit>mm|cm|in|pt)\s*$")
 _TOP_KEYS = ("name", "page", "margins", "columns", "gutter", "blocks")
+_CARD_TOP_KEYS = ("name", "page", "card", "margins", "gap", "front", "back", "balance")
+_CARD_SIZE_KEYS = ("width", "height")
 _SIDES = ("top", "right", "bottom", "left")
 _BLOCK_KEYS = ("block", "column", "new_page")
 
@@ -97,15 +119,95 @@ class Layout:
         return {c.name: usable * c.share / total for c in self.columns}
 
 
+@dataclass(frozen=True)
+class Slot:
+    """Where one card sits on a sheet: its lower-left corner in points, and its place in the grid."""
+
+    x_pt: float
+    y_pt: float
+    column: int  # from the left, from 0
+    row: int  # from the top, from 0
+
+
+@dataclass(frozen=True)
+class CardLayout:
+    """A checked card layout: the card's size, its two sides, and how it is set on the paper.
+
+    The cards are set in a grid, centred, at least ``margins_mm`` from the
+    paper's edge and ``gap_mm`` apart; the paper turns to landscape when that
+    holds more cards.  ``back`` may be empty for a one-sided card.
+    """
+
+    name: str
+    source: str
+    page_size: str  # "A4" or "letter": the paper the cards are printed on
+    card_mm: tuple[float, float]  # trimmed width, height
+    margins_mm: float  # least distance from the paper's edge to a card
+    gap_mm: float  # between neighbouring cards; the cut marks sit in it
+    front: tuple[str, ...]  # CARD_BLOCK_NAMES, top to bottom
+    back: tuple[str, ...]
+    balance: bool = True  # the block at the fold may cross sides when that sets larger type
+
+    @property
+    def card_pt(self) -> tuple[float, float]:
+        return self.card_mm[0] * _PT_PER_MM, self.card_mm[1] * _PT_PER_MM
+
+    @property
+    def sheet_size_pt(self) -> tuple[float, float]:
+        """The paper as the cards use it, portrait or landscape."""
+        return _best_grid(self)[0]
+
+    @property
+    def grid(self) -> tuple[int, int]:
+        """(columns, rows) of cards on one sheet."""
+        return _best_grid(self)[1]
+
+    @property
+    def per_sheet(self) -> int:
+        columns, rows = self.grid
+        return columns * rows
+
+    def slots(self) -> tuple[Slot, ...]:
+        """Every card position on a sheet, in reading order (rows from the top, left to right)."""
+        (page_w, page_h), (columns, rows) = _best_grid(self)
+        card_w, card_h = self.card_pt
+        gap = self.gap_mm * _PT_PER_MM
+        x0 = (page_w - columns * card_w - (columns - 1) * gap) / 2
+        top = page_h - (page_h - rows * card_h - (rows - 1) * gap) / 2
+        return tuple(Slot(x_pt=x0 + c * (card_w + gap), y_pt=top - (r + 1) * card_h - r * gap, column=c, row=r)
+                     for r in range(rows) for c in range(columns))
+
+
+_PT_PER_MM = 72.0 / 25.4
+
+
+def _fit(length_pt: float, card_pt: float, margin_pt: float, gap_pt: float) -> int:
+    return max(int((length_pt - 2 * margin_pt + gap_pt) // (card_pt + gap_pt)), 0)
+
+
+def _best_grid(layout: CardLayout) -> tuple[tuple[float, float], tuple[int, int]]:
+    """The paper's orientation and the (columns, rows) that hold the most cards; portrait on a tie."""
+    w, h = PAGE_SIZES_PT[layout.page_size]
+    card_w, card_h = layout.card_pt
+    margin, gap = layout.margins_mm * _PT_PER_MM, layout.gap_mm * _PT_PER_MM
+    best = None
+    for page in ((w, h), (h, w)):
+        grid = (_fit(page[0], card_w, margin, gap), _fit(page[1], card_h, margin, gap))
+        if best is None or grid[0] * grid[1] > best[1][0] * best[1][1]:
+            best = (page, grid)
+    return best
+
+
 def shipped_layouts() -> tuple[str, ...]:
     """Names ``--layout NAME`` accepts."""
     folder = resources.files("sheetgen") / "layouts"
     return tuple(sorted(p.name[:-5] for p in folder.iterdir() if p.name.endswith(".yaml")))
 
 
-def load_layout(name_or_path: str | os.PathLike[str] | None = None) -> Layout:
+def load_layout(name_or_path: str | os.PathLike[str] | None = None, *,
+                default: str = DEFAULT_LAYOUT) -> Layout | CardLayout:
     """A shipped layout by name, or a layout file by path (anything with a slash or a .yaml/.yml ending)."""
-    choice = os.fspath(name_or_path) if name_or_path is not None else DEFAULT_LAYOUT
+    choice = os.fspath(name_or_path) if name_or_path is not None else default
     looks_like_path = os.sep in choice or "/" in choice or choice.endswith((".yaml", ".yml"))
     if not looks_like_path:
         known = shipped_layouts()
@@ -202,7 +304,23 @@ def _flag(node: Node, key: str, problems: _Problems) -> bool:
     return False
 
 
-def parse_layout(text: str, *, source: str) -> Layout:
+def load_sheet_layout(name_or_path: str | os.PathLike[str] | None, *, option: str = "--layout") -> Layout:
+    """A sheet layout, refusing a card layout with a line that says where that one goes."""
+    layout = load_layout(name_or_path)
+    if isinstance(layout, CardLayout):
+        raise SpecError(f"{option}: {layout.name} is a card layout; give a sheet layout such as a4-sheet")
+    return layout
+
+
+def load_card_layout(name_or_path: str | os.PathLike[str] | None, *, option: str = "--cards") -> CardLayout:
+    """A card layout, refusing a sheet layout with a line that says where that one goes."""
+    layout = load_layout(name_or_path, default=DEFAULT_CARD_LAYOUT)
+    if not isinstance(layout, CardLayout):
+        raise SpecError(f"{option}: {layout.name} is a sheet layout; give a card layout such as a6-card")
+    return layout
+
+
+def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
     """Check a layout given as YAML text; raise one SpecError listing every problem."""
     problems = _Problems(source)
     try:
@@ -215,6 +333,8 @@ def parse_layout(text: str, *, source: str) -> Layout:
         raise SpecError(f"{source}: not valid YAML: {exc}") from None
     if root is None:
         raise SpecError(f"{source}: is empty; a layout needs at least page and blocks")
+    if isinstance(root, MappingNode) and any(isinstance(k, ScalarNode) and k.value == "card" for k, _ in root.value):
+        return _card_layout(root, source, problems)
     top = _mapping(root, "", _TOP_KEYS, problems)
     for needed in ("name", "page", "blocks"):
         if needed not in top and isinstance(root, MappingNode):
@@ -327,3 +447,92 @@ def _blocks(node: Node, column_names: set[str], problems: _Problems) -> tuple[Bl
         if placed and needed not in where:
             problems.add(node, "blocks", f"must include '{needed}': every sheet carries the safety cautions")
     return tuple(placed)
+
+
+# ------------------------------------------------------------- card layouts
+def _card_layout(root: MappingNode, source: str, problems: _Problems) -> CardLayout:
+    """Check a card layout (a file with ``card:``) completely, as ``parse_layout`` does a sheet."""
+    top = _mapping(root, "", _CARD_TOP_KEYS, problems)
+    for needed in ("name", "page", "front"):
+        if needed not in top:
+            problems.add(root, needed, "is missing")
+    name = _scalar(top["name"][1], "name", problems) if "name" in top else None
+    page = None
+    if "page" in top:
+        node = top["page"][1]
+        page = _scalar(node, "page", problems)
+        if page is not None and page not in PAGE_SIZES_PT:
+            problems.add(node, "page", f"'{page}' is not a paper size{_suggest(page, PAGE_SIZES_PT)}; "
+                                       f"known: {', '.join(PAGE_SIZES_PT)}")
+            page = None
+    card = _card_size(top["card"][1], problems)
+    margins = 10.0
+    if "margins" in top:
+        got = _length_mm(top["margins"][1], "margins", *MARGIN_RANGE_MM, problems)
+        margins = got if got is not None else margins
+    gap = 12.0
+    if "gap" in top:
+        got = _length_mm(top["gap"][1], "gap", *CARD_GAP_RANGE_MM, problems)
+        gap = got if got is not None else gap
+    balance = _flag(top["balance"][1], "balance", problems) if "balance" in top else True
+    where: dict[str, str] = {}
+    front = _card_side(top["front"][1], "front", where, problems) if "front" in top else ()
+    back = _card_side(top["back"][1], "back", where, problems) if "back" in top else ()
+    if (front or back) and "cautions" not in where:
+        problems.add(top.get("front", (root, root))[1], "front",
+                     "the cautions block must be on the front or the back: every card carries them")
+    if problems.lines:
+        raise SpecError(problems.lines)
+    layout = CardLayout(name=name, source=source, page_size=page, card_mm=card, margins_mm=margins, gap_mm=gap,
+                        front=front, back=back, balance=balance)
+    if layout.per_sheet == 0:
+        w, h = card
+        raise SpecError(f"{source}: card: {w:g} × {h:g} mm does not fit on {page} paper with {margins:g} mm "
+                        "margins; make the card or the margins smaller")
+    return layout
+
+
+def _card_size(node: Node, problems: _Problems) -> tuple[float, float]:
+    """A named card size or {width, height}; a fallback size when it is wrong (the problem is noted)."""
+    fallback = CARD_SIZES_MM["A6"]
+    if isinstance(node, MappingNode):
+        sides = _mapping(node, "card", _CARD_SIZE_KEYS, problems)
+        got = []
+        for key in _CARD_SIZE_KEYS:
+            if key not in sides:
+                problems.add(node, f"card.{key}", "is missing")
+                got.append(None)
+            else:
+                got.append(_length_mm(sides[key][1], f"card.{key}", *CARD_RANGE_MM, problems))
+        return (got[0], got[1]) if None not in got else fallback
+    text = _scalar(node, "card", problems)
+    if text is None:
+        return fallback
+    if text not in CARD_SIZES_MM:
+        problems.add(node, "card", f"'{text}' is not a card size{_suggest(text, CARD_SIZES_MM)}; known: "
+                                   f"{', '.join(CARD_SIZES_MM)}, or {{width: 100 mm, height: 140 mm}}")
+        return fallback
+    return CARD_SIZES_MM[text]
+
+
+def _card_side(node: Node, side: str, where: dict[str, str], problems: _Problems) -> tuple[str, ...]:
+    """One side's block names, each block placed once over both sides (``where`` remembers them)."""
+    if not isinstance(node, SequenceNode) or not node.value:
+        problems.add(node, side, f"should be a list of card blocks: {', '.join(CARD_BLOCK_NAMES)}")
+        return ()
+    names = []
+    for i, item in enumerate(node.value):
+        key = f"{side}[{i + 1}]"
+        name = _scalar(item, key, problems)
+        if name is None:
+            continue
+        if name not in CARD_BLOCK_NAMES:
+            problems.add(item, key, f"unknown card block '{name}'{_suggest(name, CARD_BLOCK_NAMES)}; "
+                                    f"card blocks: {', '.join(CARD_BLOCK_NAMES)}")
+            continue
+        if name in where:
+            problems.add(item, key, f"block '{name}' is placed twice (also {where[name]})")
+            continue
+        where[name] = key
+        names.append(name)
+    return tuple(names)

@@ -4,6 +4,11 @@ Three levels, as platypus intends: the document template owns the paper and
 metadata; one page template draws the furniture (title block, safety footer,
 "page n of N") on every page; one frame holds the blocks the layout names.
 
+A document may hold several sections one after another (a pack's booklet: its
+cover, then each design's sheet); each section has its own page template, so
+every page's title block names what that page is about, and "of N" counts the
+whole document.
+
 Reproducible output: with ``SOURCE_DATE_EPOCH`` set, the printed date and the
 PDF's own dates come from it and reportlab runs in invariant mode, so the same
 input gives the same bytes.  "of N" is a PDF form drawn once at the end, after
@@ -45,6 +50,15 @@ class SheetInfo:
     revision: str  # design digest: equal revisions, equal circuits
     spec_name: str
     layout_name: str
+    source_label: str = "spec"  # "from spec X" on a design's sheet, "from event X" on a pack's cover
+
+
+@dataclass(frozen=True)
+class Section:
+    """Pages that share one title block: the flowables and what the furniture prints."""
+
+    info: SheetInfo
+    story: tuple  # flowables, in order
 
 
 def sheet_date(environ=None) -> _dt.date:
@@ -91,28 +105,48 @@ def frame_box(layout: Layout) -> tuple[float, float, float, float]:
     return left, y, page_w - left - right, height
 
 
-def render_sheet(report: Report, layout: Layout, *, environ=None) -> bytes:
-    """The whole sheet as PDF bytes; nothing touches the disk."""
-    from reportlab.platypus import BaseDocTemplate, Frame, PageTemplate
-
+def sheet_section(report: Report, layout: Layout, *, environ=None) -> Section:
+    """One design's sheet as a section: its title block and its blocks in the layout's order."""
     from .blocks import build_blocks
 
     register()
+    _, _, w, h = frame_box(layout)
+    return Section(info=sheet_info(report, layout, environ=environ),
+                   story=tuple(build_blocks(report, layout, frame_width_pt=w, frame_height_pt=h)))
+
+
+def render_sheet(report: Report, layout: Layout, *, environ=None) -> bytes:
+    """The whole sheet as PDF bytes; nothing touches the disk."""
     env = os.environ if environ is None else environ
-    info = sheet_info(report, layout, environ=env)
+    section = sheet_section(report, layout, environ=env)
+    return render_sections([section], layout, title=f"{section.info.title} \u2013 fader build sheet",
+                           subject=section.info.subtitle, environ=env)
+
+
+def render_sections(sections, layout: Layout, *, title: str, subject: str, environ=None) -> bytes:
+    """Sections one after another in one PDF, each starting a page and keeping its own title block."""
+    from reportlab.platypus import BaseDocTemplate, Frame, NextPageTemplate, PageBreak, PageTemplate
+
+    register()
+    env = os.environ if environ is None else environ
     x, y, w, h = frame_box(layout)
-    story = build_blocks(report, layout, frame_width_pt=w, frame_height_pt=h)
     buffer = io.BytesIO()
     reproducible = bool(env.get("SOURCE_DATE_EPOCH", "").strip())
     doc = BaseDocTemplate(
-        buffer, pagesize=layout.page_size_pt, title=f"{info.title} \u2013 fader build sheet",
-        author="sheetgen", subject=info.subtitle, creator=f"sheetgen {__version__}",
+        buffer, pagesize=layout.page_size_pt, title=title,
+        author="sheetgen", subject=subject, creator=f"sheetgen {__version__}",
         invariant=1 if reproducible else 0, initialFontName=REGULAR,
         leftMargin=x, rightMargin=layout.page_size_pt[0] - x - w, bottomMargin=y,
         topMargin=layout.page_size_pt[1] - y - h)
-    frame = Frame(x, y, w, h, id="blocks", leftPadding=0, rightPadding=0, topPadding=0, bottomPadding=0)
-    doc.addPageTemplates([PageTemplate(id="sheet", frames=[frame],
-                                       onPage=lambda canv, _doc: _furniture(canv, layout, info))])
+    templates, story = [], []
+    for k, section in enumerate(sections):
+        frame = Frame(x, y, w, h, id=f"blocks{k}", leftPadding=0, rightPadding=0, topPadding=0, bottomPadding=0)
+        templates.append(PageTemplate(id=f"section{k}", frames=[frame],
+                                      onPage=lambda canv, _doc, info=section.info: _furniture(canv, layout, info)))
+        if k:
+            story += [NextPageTemplate(f"section{k}"), PageBreak()]
+        story += list(section.story)
+    doc.addPageTemplates(templates)
     doc.build(story, canvasmaker=_canvas_maker())
     return buffer.getvalue()
 
@@ -201,8 +235,8 @@ def _furniture(canv, layout: Layout, info: SheetInfo) -> None:
         sub, sub_size = _fit(info.subtitle, REGULAR, 8.5, text_w, smallest=7.0)
         canv.setFont(REGULAR, sub_size)
         canv.drawString(left + 6, y0 + 17, sub)
-    spec_line, spec_size = _fit(f"from spec {info.spec_name}" if info.spec_name else "", REGULAR, 7.5, text_w,
-                                smallest=6.5)
+    spec_line, spec_size = _fit(f"from {info.source_label} {info.spec_name}" if info.spec_name else "", REGULAR,
+                                7.5, text_w, smallest=6.5)
     canv.setFont(REGULAR, spec_size)
     canv.drawString(left + 6, y0 + 6, spec_line)
     cells = (("Date", info.date.isoformat()), ("Revision", info.revision),
