@@ -12,6 +12,7 @@ from the same netlist walk, so the card and the sheet cannot disagree.
 
 from __future__ import annotations
 
+from . import catalog
 from .circuit import GROUND, Part
 from .report import Brief, Harness, Heat
 from .size import Design
@@ -132,21 +133,26 @@ def wiring_steps(design: Design, harness: Harness, *, short: bool = False) -> tu
     """
     nl = design.netlist
     spec = design.spec
-    q = design.values.transistor
     steps = ["Disconnect the battery first: a short can start a fire." if short else
              "Disconnect the battery (or switch off and unplug the bench supply) before you start."]
     pins_on: dict[str, list[tuple[Part, str]]] = {}
     for part in nl.parts:
         for pin, net in part.pins:
             pins_on.setdefault(net, []).append((part, pin))
-    if q.pinout:
+    for part in nl.parts:
+        if part.kind not in ("npn", "pnp", "nmos"):
+            continue
+        q = catalog.transistor(part.part_number)
+        if not q.pinout:
+            continue
         leads = ", ".join(_LEAD_NAMES[x] for x in q.pinout)
         if short:
-            steps.append(f"Q1 {q.part_number} ({q.package}), printed face to you, leads down: {leads} "
+            steps.append(f"{part.ref} {q.part_number} ({q.package}), printed face to you, leads down: {leads} "
                          "(check its data sheet).")
         else:
-            steps.append(f"Identify Q1 ({q.part_number}, {q.package}) leads: printed face towards you, leads down, "
-                         f"left to right: {leads}. Makers differ; check the data sheet of the part in your hand.")
+            steps.append(f"Identify {part.ref} ({q.part_number}, {q.package}) leads: printed face towards you, "
+                         f"leads down, left to right: {leads}. Makers differ; check the data sheet of the part "
+                         "in your hand.")
     off_board = dict(design.topology.wiring)
     probe_of = {net: label for label, net in nl.probes}
     runs = _led_runs(pins_on) if short else {}
