@@ -31,11 +31,11 @@ from decimal import Decimal, InvalidOperation
 from fractions import Fraction
 from pathlib import Path
 
-import yaml
 from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
 
 from .errors import SpecError
 from .spec import Spec, load_spec, spec_from_node
+from .yamlcheck import Problems, compose
 
 __all__ = ["Builder", "Build", "Event", "load_event", "parse_event", "NAME_MAX_CHARS", "COUNT_MAX"]
 
@@ -101,27 +101,6 @@ class Event:
         return sum(len(b.builders) for b in self.builds)
 
 
-class _Problems:
-    """``file:line: key: problem`` lines, reported together in file order."""
-
-    def __init__(self, source: str) -> None:
-        self.source = source
-        self._found: list[tuple[int, int, str]] = []
-
-    def add(self, node: Node | None, key: str, message: str) -> None:
-        line = node.start_mark.line + 1 if node is not None else 0
-        where = f"{self.source}:{line}" if line else self.source
-        self._found.append((line, len(self._found), f"{where}: {key}: {message}" if key else f"{where}: {message}"))
-
-    def extend(self, line: int, lines: list[str]) -> None:
-        for text in lines:
-            self._found.append((line, len(self._found), text))
-
-    def raise_if_any(self) -> None:
-        if self._found:
-            raise SpecError([text for _, _, text in sorted(self._found)])
-
-
 def load_event(path: str | os.PathLike[str]) -> Event:
     """Read and check an event file and every spec it names; all problems raised together."""
     source = os.fspath(path)
@@ -143,15 +122,8 @@ def load_event(path: str | os.PathLike[str]) -> Event:
 
 def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".") -> Event:
     """Check an event given as YAML text; ``spec:`` paths are read relative to ``folder``."""
-    problems = _Problems(source)
-    try:
-        root = yaml.compose(text, Loader=yaml.SafeLoader)
-    except yaml.MarkedYAMLError as exc:
-        mark = exc.problem_mark or exc.context_mark
-        where = f"{source}:{mark.line + 1}" if mark is not None else source
-        raise SpecError(f"{where}: not valid YAML: {exc.problem or exc.context}") from None
-    except yaml.YAMLError as exc:
-        raise SpecError(f"{source}: not valid YAML: {exc}") from None
+    problems = Problems(source)
+    root = compose(text, source=source)
     if root is None:
         raise SpecError(f"{source}: is empty; an event needs at least title: and builds:")
     top = _mapping(root, "", _TOP_KEYS, problems)
@@ -174,7 +146,7 @@ def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".")
 
 
 # ----------------------------------------------------------------- checking
-def _mapping(node: Node, key: str, allowed: tuple[str, ...], problems: _Problems) -> dict[str, tuple[Node, Node]]:
+def _mapping(node: Node, key: str, allowed: tuple[str, ...], problems: Problems) -> dict[str, tuple[Node, Node]]:
     """A mapping's keys with their key and value nodes; unknown or repeated keys are problems."""
     out: dict[str, tuple[Node, Node]] = {}
     if not isinstance(node, MappingNode):
@@ -194,7 +166,7 @@ def _mapping(node: Node, key: str, allowed: tuple[str, ...], problems: _Problems
     return out
 
 
-def _text(node: Node, key: str, problems: _Problems) -> str | None:
+def _text(node: Node, key: str, problems: Problems) -> str | None:
     """A scalar's text exactly as written (after YAML quoting), whatever YAML would have typed it as."""
     if not isinstance(node, ScalarNode):
         problems.add(node, key, "should be a single value, not a list or a mapping")
@@ -202,7 +174,7 @@ def _text(node: Node, key: str, problems: _Problems) -> str | None:
     return node.value
 
 
-def _printable(text: str, node: Node, key: str, problems: _Problems, *, limit: int) -> bool:
+def _printable(text: str, node: Node, key: str, problems: Problems, *, limit: int) -> bool:
     """One line of text, no control characters, not too long; the problem is noted when it is not."""
     if not text.strip():
         problems.add(node, key, "is empty")
@@ -218,14 +190,14 @@ def _printable(text: str, node: Node, key: str, problems: _Problems, *, limit: i
     return True
 
 
-def _line(node: Node, key: str, problems: _Problems) -> str | None:
+def _line(node: Node, key: str, problems: Problems) -> str | None:
     text = _text(node, key, problems)
     if text is None or not _printable(text, node, key, problems, limit=TEXT_MAX_CHARS):
         return None
     return text.strip()
 
 
-def _date(node: Node, problems: _Problems) -> _dt.date | None:
+def _date(node: Node, problems: Problems) -> _dt.date | None:
     text = _text(node, "date", problems)
     if text is None:
         return None
@@ -238,7 +210,7 @@ def _date(node: Node, problems: _Problems) -> _dt.date | None:
         return None
 
 
-def _spares(node: Node, problems: _Problems) -> tuple[Fraction, str]:
+def _spares(node: Node, problems: Problems) -> tuple[Fraction, str]:
     text = _text(node, "spares", problems)
     if text is None:
         return Fraction(0), "0 %"
@@ -258,7 +230,7 @@ def _spares(node: Node, problems: _Problems) -> tuple[Fraction, str]:
     return percent / 100, f"{match['num']} %"
 
 
-def _builds(node: Node, source: str, folder: Path, problems: _Problems) -> tuple[Build, ...]:
+def _builds(node: Node, source: str, folder: Path, problems: Problems) -> tuple[Build, ...]:
     if not isinstance(node, SequenceNode) or not node.value:
         problems.add(node, "builds", "should be a list of builds, each with spec: (or design:) and builders: "
                                      "(or count:)")
@@ -271,7 +243,7 @@ def _builds(node: Node, source: str, folder: Path, problems: _Problems) -> tuple
     return tuple(out)
 
 
-def _build(node: Node, i: int, source: str, folder: Path, problems: _Problems) -> Build | None:
+def _build(node: Node, i: int, source: str, folder: Path, problems: Problems) -> Build | None:
     key = f"builds[{i}]"
     fields = _mapping(node, key, _BUILD_KEYS, problems)
     if not isinstance(node, MappingNode):
@@ -300,7 +272,7 @@ def _build(node: Node, i: int, source: str, folder: Path, problems: _Problems) -
     return Build(index=i, line=line, source=source, spec=spec, spec_label=label, builders=builders)
 
 
-def _spec_file(node: Node, key: str, folder: Path, source: str, problems: _Problems) -> tuple[Spec | None, str]:
+def _spec_file(node: Node, key: str, folder: Path, source: str, problems: Problems) -> tuple[Spec | None, str]:
     text = _text(node, f"{key}.spec", problems)
     if text is None or not _printable(text, node, f"{key}.spec", problems, limit=4096):
         return None, ""
@@ -314,7 +286,7 @@ def _spec_file(node: Node, key: str, folder: Path, source: str, problems: _Probl
         return None, text
 
 
-def _inline(node: Node, key: str, source: str, problems: _Problems) -> tuple[Spec | None, str]:
+def _inline(node: Node, key: str, source: str, problems: Problems) -> tuple[Spec | None, str]:
     if not isinstance(node, MappingNode):
         problems.add(node, f"{key}.design", "should be a spec written inline: supply:, load:, fade: ...")
         return None, ""
@@ -325,7 +297,7 @@ def _inline(node: Node, key: str, source: str, problems: _Problems) -> tuple[Spe
         return None, ""
 
 
-def _names(node: Node, key: str, problems: _Problems) -> tuple[Builder, ...]:
+def _names(node: Node, key: str, problems: Problems) -> tuple[Builder, ...]:
     path = f"{key}.builders"
     if not isinstance(node, SequenceNode):
         problems.add(node, path, "should be a list of names, e.g. builders: [Ana, Bo]")
@@ -345,7 +317,7 @@ def _names(node: Node, key: str, problems: _Problems) -> tuple[Builder, ...]:
     return tuple(out) if len(out) == len(node.value) else ()
 
 
-def _count(node: Node, key: str, problems: _Problems) -> tuple[Builder, ...]:
+def _count(node: Node, key: str, problems: Problems) -> tuple[Builder, ...]:
     path = f"{key}.count"
     text = _text(node, path, problems)
     if text is None:

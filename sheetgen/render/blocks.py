@@ -59,28 +59,29 @@ class Styles:
     caution: ParagraphStyle
 
 
+def paragraph_style(name, size, *, font=REGULAR, leading=None, **kw) -> ParagraphStyle:
+    """Left-aligned, in the bundled faces only; sheets and cards share it so no bullet falls back to Helvetica."""
+    kw.setdefault("textColor", BLACK)
+    kw.setdefault("bulletFontName", REGULAR)  # the default would pull in unembedded Helvetica
+    kw.setdefault("bulletFontSize", size)
+    return ParagraphStyle(name, fontName=font, fontSize=size, leading=leading or size * 1.25,
+                          alignment=TA_LEFT, **kw)
+
+
 @lru_cache(maxsize=1)
 def styles() -> Styles:
     """Build the styles once, after the fonts are registered."""
     register()
-
-    def style(name, size, *, font=REGULAR, leading=None, **kw):
-        kw.setdefault("textColor", BLACK)
-        kw.setdefault("bulletFontName", REGULAR)  # the default would pull in unembedded Helvetica
-        kw.setdefault("bulletFontSize", size)
-        return ParagraphStyle(name, fontName=font, fontSize=size, leading=leading or size * 1.25,
-                              alignment=TA_LEFT, **kw)
-
     return Styles(
-        body=style("body", 9),
-        small=style("small", 7.8),
-        cell=style("cell", 8.3),
-        cell_bold=style("cell_bold", 8.3, font=BOLD),
-        heading=style("heading", 11.5, font=BOLD, leading=13),
-        step=style("step", 9, leftIndent=21, bulletIndent=0, bulletFontName=BOLD),
-        bullet=style("bullet", 8.3, leftIndent=10, bulletIndent=1),
-        caution_head=style("caution_head", 10.5, font=BOLD, textColor=WHITE),
-        caution=style("caution", 8.6, leftIndent=11, bulletIndent=2, bulletFontName=BOLD),
+        body=paragraph_style("body", 9),
+        small=paragraph_style("small", 7.8),
+        cell=paragraph_style("cell", 8.3),
+        cell_bold=paragraph_style("cell_bold", 8.3, font=BOLD),
+        heading=paragraph_style("heading", 11.5, font=BOLD, leading=13),
+        step=paragraph_style("step", 9, leftIndent=21, bulletIndent=0, bulletFontName=BOLD),
+        bullet=paragraph_style("bullet", 8.3, leftIndent=10, bulletIndent=1),
+        caution_head=paragraph_style("caution_head", 10.5, font=BOLD, textColor=WHITE),
+        caution=paragraph_style("caution", 8.6, leftIndent=11, bulletIndent=2, bulletFontName=BOLD),
     )
 
 

@@ -37,14 +37,13 @@ from typing import Callable, Sequence
 from xml.sax.saxutils import escape
 
 from reportlab.lib import colors
-from reportlab.lib.enums import TA_LEFT
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 
 from sheetgen import __version__
 from sheetgen.report import Report
 
-from .blocks import part_bands, part_groups, part_rating, part_value, refs_text, volts_range
+from .blocks import paragraph_style, part_bands, part_groups, part_rating, part_value, refs_text, volts_range
 from .fonts import BOLD, REGULAR, register
 from .layout import CardLayout, Slot
 from .sheet import FOOTER_TEXT, design_digest
@@ -96,11 +95,7 @@ def _styles(scale: float) -> _Styles:
 
     def style(name, size, *, font=REGULAR, **kw):
         size *= scale
-        kw.setdefault("textColor", BLACK)
-        kw.setdefault("bulletFontName", REGULAR)  # the default would pull in unembedded Helvetica
-        kw.setdefault("bulletFontSize", size)
-        return ParagraphStyle(f"card_{name}", fontName=font, fontSize=size, leading=size * 1.2,
-                              alignment=TA_LEFT, **kw)
+        return paragraph_style(f"card_{name}", size, font=font, leading=size * 1.2, **kw)
 
     return _Styles(
         body=style("body", 9.0),

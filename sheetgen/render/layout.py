@@ -24,10 +24,10 @@ import re
 from dataclasses import dataclass
 from importlib import resources
 
-import yaml
 from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
 
 from sheetgen.errors import SpecError
+from sheetgen.yamlcheck import Problems, compose
 
 __all__ = [
     "BLOCK_NAMES",
@@ -231,30 +231,12 @@ def load_layout(name_or_path: str | os.PathLike[str] | None = None, *,
 
 
 # ----------------------------------------------------------------- checking
-class _Problems:
-    """Collects ``file:line: key: problem`` lines so all of them are reported at once."""
-
-    def __init__(self, source: str) -> None:
-        self.source = source
-        self._found: list[tuple[int, str]] = []
-
-    def add(self, node: Node | None, key: str, message: str) -> None:
-        line = node.start_mark.line + 1 if node is not None else 0
-        where = f"{self.source}:{line}" if line else self.source
-        self._found.append((line, f"{where}: {key}: {message}" if key else f"{where}: {message}"))
-
-    @property
-    def lines(self) -> list[str]:
-        """The problems in file order."""
-        return [text for _, text in sorted(self._found, key=lambda f: f[0])]
-
-
 def _suggest(word: str, choices) -> str:
     hint = difflib.get_close_matches(word, list(choices), n=1)
     return f" (did you mean {hint[0]}?)" if hint else ""
 
 
-def _mapping(node: Node, key: str, allowed: tuple[str, ...], problems: _Problems) -> dict[str, tuple[Node, Node]]:
+def _mapping(node: Node, key: str, allowed: tuple[str, ...], problems: Problems) -> dict[str, tuple[Node, Node]]:
     """Keys of a mapping node with their key and value nodes; unknown or repeated keys are problems."""
     out: dict[str, tuple[Node, Node]] = {}
     if not isinstance(node, MappingNode):
@@ -273,14 +255,14 @@ def _mapping(node: Node, key: str, allowed: tuple[str, ...], problems: _Problems
     return out
 
 
-def _scalar(node: Node, key: str, problems: _Problems) -> str | None:
+def _scalar(node: Node, key: str, problems: Problems) -> str | None:
     if not isinstance(node, ScalarNode) or node.value == "":
         problems.add(node, key, "should be a single value")
         return None
     return node.value
 
 
-def _length_mm(node: Node, key: str, lo: float, hi: float, problems: _Problems) -> float | None:
+def _length_mm(node: Node, key: str, lo: float, hi: float, problems: Problems) -> float | None:
     text = _scalar(node, key, problems)
     if text is None:
         return None
@@ -295,13 +277,23 @@ def _length_mm(node: Node, key: str, lo: float, hi: float, problems: _Problems) 
     return mm
 
 
-def _flag(node: Node, key: str, problems: _Problems) -> bool:
+def _flag(node: Node, key: str, problems: Problems) -> bool:
     text = _scalar(node, key, problems)
     if text in ("true", "false"):
         return text == "true"
     if text is not None:
         problems.add(node, key, f"'{text}' should be true or false")
     return False
+
+
+def _paper(node: Node, problems: Problems) -> str | None:
+    """``page:`` as a known paper size, or None (the problem is noted); sheets and cards print on the same papers."""
+    page = _scalar(node, "page", problems)
+    if page is not None and page not in PAGE_SIZES_PT:
+        problems.add(node, "page", f"'{page}' is not a paper size{_suggest(page, PAGE_SIZES_PT)}; "
+                                   f"known: {', '.join(PAGE_SIZES_PT)}")
+        return None
+    return page
 
 
 def load_sheet_layout(name_or_path: str | os.PathLike[str] | None, *, option: str = "--layout") -> Layout:
@@ -322,15 +314,8 @@ def load_card_layout(name_or_path: str | os.PathLike[str] | None, *, option: str
 
 def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
     """Check a layout given as YAML text; raise one SpecError listing every problem."""
-    problems = _Problems(source)
-    try:
-        root = yaml.compose(text, Loader=yaml.SafeLoader)
-    except yaml.MarkedYAMLError as exc:
-        mark = exc.problem_mark or exc.context_mark
-        where = f"{source}:{mark.line + 1}" if mark is not None else source
-        raise SpecError(f"{where}: not valid YAML: {exc.problem or exc.context}") from None
-    except yaml.YAMLError as exc:
-        raise SpecError(f"{source}: not valid YAML: {exc}") from None
+    problems = Problems(source)
+    root = compose(text, source=source)
     if root is None:
         raise SpecError(f"{source}: is empty; a layout needs at least page and blocks")
     if isinstance(root, MappingNode) and any(isinstance(k, ScalarNode) and k.value == "card" for k, _ in root.value):
@@ -341,14 +326,7 @@ def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
             problems.add(root, needed, "is missing")
 
     name = _scalar(top["name"][1], "name", problems) if "name" in top else None
-    page = None
-    if "page" in top:
-        node = top["page"][1]
-        page = _scalar(node, "page", problems)
-        if page is not None and page not in PAGE_SIZES_PT:
-            problems.add(node, "page", f"'{page}' is not a paper size{_suggest(page, PAGE_SIZES_PT)}; "
-                                       f"known: {', '.join(PAGE_SIZES_PT)}")
-            page = None
+    page = _paper(top["page"][1], problems) if "page" in top else None
 
     margins: tuple[float, ...] = (12.0, 12.0, 12.0, 12.0)
     if "margins" in top:
@@ -400,13 +378,12 @@ def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
         gutter = got_gutter if got_gutter is not None else gutter
 
     blocks = _blocks(top["blocks"][1], {c.name for c in columns}, problems) if "blocks" in top else ()
-    if problems.lines:
-        raise SpecError(problems.lines)
+    problems.raise_if_any()
     return Layout(name=name, source=source, page_size=page, margins_mm=margins, columns=tuple(columns),
                   gutter_mm=gutter, blocks=blocks)
 
 
-def _blocks(node: Node, column_names: set[str], problems: _Problems) -> tuple[BlockPlacement, ...]:
+def _blocks(node: Node, column_names: set[str], problems: Problems) -> tuple[BlockPlacement, ...]:
     if not isinstance(node, SequenceNode) or not node.value:
         problems.add(node, "blocks", "should be a list of block names or {block: NAME, column: COLUMN}")
         return ()
@@ -450,21 +427,14 @@ def _blocks(node: Node, column_names: set[str], problems: _Problems) -> tuple[Bl
 
 
 # ------------------------------------------------------------- card layouts
-def _card_layout(root: MappingNode, source: str, problems: _Problems) -> CardLayout:
+def _card_layout(root: MappingNode, source: str, problems: Problems) -> CardLayout:
     """Check a card layout (a file with ``card:``) completely, as ``parse_layout`` does a sheet."""
     top = _mapping(root, "", _CARD_TOP_KEYS, problems)
     for needed in ("name", "page", "front"):
         if needed not in top:
             problems.add(root, needed, "is missing")
     name = _scalar(top["name"][1], "name", problems) if "name" in top else None
-    page = None
-    if "page" in top:
-        node = top["page"][1]
-        page = _scalar(node, "page", problems)
-        if page is not None and page not in PAGE_SIZES_PT:
-            problems.add(node, "page", f"'{page}' is not a paper size{_suggest(page, PAGE_SIZES_PT)}; "
-                                       f"known: {', '.join(PAGE_SIZES_PT)}")
-            page = None
+    page = _paper(top["page"][1], problems) if "page" in top else None
     card = _card_size(top["card"][1], problems)
     margins = 10.0
     if "margins" in top:
@@ -481,8 +451,7 @@ def _card_layout(root: MappingNode, source: str, problems: _Problems) -> CardLay
     if (front or back) and "cautions" not in where:
         problems.add(top.get("front", (root, root))[1], "front",
                      "the cautions block must be on the front or the back: every card carries them")
-    if problems.lines:
-        raise SpecError(problems.lines)
+    problems.raise_if_any()
     layout = CardLayout(name=name, source=source, page_size=page, card_mm=card, margins_mm=margins, gap_mm=gap,
                         front=front, back=back, balance=balance)
     if layout.per_sheet == 0:
@@ -492,7 +461,7 @@ def _card_layout(root: MappingNode, source: str, problems: _Problems) -> CardLay
     return layout
 
 
-def _card_size(node: Node, problems: _Problems) -> tuple[float, float]:
+def _card_size(node: Node, problems: Problems) -> tuple[float, float]:
     """A named card size or {width, height}; a fallback size when it is wrong (the problem is noted)."""
     fallback = CARD_SIZES_MM["A6"]
     if isinstance(node, MappingNode):
@@ -515,7 +484,7 @@ def _card_size(node: Node, problems: _Problems) -> tuple[float, float]:
     return CARD_SIZES_MM[text]
 
 
-def _card_side(node: Node, side: str, where: dict[str, str], problems: _Problems) -> tuple[str, ...]:
+def _card_side(node: Node, side: str, where: dict[str, str], problems: Problems) -> tuple[str, ...]:
     """One side's block names, each block placed once over both sides (``where`` remembers them)."""
     if not isinstance(node, SequenceNode) or not node.value:
         problems.add(node, side, f"should be a list of card blocks: {', '.join(CARD_BLOCK_NAMES)}")
