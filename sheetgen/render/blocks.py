@@ -542,7 +542,7 @@ def schematic_block(report: Report, *, max_height_pt: float) -> Block:
 
 
 class _Schematic(Flowable):
-    """The schematic helper's drawing, made for the width this block is given."""
+    """The schematic, drawn for the width this block is given."""
 
     def __init__(self, report: Report, *, max_height_pt: float) -> None:
         super().__init__()
