@@ -531,6 +531,9 @@ def _infeasible_message(spec: Spec, refusals: list[str], c_max: float) -> str:
              f"within ±{ACCURACY:.0%} (timing capacitor at most {format_quantity(c_max, 'F')}):"]
     lines += [f"  - {r}" for r in refusals]
     hints = []
+    if spec.fade_in_s > 2 * spec.fade_out_s:
+        hints.append("a fade-in much longer than the fade-out needs a large charge resistor against a small "
+                     "bleed resistor, which leaves too little drive; bring the two times closer together")
     if spec.topology != "auto":
         hints.append("topology: auto lets the sizer move to a stronger stage")
     hints.append("a shorter fade-in, fade times nearer 1-5 s, or a lighter load are easiest to reach")
