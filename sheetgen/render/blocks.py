@@ -96,23 +96,28 @@ def _pm(markup: str, style: ParagraphStyle) -> Paragraph:
 
 
 # ------------------------------------------------------------ flowable kit
-class _Heading(Flowable):
-    """Block title with a rule under it across the block's width."""
+class Heading(Flowable):
+    """Block title with a rule under it across the block's width.
 
-    def __init__(self, text: str) -> None:
+    Sheets use the defaults; cards pass their own style and a tighter gap and rule.
+    """
+
+    def __init__(self, text: str, style: ParagraphStyle | None = None, *, gap_pt: float = 4.0,
+                 rule_pt: float = HEADING_RULE_PT, rule_y_pt: float = 1.5) -> None:
         super().__init__()
-        self._para = _p(text, styles().heading)
+        self._para = _p(text, style or styles().heading)
+        self._gap, self._rule, self._rule_y = gap_pt, rule_pt, rule_y_pt
 
     def wrap(self, aw, ah):
         _, h = self._para.wrap(aw, ah)
-        self.width, self.height = aw, h + 4.0
+        self.width, self.height = aw, h + self._gap
         return self.width, self.height
 
     def draw(self):
-        self._para.drawOn(self.canv, 0, 4.0)
-        self.canv.setLineWidth(HEADING_RULE_PT)
+        self._para.drawOn(self.canv, 0, self._gap)
+        self.canv.setLineWidth(self._rule)
         self.canv.setStrokeColor(BLACK)
-        self.canv.line(0, 1.5, self.width, 1.5)
+        self.canv.line(0, self._rule_y, self.width, self._rule_y)
 
 
 class Block(Flowable):
@@ -133,7 +138,7 @@ class Block(Flowable):
         self.whole = whole
         self.page_height_pt = page_height_pt
         self.spaceAfter = BLOCK_GAP_PT
-        self._head = _Heading(f"{heading} (continued)" if continued else heading)
+        self._head = Heading(f"{heading} (continued)" if continued else heading)
         self._sizes: list[tuple[float, float]] = []
 
     def _stack(self) -> tuple[Flowable, ...]:

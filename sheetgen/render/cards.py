@@ -43,7 +43,7 @@ from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 from sheetgen import __version__
 from sheetgen.report import Report
 
-from .blocks import paragraph_style, part_bands, part_groups, part_rating, part_value, refs_text, volts_range
+from .blocks import Heading, paragraph_style, part_bands, part_groups, part_rating, part_value, refs_text, volts_range
 from .fonts import BOLD, REGULAR, register
 from .layout import CardLayout, Slot
 from .sheet import FOOTER_TEXT, design_digest
@@ -139,23 +139,9 @@ class _Stack(Flowable):
             y -= self.gap
 
 
-class _Heading(Flowable):
-    """A block title with a thin rule under it."""
-
-    def __init__(self, text: str, style: ParagraphStyle) -> None:
-        super().__init__()
-        self._para = _p(text, style)
-
-    def wrap(self, aw, ah):
-        _, h = self._para.wrap(aw, ah)
-        self.width, self.height = aw, h + 2.5
-        return self.width, self.height
-
-    def draw(self):
-        self._para.drawOn(self.canv, 0, 2.5)
-        self.canv.setLineWidth(0.8)
-        self.canv.setStrokeColor(BLACK)
-        self.canv.line(0, 1.0, self.width, 1.0)
+def _heading(text: str, style: ParagraphStyle) -> Heading:
+    """A card's block title: the sheet heading with a tighter gap and a thin rule."""
+    return Heading(text, style, gap_pt=2.5, rule_pt=0.8, rule_y_pt=1.0)
 
 
 class _Framed(Flowable):
@@ -305,7 +291,7 @@ def _parts(report: Report, st: _Styles) -> Flowable:
 
     table = _SizedTable(rows, lambda aw: _column_widths(texts, aw, st, bold_columns=bold_columns),
                         size_pt=st.cell.fontSize)
-    return _Stack([_Heading("Parts", st.heading), table], gap_pt=st.gap_pt)
+    return _Stack([_heading("Parts", st.heading), table], gap_pt=st.gap_pt)
 
 
 def _column_widths(texts: Sequence[Sequence[str]], width: float, st: _Styles, *,
@@ -343,7 +329,7 @@ def _steps(report: Report, st: _Styles, *, keep: int | None = None) -> Flowable:
     """The card's numbered steps; ``keep`` shows only the first steps and says where the rest are."""
     steps = report.brief.steps
     shown = steps if keep is None else steps[:keep]
-    items: list[Flowable] = [_Heading("Wiring steps", st.heading)]
+    items: list[Flowable] = [_heading("Wiring steps", st.heading)]
     items += [_p(text, st.step, bulletText=f"{k}.") for k, text in enumerate(shown, start=1)]
     if len(shown) < len(steps):
         items.append(_p(f"Steps {len(shown) + 1}{EN_DASH}{len(steps)}: see Wiring on the design's build sheet.",
@@ -359,7 +345,7 @@ def _readings(report: Report, st: _Styles) -> Flowable:
              for b in report.bench]
 
     table = _SizedTable(rows, lambda aw: _shares(aw, (1.45, 1, 1)), size_pt=st.cell.fontSize)
-    return _Stack([_Heading("Meter readings (DC volts, black lead on ground)", st.heading), table],
+    return _Stack([_heading("Meter readings (DC volts, black lead on ground)", st.heading), table],
                   gap_pt=st.gap_pt)
 
 
