@@ -31,12 +31,12 @@ import json, sys, time
 t = [time.perf_counter()]
 import numpy, yaml, reportlab, schemdraw, svglib
 t.append(time.perf_counter())
-from sheetgen.spec import load_spec
-from sheetgen.size import size
-from sheetgen.analyse import analyse
-from sheetgen.render.layout import load_layout
-from sheetgen.render.sheet import render_sheet
-from sheetgen.render.write import atomic_write
+from sheetgen.inputs.spec import load_spec
+from sheetgen.sizing.size import size
+from sheetgen.sizing.analyse import analyse
+from sheetgen.inputs.layout import load_layout
+from sheetgen.outputs.pdf.sheet import render_sheet
+from sheetgen.outputs.write import atomic_write
 t.append(time.perf_counter())
 spec = load_spec(sys.argv[1]); layout = load_layout(None)
 design = size(spec); t.append(time.perf_counter())

@@ -29,10 +29,10 @@ def _best_of(fn, repeat: int) -> float:
 
 
 def main(spec_path: Path) -> None:
-    from sheetgen import simulate
-    from sheetgen.size import size
-    from sheetgen.spec import load_spec
-    from sheetgen.spice import spice_deck
+    from sheetgen.engine import simulate
+    from sheetgen.sizing.size import size
+    from sheetgen.inputs.spec import load_spec
+    from sheetgen.outputs.spice import spice_deck
 
     spec = load_spec(spec_path)
     t_size = _best_of(lambda: size(spec), 3)

@@ -25,10 +25,11 @@ def main() -> None:
     ap.add_argument("--ngspice-sample", type=int, default=25)
     args = ap.parse_args()
 
-    from sheetgen import simulate, tolerance
-    from sheetgen.size import size
-    from sheetgen.spec import load_spec
-    from sheetgen.spice import spice_deck
+    from sheetgen.engine import simulate
+    from sheetgen.sizing import tolerance
+    from sheetgen.sizing.size import size
+    from sheetgen.inputs.spec import load_spec
+    from sheetgen.outputs.spice import spice_deck
 
     design = size(load_spec(args.spec))
     sample = tolerance.draw(design, n=DRAWS, seed=1)

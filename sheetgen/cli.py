@@ -9,22 +9,23 @@ from __future__ import annotations
 import argparse
 import sys
 
-from .errors import InfeasibleDesign, SheetgenError, SpecError
+from sheetgen import __version__
+from sheetgen.errors import InfeasibleDesign, SheetgenError, SpecError
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_INFEASIBLE = 0, 1, 2, 3
 
 
 def _design(path: str):
-    from .size import size
-    from .spec import load_spec
+    from sheetgen.sizing.size import size
+    from sheetgen.inputs.spec import load_spec
 
     return size(load_spec(path))
 
 
 def cmd_size(args) -> int:
-    from .analyse import analyse
-    from .export import report_json
-    from .summary import summary_text
+    from sheetgen.sizing.analyse import analyse
+    from sheetgen.outputs.export import report_json
+    from sheetgen.outputs.summary import summary_text
 
     report = analyse(_design(args.spec))
     print(report_json(report) if args.json else summary_text(report))
@@ -32,8 +33,8 @@ def cmd_size(args) -> int:
 
 
 def cmd_check(args) -> int:
-    from .spec import load_spec
-    from .size import size
+    from sheetgen.inputs.spec import load_spec
+    from sheetgen.sizing.size import size
 
     spec = load_spec(args.spec)
     design = size(spec)
@@ -45,17 +46,17 @@ def cmd_check(args) -> int:
 
 def _sheet(spec, *, layout, out: str) -> int:
     """Check the output path first, then size, analyse and write the sheet (or a sheet of cards)."""
-    from .analyse import analyse
-    from .render.layout import CardLayout
-    from .render.sheet import build_sheet, sheet_date
-    from .render.write import atomic_write, check_writable
-    from .size import size
+    from sheetgen.sizing.analyse import analyse
+    from sheetgen.inputs.layout import CardLayout
+    from sheetgen.outputs.pdf.sheet import build_sheet, sheet_date
+    from sheetgen.outputs.write import atomic_write, check_writable
+    from sheetgen.sizing.size import size
 
     check_writable(out)
     sheet_date()  # a malformed SOURCE_DATE_EPOCH is bad input: say so before the slow part
     report = analyse(size(spec))
     if isinstance(layout, CardLayout):
-        from .render.cards import render_cards, single_design_cards
+        from sheetgen.outputs.pdf.cards import render_cards, single_design_cards
 
         path = atomic_write(out, render_cards(single_design_cards(report, layout), layout, title=spec.title))
     else:
@@ -67,8 +68,8 @@ def _sheet(spec, *, layout, out: str) -> int:
 def cmd_build(args) -> int:
     from pathlib import Path
 
-    from .render.layout import CardLayout, load_layout
-    from .spec import load_spec
+    from sheetgen.inputs.layout import CardLayout, load_layout
+    from sheetgen.inputs.spec import load_spec
 
     spec = load_spec(args.spec)
     layout = load_layout(args.layout)
@@ -80,8 +81,8 @@ def cmd_build(args) -> int:
 
 
 def cmd_demo(args) -> int:
-    from .demo import OUTPUT, demo_spec
-    from .render.layout import load_layout
+    from sheetgen.inputs.demo import OUTPUT, demo_spec
+    from sheetgen.inputs.layout import load_layout
 
     return _sheet(demo_spec(), layout=load_layout(None), out=OUTPUT)
 
@@ -91,7 +92,7 @@ PACK_FILES = ("booklet.pdf", "cards.pdf", "kit-list.csv")
 
 def _check_printable(event) -> None:
     """Every name and line of the event must be printable in the embedded font; say which is not."""
-    from .render.fonts import BOLD, REGULAR, missing_glyphs
+    from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, missing_glyphs
 
     problems = []
     for key, text in (("title", event.title), ("venue", event.venue)):
@@ -120,14 +121,14 @@ def _progress(total: int):
 
 def cmd_pack(args) -> int:
     """Check everything, size each distinct design once, render all in memory, then write all three files."""
-    from . import batch
-    from .event import load_event
-    from .kit import KitUse, kit_csv, kit_list
-    from .render.booklet import PackDesign, render_booklet
-    from .render.cards import Card, render_cards
-    from .render.layout import load_card_layout, load_sheet_layout
-    from .render.sheet import sheet_date
-    from .render.write import atomic_write_files, check_folder
+    from sheetgen.pack import batch
+    from sheetgen.inputs.event import load_event
+    from sheetgen.pack.kit import KitUse, kit_csv, kit_list
+    from sheetgen.outputs.pdf.booklet import PackDesign, render_booklet
+    from sheetgen.outputs.pdf.cards import Card, render_cards
+    from sheetgen.inputs.layout import load_card_layout, load_sheet_layout
+    from sheetgen.outputs.pdf.sheet import sheet_date
+    from sheetgen.outputs.write import atomic_write_files, check_folder
 
     event = load_event(args.event)
     _check_printable(event)
@@ -191,6 +192,7 @@ def parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
         prog="sheetgen",
         description="Size soft-on / soft-off faders for low-voltage DC lighting (5-32 V) and print build sheets.")
+    p.add_argument("--version", action="version", version=f"%(prog)s {__version__}")
     sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
 
     s = sub.add_parser("size", help="size a fader for a spec and print a summary (or the JSON report)",

@@ -22,7 +22,7 @@ def pytest_configure(config: pytest.Config) -> None:
 def pytest_runtest_setup(item: pytest.Item) -> None:
     if item.get_closest_marker("requires_ngspice") is None:
         return
-    from sheetgen.spice_run import ngspice_available
+    from sheetgen.outputs.spice_run import ngspice_available
 
     if ngspice_available():
         return
@@ -37,9 +37,9 @@ def pytest_runtest_setup(item: pytest.Item) -> None:
 def camper_report():
     from pathlib import Path
 
-    from sheetgen.analyse import analyse
-    from sheetgen.size import size
-    from sheetgen.spec import load_spec
+    from sheetgen.sizing.analyse import analyse
+    from sheetgen.sizing.size import size
+    from sheetgen.inputs.spec import load_spec
 
     return analyse(size(load_spec(Path(__file__).parent.parent / "examples" / "camper-van-step-light.yaml")))
 
@@ -48,8 +48,8 @@ def camper_report():
 def railway_report():
     from pathlib import Path
 
-    from sheetgen.analyse import analyse
-    from sheetgen.size import size
-    from sheetgen.spec import load_spec
+    from sheetgen.sizing.analyse import analyse
+    from sheetgen.sizing.size import size
+    from sheetgen.inputs.spec import load_spec
 
     return analyse(size(load_spec(Path(__file__).parent.parent / "examples" / "model-railway-station.yaml")))

@@ -11,8 +11,8 @@ import numpy as np
 import pytest
 
 from sheetgen.cli import main
-from sheetgen.measure import fade_times
-from sheetgen.spice_run import run_transient
+from sheetgen.engine.measure import fade_times
+from sheetgen.outputs.spice_run import run_transient
 
 EXAMPLES = sorted((Path(__file__).parent.parent / "examples").glob("*.yaml"))
 

@@ -1,0 +1,7 @@
+"""``python -m sheetgen``: the same command line as the ``sheetgen`` script."""
+
+import sys
+
+from sheetgen.cli import main
+
+sys.exit(main())

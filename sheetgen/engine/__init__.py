@@ -1,0 +1,1 @@
+"""The simulator: device equations, modified nodal analysis, transient and DC, measurement, heat."""

@@ -1,0 +1,336 @@
+"""Reading a build-night event file: who builds which design, and the kits' spares.
+
+The file (YAML; unknown keys are an error, as in a spec)::
+
+    title: Spring build night          # required, one line
+    date: 2027-03-20                   # optional, an ISO date
+    venue: Community workshop, room 2  # optional, one line
+    spares: 10 %                       # optional (default 0 %): extra parts per kit-list line, rounded up
+    builds:                            # required, one entry per group building one design
+      - spec: cabinet.yaml             # a spec file, relative to this file; or
+        builders: [Ana, Bo]            #   names printed on their cards exactly as written
+      - design: {supply: 12 V, ...}    # an inline spec (the spec file's keys), instead of spec:
+        count: 7                       #   or this many unnamed builders ("Builder 3 of 7")
+
+Every problem is reported at once, one a line, as ``file:line: key.path: what``
+with the build named by its place in the list (``builds[1].count``, from 0),
+and a spec that fails says so through its build.  Builders' names are taken
+from the file's text itself, never through YAML's type guessing, so "Yes",
+"0012" or "null" are names as written, not true, 12 or nothing.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import difflib
+import os
+import re
+import unicodedata
+from dataclasses import dataclass
+from decimal import Decimal, InvalidOperation
+from fractions import Fraction
+from pathlib import Path
+
+from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
+
+from sheetgen.errors import SpecError
+from sheetgen.inputs.spec import Spec, load_spec, spec_from_node
+from sheetgen.inputs.yamltree import Problems, compose
+
+__all__ = ["Builder", "Build", "Event", "load_event", "parse_event", "NAME_MAX_CHARS", "COUNT_MAX"]
+
+NAME_MAX_CHARS = 60  # two lines on the narrowest card at a readable size
+TEXT_MAX_CHARS = 120
+COUNT_MAX = 500  # builders in one build: a big club night, not a production run
+BUILDERS_MAX = 2000  # over the whole event
+_TOP_KEYS = ("title", "date", "venue", "spares", "builds")
+_BUILD_KEYS = ("spec", "design", "builders", "count")
+_PERCENT_RE = re.compile(r"^\s*(?P<num>\d+(?:\.\d+)?)\s*%\s*$")
+
+
+@dataclass(frozen=True)
+class Builder:
+    """One card to print: a builder's name as written, or a numbered place with a line to write it on."""
+
+    name: str | None
+    line: int  # where it was written (for an unnamed place, the line of count:)
+    number: int  # 1-based within its build
+    of: int  # builders in its build
+
+    @property
+    def place(self) -> str:
+        """How an unnamed card is told apart: "Builder 3 of 7"."""
+        return "" if self.name is not None else f"Builder {self.number} of {self.of}"
+
+
+@dataclass(frozen=True)
+class Build:
+    """One entry of ``builds:``: a design and the people building it."""
+
+    index: int  # from 0, as messages name it: builds[0]
+    line: int
+    source: str  # the event file
+    spec: Spec
+    spec_label: str  # the spec file as written in the event, or "inline design"
+    builders: tuple[Builder, ...]
+
+    @property
+    def where(self) -> str:
+        """``spring.yaml:6: builds[0]``: the build as every message names it."""
+        return f"{self.source}:{self.line}: builds[{self.index}]"
+
+    @property
+    def named(self) -> bool:
+        return any(b.name is not None for b in self.builders)
+
+
+@dataclass(frozen=True)
+class Event:
+    """A checked event file."""
+
+    source: str
+    title: str
+    date: _dt.date | None
+    venue: str | None
+    spares: Fraction  # 0.1 for "10 %"
+    spares_text: str  # as written, for printing
+    builds: tuple[Build, ...]
+
+    @property
+    def builder_count(self) -> int:
+        return sum(len(b.builders) for b in self.builds)
+
+
+def load_event(path: str | os.PathLike[str]) -> Event:
+    """Read and check an event file and every spec it names; all problems raised together."""
+    source = os.fspath(path)
+    try:
+        with open(source, "rb") as handle:
+            raw = handle.read()
+    except FileNotFoundError:
+        raise SpecError(f"{source}: no such event file") from None
+    except IsADirectoryError:
+        raise SpecError(f"{source}: is a directory, not an event file") from None
+    except OSError as exc:
+        raise SpecError(f"{source}: cannot be read ({exc.strerror or exc})") from None
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise SpecError(f"{source}: is not UTF-8 text (bad byte at offset {exc.start}); save it as UTF-8") from None
+    return parse_event(text, source=source, folder=Path(source).parent)
+
+
+def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".") -> Event:
+    """Check an event given as YAML text; ``spec:`` paths are read relative to ``folder``."""
+    problems = Problems(source)
+    root = compose(text, source=source)
+    if root is None:
+        raise SpecError(f"{source}: is empty; an event needs at least title: and builds:")
+    top = _mapping(root, "", _TOP_KEYS, problems)
+    for needed in ("title", "builds"):
+        if needed not in top and isinstance(root, MappingNode):
+            problems.add(root, needed, "is missing" + (
+                "; list who builds what, e.g. builds: [{spec: van.yaml, count: 6}]" if needed == "builds" else ""))
+
+    title = _line(top["title"][1], "title", problems) if "title" in top else None
+    venue = _line(top["venue"][1], "venue", problems) if "venue" in top else None
+    date = _date(top["date"][1], problems) if "date" in top else None
+    spares, spares_text = (_spares(top["spares"][1], problems) if "spares" in top else (Fraction(0), "0 %"))
+    builds = _builds(top["builds"][1], source, Path(folder), problems) if "builds" in top else ()
+    total = sum(len(b.builders) for b in builds)
+    if total > BUILDERS_MAX:
+        problems.add(top["builds"][1], "builds", f"{total} builders in all; one pack holds at most {BUILDERS_MAX}")
+    problems.raise_if_any()
+    return Event(source=source, title=title, date=date, venue=venue, spares=spares, spares_text=spares_text,
+                 builds=builds)
+
+
+# ----------------------------------------------------------------- checking
+def _mapping(node: Node, key: str, allowed: tuple[str, ...], problems: Problems) -> dict[str, tuple[Node, Node]]:
+    """A mapping's keys with their key and value nodes; unknown or repeated keys are problems."""
+    out: dict[str, tuple[Node, Node]] = {}
+    if not isinstance(node, MappingNode):
+        problems.add(node, key, f"should be a mapping with the keys {', '.join(allowed)}")
+        return out
+    for k_node, v_node in node.value:
+        name = k_node.value if isinstance(k_node, ScalarNode) else None
+        path = f"{key}.{name}" if key else str(name)
+        if name not in allowed:
+            hint = difflib.get_close_matches(str(name), allowed, n=1)
+            maybe = f" (did you mean {hint[0]}?)" if hint else ""
+            problems.add(k_node, path, f"unknown key{maybe}; known here: {', '.join(allowed)}")
+        elif name in out:
+            problems.add(k_node, path, f"is given twice (first on line {out[name][0].start_mark.line + 1}); keep one")
+        else:
+            out[name] = (k_node, v_node)
+    return out
+
+
+def _text(node: Node, key: str, problems: Problems) -> str | None:
+    """A scalar's text exactly as written (after YAML quoting), whatever YAML would have typed it as."""
+    if not isinstance(node, ScalarNode):
+        problems.add(node, key, "should be a single value, not a list or a mapping")
+        return None
+    return node.value
+
+
+def _printable(text: str, node: Node, key: str, problems: Problems, *, limit: int) -> bool:
+    """One line of text, no control characters, not too long; the problem is noted when it is not."""
+    if not text.strip():
+        problems.add(node, key, "is empty")
+        return False
+    bad = sorted({ch for ch in text if unicodedata.category(ch) == "Cc"})
+    if bad:
+        shown = ", ".join(f"U+{ord(ch):04X}" for ch in bad)
+        problems.add(node, key, f"must be one line without control characters (found {shown})")
+        return False
+    if len(text) > limit:
+        problems.add(node, key, f"is {len(text)} characters long; keep it to {limit}")
+        return False
+    return True
+
+
+def _line(node: Node, key: str, problems: Problems) -> str | None:
+    text = _text(node, key, problems)
+    if text is None or not _printable(text, node, key, problems, limit=TEXT_MAX_CHARS):
+        return None
+    return text.strip()
+
+
+def _date(node: Node, problems: Problems) -> _dt.date | None:
+    text = _text(node, "date", problems)
+    if text is None:
+        return None
+    try:
+        if not re.fullmatch(r"\d{4}-\d{2}-\d{2}", text.strip()):
+            raise ValueError
+        return _dt.date.fromisoformat(text.strip())
+    except ValueError:
+        problems.add(node, "date", f"'{text}' is not a date; write it as year-month-day, e.g. 2027-03-20")
+        return None
+
+
+def _spares(node: Node, problems: Problems) -> tuple[Fraction, str]:
+    text = _text(node, "spares", problems)
+    if text is None:
+        return Fraction(0), "0 %"
+    match = _PERCENT_RE.match(text)
+    if match is None:
+        problems.add(node, "spares", f"'{text}' should be a percentage such as 10 % (extra parts per kit-list "
+                                     "line, rounded up)")
+        return Fraction(0), "0 %"
+    try:
+        percent = Fraction(Decimal(match["num"]))
+    except InvalidOperation:  # the pattern allows only digits; kept for safety of the conversion
+        problems.add(node, "spares", f"'{text}' is not a number")
+        return Fraction(0), "0 %"
+    if percent > 100:
+        problems.add(node, "spares", f"{match['num']} % is more than 100 %; give the extra share of each line")
+        return Fraction(0), "0 %"
+    return percent / 100, f"{match['num']} %"
+
+
+def _builds(node: Node, source: str, folder: Path, problems: Problems) -> tuple[Build, ...]:
+    if not isinstance(node, SequenceNode) or not node.value:
+        problems.add(node, "builds", "should be a list of builds, each with spec: (or design:) and builders: "
+                                     "(or count:)")
+        return ()
+    out = []
+    for i, item in enumerate(node.value):
+        build = _build(item, i, source, folder, problems)
+        if build is not None:
+            out.append(build)
+    return tuple(out)
+
+
+def _build(node: Node, i: int, source: str, folder: Path, problems: Problems) -> Build | None:
+    key = f"builds[{i}]"
+    fields = _mapping(node, key, _BUILD_KEYS, problems)
+    if not isinstance(node, MappingNode):
+        return None
+    line = node.start_mark.line + 1
+    spec, label = None, ""
+    if "spec" in fields and "design" in fields:
+        problems.add(fields["design"][0], f"{key}.design", "give spec: (a file) or design: (inline), not both")
+    elif "spec" in fields:
+        spec, label = _spec_file(fields["spec"][1], key, folder, source, problems)
+    elif "design" in fields:
+        spec, label = _inline(fields["design"][1], key, source, problems)
+    else:
+        problems.add(node, key, "needs spec: (a spec file, relative to this file) or design: (an inline spec)")
+    builders: tuple[Builder, ...] = ()
+    if "builders" in fields and "count" in fields:
+        problems.add(fields["count"][0], f"{key}.count", "give builders: (names) or count: (unnamed), not both")
+    elif "builders" in fields:
+        builders = _names(fields["builders"][1], key, problems)
+    elif "count" in fields:
+        builders = _count(fields["count"][1], key, problems)
+    else:
+        problems.add(node, key, "needs builders: (a list of names) or count: (how many unnamed builders)")
+    if spec is None or not builders:
+        return None
+    return Build(index=i, line=line, source=source, spec=spec, spec_label=label, builders=builders)
+
+
+def _spec_file(node: Node, key: str, folder: Path, source: str, problems: Problems) -> tuple[Spec | None, str]:
+    text = _text(node, f"{key}.spec", problems)
+    if text is None or not _printable(text, node, f"{key}.spec", problems, limit=4096):
+        return None, ""
+    path = Path(text).expanduser()
+    path = path if path.is_absolute() else folder / path
+    try:
+        return load_spec(path), text
+    except SpecError as exc:
+        line = node.start_mark.line + 1
+        problems.extend(line, [f"{source}:{line}: {key}.spec: {problem}" for problem in exc.problems])
+        return None, text
+
+
+def _inline(node: Node, key: str, source: str, problems: Problems) -> tuple[Spec | None, str]:
+    if not isinstance(node, MappingNode):
+        problems.add(node, f"{key}.design", "should be a spec written inline: supply:, load:, fade: ...")
+        return None, ""
+    try:
+        return spec_from_node(node, source=source, key_prefix=f"{key}.design"), "inline design"
+    except SpecError as exc:
+        problems.extend(node.start_mark.line + 1, exc.problems)
+        return None, ""
+
+
+def _names(node: Node, key: str, problems: Problems) -> tuple[Builder, ...]:
+    path = f"{key}.builders"
+    if not isinstance(node, SequenceNode):
+        problems.add(node, path, "should be a list of names, e.g. builders: [Ana, Bo]")
+        return ()
+    if not node.value:
+        problems.add(node, path, "is empty; list the names, or give count: for unnamed builders")
+        return ()
+    if len(node.value) > COUNT_MAX:
+        problems.add(node, path, f"lists {len(node.value)} names; one build holds at most {COUNT_MAX}")
+        return ()
+    out = []
+    for k, item in enumerate(node.value):
+        name = _text(item, f"{path}[{k}]", problems)
+        if name is None or not _printable(name, item, f"{path}[{k}]", problems, limit=NAME_MAX_CHARS):
+            continue
+        out.append(Builder(name=name, line=item.start_mark.line + 1, number=k + 1, of=len(node.value)))
+    return tuple(out) if len(out) == len(node.value) else ()
+
+
+def _count(node: Node, key: str, problems: Problems) -> tuple[Builder, ...]:
+    path = f"{key}.count"
+    text = _text(node, path, problems)
+    if text is None:
+        return ()
+    if node.style is not None or not re.fullmatch(r"[+-]?\d+", text.strip()):
+        problems.add(node, path, f"must be a whole number of builders such as 7, got '{text}'")
+        return ()
+    count = int(text)
+    if count < 1:
+        problems.add(node, path, f"must be at least 1, got {count}")
+        return ()
+    if count > COUNT_MAX:
+        problems.add(node, path, f"must be at most {COUNT_MAX}, got {count}")
+        return ()
+    line = node.start_mark.line + 1
+    return tuple(Builder(name=None, line=line, number=k + 1, of=count) for k in range(count))

@@ -1,0 +1,763 @@
+"""Reading a fader spec (YAML) into frozen dataclasses.
+
+Everything a user can get wrong in a spec file is caught here, all at once,
+and reported one problem a line as ``file:line: key.path: what is wrong``, so
+the sizer downstream can trust every number it is given.
+
+The YAML is composed with a safe loader into a node tree first (never loaded
+straight into Python objects), because only the tree still knows the line of
+each key and whether a key was written twice.  Mapping keys are taken as they
+were written, so the YAML 1.1 habit of reading ``on``/``off``/``yes``/``no`` as
+booleans cannot silently turn ``fade: {on: .., off: ..}`` into nonsense.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import os
+import re
+from dataclasses import dataclass
+from typing import Any
+
+import yaml
+from yaml.constructor import ConstructorError, SafeConstructor
+from yaml.nodes import MappingNode, ScalarNode, SequenceNode
+
+from sheetgen.errors import SpecError
+from sheetgen.inputs.units import format_quantity, parse_quantity
+
+__all__ = [
+    "Supply",
+    "LedLoad",
+    "LampLoad",
+    "Spec",
+    "load_spec",
+    "parse_spec",
+    "spec_from_mapping",
+    "spec_from_node",
+    "default_supply_span",
+    "COVERED_MIN_V",
+    "COVERED_MAX_V",
+    "HEADROOM_V",
+]
+
+#: The supply range sheetgen sizes for: low-voltage DC, 12 V and 24 V systems
+#: with their charging swing.  Everything above is refused, not sized.
+COVERED_MIN_V = 5.0
+COVERED_MAX_V = 32.0
+#: Volts an LED string must leave free at the lowest supply for the
+#: transistor's saturation voltage and the string's series resistor.
+HEADROOM_V = 1.0
+
+DEFAULT_TITLE = "Untitled fader"
+TITLE_MAX_CHARS = 120
+
+_OUT_OF_SCOPE = (
+    "sheetgen covers low-voltage DC systems of 5–32 V only; "
+    "mains and other high-voltage work is for licensed practice"
+)
+_AC_RE = re.compile(r"(?i)(?<![a-z])(?:v\s*)?a\.?c\.?(?![a-z])|~|\bmains\b")
+_YAML_BOOL_WORDS = {"on", "off", "yes", "no", "y", "n", "true", "false"}
+
+
+@dataclass(frozen=True)
+class Supply:
+    """The always-on feed: the voltage it is named by and the span it really swings over."""
+
+    nominal_v: float  # the system's name: 12 V, 24 V
+    min_v: float  # lowest it runs at (engine off, battery low); sizes the LED headroom
+    max_v: float  # highest (charging); sizes dissipation and part voltage ratings
+
+
+@dataclass(frozen=True)
+class LedLoad:
+    """LED strings switched together by the fader, each with its own series resistor."""
+
+    current_a: float  # per string
+    vf_v: float  # one LED, typical
+    per_string: int = 1  # LEDs in series in one string
+    strings: int = 1  # parallel strings
+    colour: str | None = None  # catalog colour name when given
+    kind: str = "led"
+
+
+@dataclass(frozen=True)
+class LampLoad:
+    """Identical incandescent lamps in parallel."""
+
+    power_w: float  # one lamp, at rated_v
+    rated_v: float
+    count: int = 1  # identical lamps in parallel
+    kind: str = "lamp"
+
+
+@dataclass(frozen=True)
+class Spec:
+    """What the user asked for, checked and in SI units."""
+
+    title: str
+    supply: Supply
+    trigger: str  # "positive" | "ground"
+    load: LedLoad | LampLoad
+    fade_in_s: float  # trigger applied -> load current at 90 % of steady
+    fade_out_s: float  # trigger removed -> load current at 10 % of steady
+    ambient_c: float = 25.0  # worst-case air temperature around the box
+    topology: str = "auto"  # "auto" or the name of a topology to force
+    install: str = "vehicle"  # where it goes: vehicle | boat | building | bench (chooses the cautions)
+    source: str = ""  # file path or "<built-in>", for messages
+
+
+def default_supply_span(nominal_v: float) -> tuple[float, float]:
+    """The (min, max) a system of this nominal voltage swings over when the user gives no span.
+
+    A 12 V system spans 11.0–14.6 V: inside ISO 16750-2's 10.5–16 V and
+    8–16 V operating codes, from a low battery with the engine off to a
+    charging alternator.  Other systems scale proportionally
+    (min = 11/12 = 0.9167 × nominal, max = 14.6/12 = 1.2167 × nominal), which
+    gives 22.0–29.2 V for 24 V.
+    """
+    return round(nominal_v * 11.0 / 12.0, 6), round(nominal_v * 14.6 / 12.0, 6)
+
+
+# ---------------------------------------------------------------------------
+# Reading YAML into plain data with line numbers
+
+
+def load_spec(path: str | os.PathLike[str]) -> Spec:
+    """Read and check a spec file; every problem in it is raised in one ``SpecError``."""
+    source = os.fspath(path)
+    try:
+        with open(source, "rb") as handle:
+            raw = handle.read()
+    except FileNotFoundError:
+        raise SpecError([f"{source}: no such file"]) from None
+    except IsADirectoryError:
+        raise SpecError([f"{source}: is a directory, not a spec file"]) from None
+    except OSError as exc:
+        raise SpecError([f"{source}: cannot be read ({exc.strerror or exc})"]) from None
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise SpecError([f"{source}: is not UTF-8 text (bad byte at offset {exc.start}); save it as UTF-8"]) from None
+    return parse_spec(text, source=source)
+
+
+def parse_spec(text: str, *, source: str) -> Spec:
+    """Check a spec given as YAML text; ``source`` names it in messages."""
+    problems = _Problems(source)
+    try:
+        root = yaml.compose(text, Loader=yaml.SafeLoader)
+    except yaml.MarkedYAMLError as exc:
+        raise SpecError([_yaml_error_line(exc, text, source)]) from None
+    except yaml.YAMLError as exc:
+        raise SpecError([f"{source}: not valid YAML: {exc}"]) from None
+    if root is None:
+        data: Any = None
+    else:
+        problems.lines[()] = root.start_mark.line + 1
+        data = _Converter(problems).convert(root, ())
+    return _build(data, problems)
+
+
+def spec_from_mapping(data: dict, *, source: str) -> Spec:
+    """Check a spec already loaded into Python data (an inline spec in an event file).
+
+    Line numbers are not known here, so messages name the key path only.
+    """
+    return _build(data, _Problems(source))
+
+
+def spec_from_node(node: yaml.Node, *, source: str, key_prefix: str) -> Spec:
+    """Check a spec that sits inside another YAML file (an event's inline design).
+
+    ``node`` is the composed mapping from that file, so problems keep its real
+    line numbers; each key path is printed after ``key_prefix``
+    (``builds[2].design``), so the message says which spec it is about.
+    """
+    problems = _Problems(source, key_prefix=key_prefix)
+    problems.lines[()] = node.start_mark.line + 1
+    return _build(_Converter(problems).convert(node, ()), problems)
+
+
+def _yaml_error_line(exc: yaml.MarkedYAMLError, text: str, source: str) -> str:
+    """One line for a YAML syntax error: file, line, what the parser said, and a tab hint."""
+    mark = exc.problem_mark or exc.context_mark
+    what = exc.problem or exc.context or "cannot be read"
+    if exc.context and exc.problem and exc.context_mark is not None:
+        what = f"{what} ({exc.context} from line {exc.context_mark.line + 1})"
+    hint = ""
+    if mark is not None:
+        lines = text.splitlines()
+        line_text = lines[mark.line] if mark.line < len(lines) else ""
+        if line_text.strip():
+            # Quote the line: the parser knows no key names, the user knows the line.
+            shown = line_text.strip().replace("\t", "\\t")
+            hint = f'; at "{shown[:60]}"'
+        if "\t" in what or "\t" in line_text:
+            hint += "; YAML does not allow tabs here: indent and separate with spaces"
+    where = f"{source}:{mark.line + 1}" if mark is not None else source
+    return f"{where}: not valid YAML: {what}{hint}"
+
+
+class _Converter:
+    """Turns a composed node tree into dicts, lists and scalars, noting each key's line."""
+
+    #: Aliases are expanded, so a few lines of anchors can stand for millions of
+    #: nodes; a spec never needs more than this many.
+    MAX_NODES = 10_000
+
+    def __init__(self, problems: _Problems) -> None:
+        self._problems = problems
+        self._constructor = SafeConstructor()
+        self._open: set[int] = set()
+        self._left = self.MAX_NODES
+
+    def convert(self, node: yaml.Node, path: tuple[str, ...]) -> Any:
+        self._left -= 1
+        if self._left == -1:
+            self._problems.add(path, f"the file expands to more than {self.MAX_NODES} values; it is not a spec")
+        if self._left < 0:
+            return None
+        if id(node) in self._open:
+            self._problems.add(path, "refers to itself through a YAML alias; write the value out")
+            return None
+        if isinstance(node, ScalarNode):
+            try:
+                return self._constructor.construct_object(node, deep=True)
+            except ConstructorError as exc:
+                self._problems.add(path, f"cannot be read: {exc.problem}", line=node.start_mark.line + 1)
+                return None
+        self._open.add(id(node))
+        try:
+            if isinstance(node, SequenceNode):
+                return [self.convert(item, path + (str(i),)) for i, item in enumerate(node.value)]
+            if isinstance(node, MappingNode):
+                return self._mapping(node, path)
+            return None
+        finally:
+            self._open.discard(id(node))
+
+    def _mapping(self, node: MappingNode, path: tuple[str, ...]) -> dict[str, Any]:
+        out: dict[str, Any] = {}
+        for key_node, value_node in node.value:
+            line = key_node.start_mark.line + 1
+            if not isinstance(key_node, ScalarNode):
+                self._problems.add(path, "has a key that is not a plain name", line=line)
+                continue
+            key = key_node.value  # as written: "on" stays "on", not True
+            if key_node.tag == "tag:yaml.org,2002:merge":
+                self._problems.add(path, "uses a YAML merge key (<<); write the keys out instead", line=line)
+                continue
+            key_path = path + (key,)
+            if key in out:
+                first = self._problems.lines.get(key_path)
+                self._problems.add(key_path, f"is given twice (first on line {first}); keep one", line=line)
+                continue
+            self._problems.lines[key_path] = line
+            out[key] = self.convert(value_node, key_path)
+        return out
+
+
+# ---------------------------------------------------------------------------
+# Checking
+
+
+class _Problems:
+    """Collects problems with their lines so they can be reported together, in file order."""
+
+    def __init__(self, source: str, *, key_prefix: str = "") -> None:
+        self.source = source
+        self.key_prefix = key_prefix  # the spec's own place in a larger file, e.g. "builds[2].design"
+        self.lines: dict[tuple[str, ...], int] = {}
+        self._items: list[tuple[int, int, str]] = []
+
+    def key(self, path: tuple[str, ...]) -> str:
+        """The key path as printed: the prefix, then the path inside the spec."""
+        return ".".join(((self.key_prefix,) if self.key_prefix else ()) + tuple(path))
+
+    def _line_of(self, path: tuple[str, ...]) -> int | None:
+        for end in range(len(path), -1, -1):
+            line = self.lines.get(path[:end])
+            if line is not None:
+                return line
+        return None
+
+    def _where(self, path: tuple[str, ...], line: int | None) -> tuple[int, str]:
+        if line is None:
+            line = self._line_of(path)
+        where = f"{self.source}:{line}" if line is not None else self.source
+        return (line or 0), where
+
+    def add(self, path: tuple[str, ...], message: str, *, line: int | None = None) -> None:
+        """Record a problem about the key at ``path``."""
+        order, where = self._where(path, line)
+        key = self.key(path)
+        text = f"{where}: {key}: {message}" if key else f"{where}: {message}"
+        self._items.append((order, len(self._items), text))
+
+    def add_keyed(self, path: tuple[str, ...], message: str) -> None:
+        """Record a message that already starts with the key path (from units)."""
+        order, where = self._where(path, None)
+        self._items.append((order, len(self._items), f"{where}: {message}"))
+
+    def raise_if_any(self) -> None:
+        if self._items:
+            raise SpecError([text for _, _, text in sorted(self._items)])
+
+    def count(self) -> int:
+        return len(self._items)
+
+
+def _describe(value: Any) -> str:
+    """Name a YAML value's type the way a user would."""
+    if value is None:
+        return "nothing"
+    if isinstance(value, bool):
+        return "true/false"
+    if isinstance(value, (int, float)):
+        return "a number"
+    if isinstance(value, str):
+        return "text"
+    if isinstance(value, list):
+        return "a list"
+    if isinstance(value, dict):
+        return "a mapping"
+    return f"a {type(value).__name__}"
+
+
+def _key_name(key: Any) -> str:
+    return key if isinstance(key, str) else str(key).lower()
+
+
+def _check_keys(
+    p: _Problems,
+    mapping: dict,
+    path: tuple[str, ...],
+    known: tuple[str, ...],
+    *,
+    elsewhere: dict[str, str] | None = None,
+) -> None:
+    """Report unknown keys, suggesting the known key each resembles."""
+    for key in mapping:
+        name = _key_name(key)
+        if isinstance(key, str) and key in known:
+            continue
+        key_path = path + (name,)
+        if path == ("fade",) and name.lower() in _YAML_BOOL_WORDS:
+            p.add(key_path, "unknown key; use `in:` and `out:` (YAML 1.1 reads on/off as true/false)")
+            continue
+        if elsewhere and name in elsewhere:
+            p.add(key_path, f"does not apply here; {elsewhere[name]}")
+            continue
+        close = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
+        if not isinstance(key, str):
+            hint = "YAML read this key as true/false (on/off/yes/no do that); rename it"
+        elif close:
+            hint = f"did you mean `{close[0]}`?"
+        else:
+            hint = f"known keys here: {', '.join(known)}"
+        p.add(key_path, f"unknown key; {hint}")
+
+
+def _quantity(p: _Problems, value: Any, path: tuple[str, ...], unit: str) -> float | None:
+    try:
+        return parse_quantity(value, unit, key=p.key(path))
+    except SpecError as exc:
+        for problem in exc.problems:
+            p.add_keyed(path, problem)
+        return None
+
+
+def _in_range(
+    p: _Problems, value: float | None, path: tuple[str, ...], unit: str, low: float, high: float, why: str = ""
+) -> float | None:
+    if value is None:
+        return None
+    if not math.isfinite(value) or not low <= value <= high:
+        shown = format_quantity(value, unit) if math.isfinite(value) else str(value)
+        span = f"{format_quantity(low, unit)} to {format_quantity(high, unit)}"
+        p.add(path, f"{shown} is outside {span}{why}")
+        return None
+    return value
+
+
+def _whole(p: _Problems, mapping: dict, path: tuple[str, ...], default: int, low: int, high: int | None) -> int | None:
+    """A count such as per_string: a whole number within bounds."""
+    key = path[-1]
+    if key not in mapping:
+        return default
+    value = mapping[key]
+    if isinstance(value, bool) or not isinstance(value, int):
+        p.add(path, f"must be a whole number such as {default}, got {_describe(value)} ({value!r})")
+        return None
+    if value < low:
+        p.add(path, f"must be at least {low}, got {value}")
+        return None
+    if high is not None and value > high:
+        p.add(path, f"must be at most {high}, got {value}")
+        return None
+    return value
+
+
+def _text(p: _Problems, mapping: dict, path: tuple[str, ...]) -> str | None:
+    value = mapping[path[-1]]
+    if not isinstance(value, str):
+        p.add(path, f"must be text, got {_describe(value)}; put it in quotes if YAML read it as something else")
+        return None
+    return value.strip()
+
+
+def _voltage(p: _Problems, value: Any, path: tuple[str, ...]) -> float | None:
+    """A DC voltage inside the covered range; AC and mains are refused outright."""
+    if isinstance(value, str) and _AC_RE.search(value):
+        p.add(path, f'"{value}" is an AC supply; {_OUT_OF_SCOPE}')
+        return None
+    volts = _quantity(p, value, path, "V")
+    if volts is None:
+        return None
+    if volts > COVERED_MAX_V:
+        p.add(path, f"{format_quantity(volts, 'V')} is above the 32 V this tool covers; {_OUT_OF_SCOPE}")
+        return None
+    if volts < COVERED_MIN_V:
+        p.add(path, f"{format_quantity(volts, 'V')} is below the 5 V this tool covers (low-voltage DC, 5–32 V)")
+        return None
+    return volts
+
+
+_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install")
+INSTALLS = ("vehicle", "boat", "building", "bench")
+_SUPPLY_KEYS = ("nominal", "min", "max")
+_LED_KEYS = ("kind", "current", "vf", "colour", "per_string", "strings")
+_LAMP_KEYS = ("kind", "power", "current", "rated", "count")
+_FADE_KEYS = ("in", "out")
+_TRIGGERS = ("positive", "ground")
+_TRIGGER_HINTS = {
+    "negative": "ground",
+    "gnd": "ground",
+    "earth": "ground",
+    "low": "ground",
+    "0v": "ground",
+    "plus": "positive",
+    "+": "positive",
+    "high": "positive",
+    "live": "positive",
+}
+_KIND_HINTS = {"bulb": "lamp", "incandescent": "lamp", "filament": "lamp", "halogen": "lamp", "leds": "led"}
+
+
+def _build(data: Any, p: _Problems) -> Spec:
+    """Check plain data (from YAML or a caller) and return the Spec, or raise every problem."""
+    if data is None:
+        p.add((), "the spec is empty; it needs at least supply:, load: and fade:")
+        p.raise_if_any()
+    if not isinstance(data, dict):
+        p.add((), f"the spec must be a mapping of keys (supply:, load:, fade: ...), got {_describe(data)}")
+        p.raise_if_any()
+
+    _check_keys(p, data, (), _TOP_KEYS)
+    title = _title(p, data)
+    supply = _supply(p, data)
+    trigger = _trigger(p, data)
+    load = _load(p, data, supply)
+    fade_in_s, fade_out_s = _fade(p, data)
+    ambient_c = _ambient(p, data)
+    topology = _topology(p, data)
+    install = _install(p, data)
+    p.raise_if_any()
+    return Spec(
+        title=title,
+        supply=supply,
+        trigger=trigger,
+        load=load,
+        fade_in_s=fade_in_s,
+        fade_out_s=fade_out_s,
+        ambient_c=ambient_c,
+        topology=topology,
+        install=install,
+        source=p.source,
+    )
+
+
+def _title(p: _Problems, data: dict) -> str:
+    if "title" not in data or data["title"] is None:
+        return DEFAULT_TITLE
+    title = _text(p, data, ("title",))
+    if title is None:
+        return DEFAULT_TITLE
+    if not title:
+        p.add(("title",), "is empty; leave the key out or write a title")
+    elif "\n" in title or "\r" in title:
+        p.add(("title",), "must be one line")
+    elif len(title) > TITLE_MAX_CHARS:
+        p.add(("title",), f"is {len(title)} characters long; keep it to {TITLE_MAX_CHARS}")
+    return title
+
+
+def _supply(p: _Problems, data: dict) -> Supply | None:
+    path = ("supply",)
+    if "supply" not in data:
+        p.add(path, "missing; write the system voltage, e.g. supply: 12 V")
+        return None
+    raw = data["supply"]
+    if isinstance(raw, dict):
+        _check_keys(p, raw, path, _SUPPLY_KEYS)
+        if "nominal" not in raw:
+            p.add(path, "missing `nominal:`; e.g. supply: {nominal: 12 V, min: 11 V, max: 14.6 V}")
+            return None
+        nominal = _voltage(p, raw["nominal"], path + ("nominal",))
+        low = _voltage(p, raw["min"], path + ("min",)) if "min" in raw else None
+        high = _voltage(p, raw["max"], path + ("max",)) if "max" in raw else None
+        if nominal is None or ("min" in raw and low is None) or ("max" in raw and high is None):
+            return None
+        default_low, default_high = default_supply_span(nominal)
+        given_low, given_high = "min" in raw, "max" in raw
+        low = low if given_low else default_low
+        high = high if given_high else default_high
+    else:
+        nominal = _voltage(p, raw, path)
+        if nominal is None:
+            return None
+        low, high = default_supply_span(nominal)
+        given_low = given_high = False
+
+    failed = False
+    for given, value, name in ((given_low, low, "min"), (given_high, high, "max")):
+        if given or COVERED_MIN_V <= value <= COVERED_MAX_V:
+            continue
+        shown_nominal = format_quantity(nominal, "V")
+        clamp_low = format_quantity(max(low, COVERED_MIN_V), "V")
+        clamp_high = format_quantity(min(high, COVERED_MAX_V), "V")
+        p.add(
+            path,
+            f"a {shown_nominal} system usually swings {format_quantity(low, 'V')} to "
+            f"{format_quantity(high, 'V')}, and its {name} is outside the 5–32 V this tool covers; "
+            f"give the span, e.g. supply: {{nominal: {shown_nominal}, min: {clamp_low}, max: {clamp_high}}}",
+        )
+        failed = True
+    if failed:
+        return None
+    if low > nominal:
+        p.add(path + ("min",), f"{format_quantity(low, 'V')} is above the nominal {format_quantity(nominal, 'V')}")
+        return None
+    if high < nominal:
+        p.add(path + ("max",), f"{format_quantity(high, 'V')} is below the nominal {format_quantity(nominal, 'V')}")
+        return None
+    return Supply(nominal_v=nominal, min_v=low, max_v=high)
+
+
+def _trigger(p: _Problems, data: dict) -> str:
+    path = ("trigger",)
+    if "trigger" not in data:
+        return "positive"
+    value = _text(p, data, path)
+    if value is None:
+        return "positive"
+    word = value.lower()
+    if word in _TRIGGERS:
+        return word
+    suggestion = _TRIGGER_HINTS.get(word) or next(iter(difflib.get_close_matches(word, _TRIGGERS, n=1)), None)
+    hint = f"; did you mean `{suggestion}`?" if suggestion else ""
+    p.add(
+        path,
+        f'"{value}" is not a trigger; use positive (the feed rises to the supply when on) '
+        f"or ground (it is pulled to 0 V when on){hint}",
+    )
+    return "positive"
+
+
+def _load(p: _Problems, data: dict, supply: Supply | None) -> LedLoad | LampLoad | None:
+    path = ("load",)
+    if "load" not in data:
+        p.add(path, "missing; describe the load, e.g. load: {kind: led, current: 20 mA, vf: 3.1 V}")
+        return None
+    raw = data["load"]
+    if not isinstance(raw, dict):
+        p.add(path, f"must be a mapping with kind: led or kind: lamp, got {_describe(raw)}")
+        return None
+    if "kind" not in raw:
+        p.add(path, "missing `kind:`; write kind: led or kind: lamp")
+        return None
+    kind = _text(p, raw, path + ("kind",))
+    if kind is None:
+        return None
+    kind = kind.lower()
+    if kind == "led":
+        return _led(p, raw, path, supply)
+    if kind == "lamp":
+        return _lamp(p, raw, path, supply)
+    suggestion = _KIND_HINTS.get(kind) or next(iter(difflib.get_close_matches(kind, ("led", "lamp"), n=1)), None)
+    hint = f"; did you mean `{suggestion}`?" if suggestion else ""
+    p.add(path + ("kind",), f'"{kind}" is not a load kind; use led or lamp{hint}')
+    return None
+
+
+def _led(p: _Problems, raw: dict, path: tuple[str, ...], supply: Supply | None) -> LedLoad | None:
+    lamp_only = {"power": "power is for kind: lamp; an LED load takes current:",
+                 "rated": "rated is for kind: lamp", "count": "count is for kind: lamp; LEDs use strings:"}
+    _check_keys(p, raw, path, _LED_KEYS, elsewhere=lamp_only)
+    before = p.count()
+
+    current = None
+    if "current" in raw:
+        current = _quantity(p, raw["current"], path + ("current",), "A")
+        current = _in_range(p, current, path + ("current",), "A", 1e-3, 3.0, " (per string)")
+    else:
+        p.add(path, "missing `current:` (per string), e.g. current: 20 mA")
+
+    colour = None
+    colour_vf = None
+    if "colour" in raw:
+        name = _text(p, raw, path + ("colour",))
+        if name:
+            colour, colour_vf = _colour_vf(p, name.lower(), path + ("colour",), vf_given="vf" in raw)
+        elif name == "":
+            p.add(path + ("colour",), "is empty; name an LED colour or give vf:")
+
+    vf = None
+    if "vf" in raw:
+        vf = _quantity(p, raw["vf"], path + ("vf",), "V")
+        vf = _in_range(p, vf, path + ("vf",), "V", 0.5, 12.0, " (forward voltage of one LED)")
+    elif "colour" not in raw:
+        p.add(path, "needs `vf:` (one LED's forward voltage, e.g. vf: 3.1 V) or `colour:` (e.g. colour: white)")
+    else:
+        vf = colour_vf
+
+    per_string = _whole(p, raw, path + ("per_string",), 1, 1, None)
+    strings = _whole(p, raw, path + ("strings",), 1, 1, 50)
+
+    if p.count() != before or current is None or vf is None or per_string is None or strings is None:
+        return None
+    if supply is not None:
+        available = supply.min_v - HEADROOM_V
+        if per_string * vf >= available:
+            fit = max(math.ceil(available / vf) - 1, 0)
+            fits = f"at most {fit} fit in a string" if fit else "not even one LED fits"
+            p.add(
+                path + ("per_string",),
+                f"{per_string} × {format_quantity(vf, 'V')} = {format_quantity(per_string * vf, 'V')} "
+                f"does not fit: the supply can fall to {format_quantity(supply.min_v, 'V')} and the fader needs "
+                f"{format_quantity(HEADROOM_V, 'V')} of that; {fits}",
+            )
+            return None
+    return LedLoad(current_a=current, vf_v=vf, per_string=per_string, strings=strings, colour=colour)
+
+
+def _colour_vf(p: _Problems, colour: str, path: tuple[str, ...], *, vf_given: bool) -> tuple[str, float | None]:
+    """The catalog's name for an LED colour and its typical forward voltage (None if unknown)."""
+    try:
+        from sheetgen.parts.catalog import led_colour
+    except ImportError:
+        if not vf_given:
+            p.add(path, "the LED catalog is not available in this install; give vf: instead")
+        return colour, None
+    try:
+        entry = led_colour(colour)
+    except (KeyError, LookupError, ValueError) as exc:
+        detail = exc.args[0] if exc.args and isinstance(exc.args[0], str) else ""
+        p.add(path, f'"{colour}" is not an LED colour in the catalog' + (f" ({detail})" if detail else "")
+              + "; give vf: instead")
+        return colour, None
+    return str(getattr(entry, "name", colour)), float(entry.vf_typ_v)
+
+
+def _lamp(p: _Problems, raw: dict, path: tuple[str, ...], supply: Supply | None) -> LampLoad | None:
+    led_only = {"vf": "vf is for kind: led", "colour": "colour is for kind: led",
+                "per_string": "per_string is for kind: led", "strings": "strings is for kind: led; lamps use count:"}
+    _check_keys(p, raw, path, _LAMP_KEYS, elsewhere=led_only)
+    before = p.count()
+
+    if "rated" in raw:
+        rated = _voltage(p, raw["rated"], path + ("rated",))
+    else:
+        rated = supply.nominal_v if supply is not None else None
+
+    power = None
+    if "power" in raw and "current" in raw:
+        p.add(path + ("current",), "give power: or current:, not both (power is rated power at rated voltage)")
+    elif "power" in raw:
+        power = _quantity(p, raw["power"], path + ("power",), "W")
+        power = _in_range(p, power, path + ("power",), "W", 0.1, 100.0, " (one lamp)")
+    elif "current" in raw:
+        current = _quantity(p, raw["current"], path + ("current",), "A")
+        if current is not None and current <= 0:
+            p.add(path + ("current",), f"must be positive, got {format_quantity(current, 'A')}")
+        elif current is not None and rated is not None:
+            power = current * rated
+            if not 0.1 <= power <= 100.0:
+                p.add(
+                    path + ("current",),
+                    f"{format_quantity(current, 'A')} at {format_quantity(rated, 'V')} is "
+                    f"{format_quantity(power, 'W')}, outside 0.1 W to 100 W (one lamp)",
+                )
+                power = None
+    else:
+        p.add(path, "a lamp needs `power:` (e.g. power: 5 W) or `current:` (e.g. current: 0.42 A)")
+
+    count = _whole(p, raw, path + ("count",), 1, 1, 50)
+    if p.count() != before or power is None or rated is None or count is None:
+        return None
+    return LampLoad(power_w=power, rated_v=rated, count=count)
+
+
+def _fade(p: _Problems, data: dict) -> tuple[float | None, float | None]:
+    path = ("fade",)
+    example = "e.g. fade: {in: 1.5 s, out: 4 s}"
+    if "fade" not in data:
+        p.add(path, f"missing; give the fade-in and fade-out times, {example}")
+        return None, None
+    raw = data["fade"]
+    if not isinstance(raw, dict):
+        p.add(path, f"must be a mapping with in: and out:, {example}; got {_describe(raw)}")
+        return None, None
+    _check_keys(p, raw, path, _FADE_KEYS)
+    # fade: {on: .., off: ..} has already been told to use in/out; don't repeat it.
+    wrote_on_off = any(_key_name(key).lower() in _YAML_BOOL_WORDS for key in raw)
+    times = []
+    for key in _FADE_KEYS:
+        key_path = path + (key,)
+        if key not in raw:
+            if not wrote_on_off:
+                p.add(path, f"missing `{key}:`; {example}")
+            times.append(None)
+            continue
+        seconds = _quantity(p, raw[key], key_path, "s")
+        if seconds is not None and seconds <= 0:
+            p.add(key_path, f"must be positive, got {format_quantity(seconds, 's')}")
+            seconds = None
+        times.append(_in_range(p, seconds, key_path, "s", 0.05, 120.0))
+    return times[0], times[1]
+
+
+def _ambient(p: _Problems, data: dict) -> float:
+    if "ambient" not in data:
+        return 25.0
+    value = _quantity(p, data["ambient"], ("ambient",), "degC")
+    value = _in_range(p, value, ("ambient",), "degC", -40.0, 85.0, " (the range the part ratings are taken over)")
+    return 25.0 if value is None else value
+
+
+def _install(p: _Problems, data: dict) -> str:
+    if "install" not in data:
+        return "vehicle"
+    value = _text(p, data, ("install",))
+    if value is None:
+        return "vehicle"
+    if value.lower() not in INSTALLS:
+        close = difflib.get_close_matches(value.lower(), INSTALLS, n=1)
+        hint = f"; did you mean `{close[0]}`?" if close else ""
+        p.add(("install",), f'"{value}" is not a place; use one of {", ".join(INSTALLS)}{hint}')
+        return "vehicle"
+    return value.lower()
+
+
+def _topology(p: _Problems, data: dict) -> str:
+    if "topology" not in data:
+        return "auto"
+    name = _text(p, data, ("topology",))
+    if name is None:
+        return "auto"
+    if not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9_\-]*", name):
+        p.add(("topology",), f'"{name}" is not a topology name; write auto or a name made of letters, digits, - and _')
+        return "auto"
+    return name

@@ -1,0 +1,1 @@
+"""The netlist: parts, pins and nets, the one description every layer above reads."""

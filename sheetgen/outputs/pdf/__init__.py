@@ -1,0 +1,1 @@
+"""PDF rendering: reads a Report and draws it; never computes physics."""

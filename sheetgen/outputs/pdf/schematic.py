@@ -1,0 +1,655 @@
+"""The schematic of a fader: its topology's recipe drawn with schemdraw.
+
+The engine holds each layout as a recipe written against the small ``Pen``
+vocabulary in ``sheetgen.circuits.topologies``; this module is the one pen there is.  It
+draws with schemdraw's own SVG backend (no matplotlib) and hands the sheet a
+reportlab vector ``Drawing`` made from that SVG by svglib.
+
+Text stays text all the way into the PDF, so a reader can search the sheet
+for "R1" and a test can extract it: schemdraw is told to write ``<text>``
+elements (never glyph outlines), each label line sits on its alphabetic
+baseline (svglib ignores ``dominant-baseline``; the few texts schemdraw
+anchors otherwise are moved before conversion), and svglib is given a font
+map that sends every family to the sheet's embedded DejaVu Sans.  Labels are
+measured with that same font, so the places the pen finds for them hold.
+
+schemdraw, svglib and reportlab are imported inside the functions that need
+them, so importing this module costs nothing.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+import re
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any, Sequence
+from xml.etree import ElementTree as ET
+
+from sheetgen.model.netlist import GROUND, PIN_ORDER, Netlist, Part
+from sheetgen.inputs.units import format_quantity
+
+from sheetgen.outputs.pdf.fonts import REGULAR as PDF_FONT
+from sheetgen.outputs.pdf.fonts import register as register_fonts
+
+if TYPE_CHECKING:
+    from reportlab.graphics.shapes import Drawing
+
+    from sheetgen.circuits.topologies import Direction, Topology
+
+__all__ = ["schematic_svg", "schematic_drawing", "FONT_PT", "LINE_PT"]
+
+SVG_FONT_FAMILY = "DejaVu Sans"  # the family the SVG names; a browser with DejaVu shows what the PDF shows
+FONT_PT = 9.0  # label size at natural scale; the sheet scales the whole drawing to fit its box
+LINE_PT = 1.6  # wire and symbol weight at natural scale: still ≥ 1 pt when shrunk to half an A4 page
+LEADING = 1.15  # line spacing of multi-line labels, in font sizes
+INCHES_PER_UNIT = 0.3  # schemdraw drawing unit -> inches
+PT_PER_UNIT = 72.0 * INCHES_PER_UNIT
+PITCH = 2.0  # one part pitch (a resistor's length), in drawing units
+LED_PITCHES = 0.75  # an LED is shorter than a resistor: strings stay a sensible height
+GAP = 0.15  # between a symbol and its label, drawing units
+STUB = 0.55  # a test point's stub, drawing units
+TP_RADIUS = 0.1  # test point and terminal circles, drawing units
+SHOW_ALL_BRANCHES = 3  # more parallel branches than this are drawn as the first, a note, and the last
+SHOW_ALL_IN_SERIES = 3  # more LEDs in one string than this are drawn as first, dotted line, last
+
+_SVG_NS = "{http://www.w3.org/2000/svg}"
+
+# Half-widths of symbols across their axis (drawing units), for placing labels clear of them.
+_HALF = {"resistor": 0.3, "capacitor": 0.3, "diode": 0.3, "led": 0.3, "lamp": 0.5}
+_LED_ARROWS = 0.85  # how far an LED's light arrows reach on their side
+
+
+@dataclass(frozen=True)
+class Box:
+    """A label's extent in drawing units (y up), for layout and overlap checks."""
+
+    x0: float
+    y0: float
+    x1: float
+    y1: float
+    text: str
+
+    def overlaps(self, other: Box) -> bool:
+        """True when the two boxes share area (touching edges do not count)."""
+        return self.x0 < other.x1 and other.x0 < self.x1 and self.y0 < other.y1 and other.y0 < self.y1
+
+
+def _text_width(text: str) -> float:
+    """Width of one line of label text in drawing units, with the font the PDF embeds."""
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    return stringWidth(text, PDF_FONT, FONT_PT) / PT_PER_UNIT
+
+
+def _line_height() -> float:
+    return FONT_PT * LEADING / PT_PER_UNIT
+
+
+def _span(refs: Sequence[str]) -> str:
+    """``LED1–LED5`` for a run of consecutive designators, else a comma list."""
+    if len(refs) <= 2:
+        return ", ".join(refs)
+    parsed = [re.fullmatch(r"([A-Z]+)(\d+)", r) for r in refs]
+    if all(parsed):
+        prefixes = {m.group(1) for m in parsed}
+        numbers = [int(m.group(2)) for m in parsed]
+        if len(prefixes) == 1 and numbers == list(range(numbers[0], numbers[0] + len(numbers))):
+            return f"{refs[0]}\u2013{refs[-1]}"
+    return ", ".join(refs)
+
+
+def part_label(part: Part) -> list[str]:
+    """The lines printed beside a part: its reference, then what to fetch from the drawer."""
+    lines = [part.ref]
+    if part.kind == "resistor" and part.value is not None:
+        lines.append(format_quantity(float(part.value), "ohm"))
+        if part.rating_w is not None and part.rating_w > 0.25:
+            lines.append(format_quantity(part.rating_w, "W"))  # a ¼ W part from the drawer would cook
+    elif part.kind == "capacitor" and part.value is not None:
+        lines.append(format_quantity(float(part.value), "F"))
+        if part.rating_v is not None:
+            lines.append(format_quantity(part.rating_v, "V"))
+    elif part.kind == "lamp":
+        if part.rating_v is not None and part.rating_w is not None:
+            lines.append(f"{format_quantity(part.rating_v, 'V')} {format_quantity(part.rating_w, 'W')}")
+    elif part.kind != "led":
+        lines.append(part.part_number or part.description)
+    return lines
+
+
+def _probe_tag(label: str) -> str:
+    """The designator of a probe label (``TP2 timing capacitor`` -> ``TP2``): the sheet's table says the rest."""
+    return label.split()[0] if label.strip() else label
+
+
+@dataclass(frozen=True)
+class _Spot:
+    """One place a label may stand: an anchor and how the text block hangs from it."""
+
+    x: float
+    y: float
+    halign: str  # left | center | right
+    valign: str  # top | center | bottom
+
+
+@dataclass(frozen=True)
+class _Ask:
+    """A label waiting to be placed; the first spot that collides with nothing wins."""
+
+    lines: tuple[str, ...]
+    spots: tuple[_Spot, ...]
+    priority: int  # lower goes first: part values claim their places before test point tags
+
+
+_PART, _SIGN, _TAG = 0, 1, 2
+
+
+class SchemdrawPen:
+    """The ``Pen`` of ``sheetgen.circuits.topologies``, drawing onto one schemdraw ``Drawing``.
+
+    Symbols and wires go down as the recipe asks; labels are only requested
+    then, each with a few candidate spots, and placed by ``finish`` once every
+    symbol is known, so a label never lands on a part drawn after it.  The pen
+    keeps what a check needs: every label's box (``boxes``), the labels that
+    found no free spot (``collisions``) and the references it has drawn or
+    named (``named``).
+    """
+
+    def __init__(self) -> None:
+        import schemdraw
+
+        register_fonts()
+        self.drawing = schemdraw.Drawing(canvas="svg", show=False)
+        self.drawing.config(unit=PITCH, inches_per_unit=INCHES_PER_UNIT, fontsize=FONT_PT,
+                            font=SVG_FONT_FAMILY, lw=LINE_PT, color="black", margin=0.1)
+        self.boxes: list[Box] = []
+        self.collisions: list[str] = []
+        self.named: list[str] = []
+        self._asks: list[_Ask] = []
+        self._here = (0.0, 0.0)
+        self._net: str | None = None
+        self._marks: dict[str, tuple[tuple[float, float], str]] = {}
+        self._pins: dict[tuple[str, str], tuple[tuple[float, float], str]] = {}
+
+    # -- the Pen protocol ---------------------------------------------------------------
+
+    def start(self, net: str) -> None:
+        self._here, self._net = (0.0, 0.0), net
+
+    def move(self, toward: Direction, length: float, *, net: str) -> None:
+        self._here, self._net = self._step(toward, length), net
+
+    def wire(self, toward: Direction, length: float = 1.0, *, until: str | None = None) -> None:
+        if until is None:
+            end = self._step(toward, length)
+        else:
+            (mx, my), _ = self._marks[until]
+            end = (mx, self._here[1]) if toward in ("left", "right") else (self._here[0], my)
+            if _direction(self._here, end) not in (toward, None):
+                raise ValueError(f"mark {until!r} does not lie {toward} of the cursor")
+        self._line(self._here, end)
+        self._here = end
+
+    def mark(self, name: str) -> None:
+        self._marks[name] = (self._here, self._current())
+
+    def go(self, name: str) -> None:
+        self._here, self._net = self._marks[name]
+
+    def pin(self, part: Part, pin: str) -> None:
+        try:
+            self._here, self._net = self._pins[(part.ref, pin)]
+        except KeyError:
+            raise ValueError(f"{part.ref} pin {pin} is not drawn yet") from None
+
+    def junction(self) -> None:
+        self._dot(self._here)
+
+    def resistor(self, part: Part, toward: Direction) -> None:
+        import schemdraw.elements as elm
+
+        self._two_terminal(part, elm.ResistorIEEE(), toward)
+
+    def capacitor(self, part: Part, toward: Direction) -> None:
+        import schemdraw.elements as elm
+
+        # The curved plate is the negative one; a "+" by the straight plate says it twice.
+        self._two_terminal(part, elm.Capacitor2(), toward, plus_pin="+")
+
+    def diode(self, part: Part, toward: Direction) -> None:
+        import schemdraw.elements as elm
+
+        # A clamp is a zener working in breakdown: its symbol warns the builder off fitting a plain rectifier there.
+        self._two_terminal(part, elm.Zener() if part.role == "clamp" else elm.Diode(), toward)
+
+    def npn(self, part: Part) -> None:
+        import schemdraw.elements as elm
+
+        self._transistor(part, elm.BjtNpn(circle=True).right(), "npn", ("collector", "base", "emitter"))
+
+    def pnp(self, part: Part) -> None:
+        import schemdraw.elements as elm
+
+        self._transistor(part, elm.BjtPnp(circle=True).right(), "pnp", ("collector", "base", "emitter"))
+
+    def nmos(self, part: Part) -> None:
+        import schemdraw.elements as elm
+
+        # Gate centred between drain and source, so it reads like the BJTs; the source arrow says n-channel.
+        self._transistor(part, elm.AnalogNFet(offset_gate=False).reverse(), "nmos", ("drain", "gate", "source"))
+
+    def load(self, branches: Sequence[Sequence[Part]], *, top: str) -> None:
+        bottom = self._current()
+        if not branches:
+            raise ValueError(f"no load branches between {top!r} and {bottom!r}")
+        for branch in branches:
+            _check_chain(branch, top, bottom)
+        if len(branches) > SHOW_ALL_BRANCHES:
+            shown: list[Sequence[Part] | None] = [branches[0], None, branches[-1]]
+            note = _hidden_note(branches[1:-1])
+            self.named.extend(p.ref for b in branches[1:-1] for p in b)
+        else:
+            shown, note = list(branches), []
+
+        # Widths either side of each column: light arrows to the left, labels to the right.
+        lefts, rights = [], []
+        for branch in shown:
+            if branch is None:
+                half = max(_text_width(t) for t in note) / 2 + 0.2
+                lefts.append(half)
+                rights.append(half)
+                continue
+            lefts.append(max(_LED_ARROWS if p.kind == "led" else _HALF[p.kind] for p in branch))
+            label_w = max(_text_width(t) for group in _groups(branch) for t in _group_label(group))
+            rights.append(max(_HALF[p.kind] for p in branch) + GAP + label_w)
+        xs = [0.0]
+        for j in range(1, len(shown)):
+            xs.append(xs[-1] + rights[j - 1] + 0.35 + lefts[j])
+        x_bus, y_bus = self._here
+        # The cursor's wire rises into the rightmost column that keeps the load clear of the
+        # terminals on the left; the columns to its right then overhang the rest.
+        drawn_left = self.drawing.get_bbox().xmin if self.drawing.elements else -math.inf
+        left_limit = drawn_left + PITCH + lefts[0]
+        real = [j for j, b in enumerate(shown) if b is not None]
+        fits = [j for j in real if x_bus - xs[j] + xs[0] >= left_limit]
+        on = fits[-1] if fits else real[0]
+        xs = [x + x_bus - xs[on] for x in xs]
+        height = max(_branch_height(b) for b in shown if b is not None)
+        y_top = y_bus + height
+
+        for x, branch in zip(xs, shown):
+            if branch is None:
+                self._ask(note, [_Spot(x, y_top - 0.5, "center", "top")], _PART)
+                continue
+            self._here, self._net = (x, y_top), top
+            self._draw_branch(branch)
+            self._line(self._here, (x, y_bus))
+        if len(xs) > 1:
+            self._line((xs[0], y_top), (xs[-1], y_top))
+            self._line((xs[0], y_bus), (xs[-1], y_bus))
+            for j in real[:-1]:  # the rail tees into every column but the last, where it turns
+                self._dot((xs[j], y_top))
+            for j in real:  # the bus tees where the cursor's wire joins and at every inner column
+                if 0 < j < len(xs) - 1 or j == on:
+                    self._dot((xs[j], y_bus))
+        self._here, self._net = (xs[0], y_top), top
+
+    def ground(self) -> None:
+        import schemdraw.elements as elm
+
+        if self._current() != GROUND:
+            raise ValueError(f"a ground symbol on net {self._net!r}")
+        self.drawing.add(elm.Ground().theta(0).at(self._here))
+
+    def terminal(self, text: str, toward: Direction) -> None:
+        import schemdraw.elements as elm
+
+        self._current()
+        radius = TP_RADIUS * 1.3
+        self.drawing.add(elm.Dot(open=True, radius=radius).at(self._here))
+        self._ask(text.split("\n"), _spots(self._here, (toward,), radius + GAP), _PART)
+
+    def test_point(self, label: str, net: str, toward: Direction) -> None:
+        import schemdraw.elements as elm
+
+        if net != self._current():
+            raise ValueError(f"test point {label!r} is for net {net!r} but the cursor is on {self._net!r}")
+        dx, dy = _unit_vector(toward)
+        x, y = self._here
+        tip = (x + dx * STUB, y + dy * STUB)
+        self._dot(self._here)
+        self._line(self._here, (tip[0] - dx * TP_RADIUS, tip[1] - dy * TP_RADIUS))
+        self.drawing.add(elm.Dot(open=True, radius=TP_RADIUS).at(tip))
+        sides: tuple[Direction, ...]
+        if toward in ("left", "right"):
+            sides = (toward, "up", "down")
+        else:
+            sides = ("right", "left", toward)
+        self._ask([_probe_tag(label)], _spots(tip, sides, TP_RADIUS + 0.08), _TAG)
+
+    # -- after the recipe -------------------------------------------------------------------
+
+    def finish(self) -> None:
+        """Place every requested label on its first spot clear of symbols, wires and other labels."""
+        import schemdraw.elements as elm
+        from schemdraw.segments import SegmentText
+
+        pad = 0.05
+        obstacles = []
+        for e in self.drawing.elements:
+            b = e.get_bbox(transform=True, includetext=False)
+            obstacles.append(Box(b.xmin - pad, b.ymin - pad, b.xmax + pad, b.ymax + pad, type(e).__name__))
+        cap = 0.73 * FONT_PT / PT_PER_UNIT  # DejaVu Sans cap height
+        step = _line_height()
+        for ask in sorted(self._asks, key=lambda a: a.priority):
+            candidates = [_box(ask.lines, spot) for spot in ask.spots]
+            free = [c for c in candidates if not any(c.overlaps(o) for o in obstacles + self.boxes)]
+            if free:
+                box, spot = free[0], ask.spots[candidates.index(free[0])]
+            else:
+                box, spot = candidates[0], ask.spots[0]
+                hits = [o.text for o in obstacles + self.boxes if box.overlaps(o)]
+                self.collisions.append(f"{box.text!r} meets {', '.join(hits)}")
+            self.boxes.append(box)
+            holder = elm.Element()
+            for k, line in enumerate(ask.lines):
+                baseline = box.y1 - k * step - (step - cap) / 2 - cap
+                holder.segments.append(SegmentText((0, baseline), line, align=(spot.halign, "base"),  # type: ignore[arg-type]
+                                                   fontsize=FONT_PT, font=SVG_FONT_FAMILY))
+            self.drawing.add(holder.theta(0).at((spot.x, 0.0)))
+        self._asks.clear()
+
+    # -- helpers --------------------------------------------------------------------------
+
+    def _ask(self, lines: Sequence[str], spots: Sequence[_Spot], priority: int) -> None:
+        self._asks.append(_Ask(tuple(lines), tuple(spots), priority))
+
+    def _current(self) -> str:
+        if self._net is None:
+            raise ValueError("the recipe drew before start()")
+        return self._net
+
+    def _step(self, toward: Direction, length: float) -> tuple[float, float]:
+        dx, dy = _unit_vector(toward)
+        return (self._here[0] + dx * length * PITCH, self._here[1] + dy * length * PITCH)
+
+    def _line(self, a: tuple[float, float], b: tuple[float, float], *, dotted: bool = False) -> None:
+        import schemdraw.elements as elm
+
+        if a == b:
+            return
+        line = elm.Line().at(a).to(b)
+        if dotted:
+            line.linestyle(":")
+        self.drawing.add(line)
+
+    def _dot(self, at: tuple[float, float]) -> None:
+        import schemdraw.elements as elm
+
+        self.drawing.add(elm.Dot(radius=0.09).at(at))
+
+    def _two_terminal(self, part: Part, element: Any, toward: Direction, *, pitches: float = 1.0,
+                      plus_pin: str | None = None, label: bool = True, flip: bool = False) -> None:
+        """Place a two-pin symbol from the cursor, turned so its pins sit where the netlist says."""
+        first, second = PIN_ORDER[part.kind]
+        net = self._current()
+        if part.net(first) == net:
+            near, far = first, second
+        elif part.net(second) == net:
+            near, far = second, first
+        else:
+            raise ValueError(f"{part.ref} has no pin on net {net!r} (its pins: {dict(part.pins)})")
+        start = self._here
+        end = self._step(toward, pitches)
+        getattr(element.at(start), toward)(pitches * PITCH)  # e.g. .down(2.0): sources ignore .to()
+        if near != first:
+            element.reverse()
+        if flip:
+            element.flip()
+        self.drawing.add(element)
+        self._pins[(part.ref, near)] = (start, part.net(near))
+        self._pins[(part.ref, far)] = (end, part.net(far))
+        self._here, self._net = end, part.net(far)
+        mid = ((start[0] + end[0]) / 2, (start[1] + end[1]) / 2)
+        half = _HALF[part.kind]
+        across: tuple[Direction, Direction] = ("up", "down") if toward in ("left", "right") else ("right", "left")
+        if label:
+            spots = _spots(mid, across, half + GAP)
+            if toward in ("up", "down"):
+                # A tall label may reach the wire at the part's top: then let it hang lower.
+                low = (mid[0], min(start[1], end[1]) + 0.3 * PITCH)
+                spots += _spots(low, across, half + GAP)
+            self._ask(part_label(part), spots, _PART)
+            self.named.append(part.ref)
+        if plus_pin is not None:
+            plus_end = start if plus_pin == near else end
+            at = (mid[0] + (plus_end[0] - mid[0]) * 0.3, mid[1] + (plus_end[1] - mid[1]) * 0.3)
+            self._ask(["+"], _spots(at, across[::-1], half + 0.05), _SIGN)
+
+    def _transistor(self, part: Part, element: Any, kind: str, anchors: tuple[str, str, str]) -> None:
+        """A transistor hung by its control pin from the cursor, labelled to its right, clear of its leads.
+
+        ``anchors`` names the symbol's anchors in the order of the kind's pins
+        (``PIN_ORDER``: output, control, common), so every kind shares one check.
+        """
+        if part.kind != kind:
+            raise ValueError(f"{part.ref} is drawn as a {kind} but the netlist has a {part.kind}")
+        pins = PIN_ORDER[kind]
+        control = pins[1]
+        if part.net(control) != self._current():
+            raise ValueError(f"{part.ref}: {anchors[1]} is on {part.net(control)!r}, the cursor on {self._net!r}")
+        q = self.drawing.add(element.anchor(anchors[1]).at(self._here))
+        for pin, name in zip(pins, anchors):
+            x, y = q.absanchors[name]
+            self._pins[(part.ref, pin)] = ((float(x), float(y)), part.net(pin))
+        box = q.get_bbox(transform=True, includetext=False)
+        mid_y = (box.ymin + box.ymax) / 2
+        self._ask(part_label(part), [_Spot(box.xmax + GAP, mid_y - 0.2, "left", "center"),
+                                     _Spot(box.xmax + GAP, box.ymin, "left", "top")], _PART)
+        self.named.append(part.ref)
+
+    def _draw_branch(self, branch: Sequence[Part]) -> None:
+        """One column of the load, from its top net downwards, cursor ending at its foot."""
+        import schemdraw.elements as elm
+
+        for group in _groups(branch):
+            kind = group[0].kind
+            if kind == "led":
+                top_y = self._here[1]
+                if len(group) > SHOW_ALL_IN_SERIES:
+                    self._two_terminal(group[0], elm.LED(), "down", pitches=LED_PITCHES, label=False, flip=True)
+                    gap_start = self._here
+                    self._here = self._step("down", 0.5)
+                    self._line(gap_start, self._here, dotted=True)
+                    self._net = group[-1].net("A")
+                    self._two_terminal(group[-1], elm.LED(), "down", pitches=LED_PITCHES, label=False, flip=True)
+                    mid = (self._here[0], (top_y + self._here[1]) / 2)
+                    self._ask(_group_label(group), _spots(mid, ("right",), _HALF["led"] + GAP), _PART)
+                else:
+                    for led in group:
+                        self._two_terminal(led, elm.LED(), "down", pitches=LED_PITCHES, flip=True)
+                self.named.extend(p.ref for p in group if p.ref not in self.named)
+            elif kind == "lamp":
+                self._two_terminal(group[0], elm.Lamp(), "down")
+            elif kind == "resistor":
+                self._two_terminal(group[0], elm.ResistorIEEE(), "down")
+            else:
+                raise ValueError(f"{group[0].ref}: a {kind} cannot be drawn in a load branch")
+
+
+def _spots(at: tuple[float, float], sides: Sequence[Direction], clearance: float) -> list[_Spot]:
+    """Candidate spots for a label on the given sides of a point, ``clearance`` away, in order."""
+    x, y = at
+    place = {
+        "left": _Spot(x - clearance, y, "right", "center"),
+        "right": _Spot(x + clearance, y, "left", "center"),
+        "up": _Spot(x, y + clearance, "center", "bottom"),
+        "down": _Spot(x, y - clearance, "center", "top"),
+    }
+    return [place[s] for s in sides]
+
+
+def _box(lines: Sequence[str], spot: _Spot) -> Box:
+    """Where a block of label lines would stand if hung from ``spot``."""
+    height = _line_height() * len(lines)
+    width = max(_text_width(t) for t in lines)
+    top = {"top": spot.y, "center": spot.y + height / 2, "bottom": spot.y + height}[spot.valign]
+    x0 = {"left": spot.x, "center": spot.x - width / 2, "right": spot.x - width}[spot.halign]
+    return Box(x0, top - height, x0 + width, top, " ".join(lines))
+
+
+def _unit_vector(toward: Direction) -> tuple[float, float]:
+    return {"right": (1.0, 0.0), "left": (-1.0, 0.0), "up": (0.0, 1.0), "down": (0.0, -1.0)}[toward]
+
+
+def _direction(a: tuple[float, float], b: tuple[float, float]) -> str | None:
+    dx, dy = b[0] - a[0], b[1] - a[1]
+    if dx == 0 and dy == 0:
+        return None
+    if dy == 0:
+        return "right" if dx > 0 else "left"
+    if dx == 0:
+        return "up" if dy > 0 else "down"
+    return "diagonal"
+
+
+def _check_chain(branch: Sequence[Part], top: str, bottom: str) -> None:
+    """A branch must run part to part from ``top`` to ``bottom``; the drawing would lie otherwise."""
+    net = top
+    for part in branch:
+        if net not in part.nets:
+            raise ValueError(f"{part.ref} is not on net {net!r}, so it does not follow in series")
+        net = next(n for n in part.nets if n != net)
+    if net != bottom:
+        raise ValueError(f"branch from {top!r} ends on {net!r}, not {bottom!r}")
+
+
+def _groups(branch: Sequence[Part]) -> list[list[Part]]:
+    """Consecutive LEDs together, every other part alone."""
+    groups: list[list[Part]] = []
+    for part in branch:
+        if part.kind == "led" and groups and groups[-1][0].kind == "led":
+            groups[-1].append(part)
+        else:
+            groups.append([part])
+    return groups
+
+
+def _group_label(group: Sequence[Part]) -> list[str]:
+    if group[0].kind == "led":
+        if len(group) > SHOW_ALL_IN_SERIES:
+            return [_span([p.ref for p in group]), f"{len(group)} in series"]
+        return [p.ref for p in group]
+    return part_label(group[0])
+
+
+def _branch_height(branch: Sequence[Part]) -> float:
+    """Drawing units from a branch's top net to the foot of its last part."""
+    pitches = 0.0
+    for group in _groups(branch):
+        if group[0].kind == "led":
+            shown = 2 if len(group) > SHOW_ALL_IN_SERIES else len(group)
+            pitches += shown * LED_PITCHES + (0.5 if len(group) > SHOW_ALL_IN_SERIES else 0.0)
+        else:
+            pitches += 1.0
+    return pitches * PITCH + 0.5
+
+
+def _hidden_note(hidden: Sequence[Sequence[Part]]) -> list[str]:
+    """The lines standing in for branches not drawn, naming every part in them."""
+    by_kind: dict[str, list[str]] = {}
+    for branch in hidden:
+        for part in branch:
+            by_kind.setdefault(part.kind, []).append(part.ref)
+    what = "lamp" if all(p.kind == "lamp" for b in hidden for p in b) else "string"
+    lines = [f"+ {len(hidden)} {what}{'' if len(hidden) == 1 else 's'}", "the same:"]
+    lines += [_span(refs) for refs in by_kind.values()]
+    return lines
+
+
+def _layout(netlist: Netlist, topology: Topology) -> SchemdrawPen:
+    """Run the topology's recipe on a fresh pen and check that it named every part."""
+    pen = SchemdrawPen()
+    topology.draw(pen, netlist)
+    pen.finish()
+    missing = [p.ref for p in netlist.parts if p.ref not in pen.named]
+    if missing:
+        raise ValueError(f"the {topology.name} drawing leaves out {', '.join(missing)}")
+    return pen
+
+
+def _svg_of(pen: SchemdrawPen) -> bytes:
+    """The pen's drawing as SVG, its page grown to hold every label as the PDF font sets it."""
+    import schemdraw
+    from schemdraw.types import BBox
+
+    previous = schemdraw.svgconfig.text
+    schemdraw.svgconfig.text = "text"  # <text> elements, not glyph outlines, even when ziamath is installed
+    try:
+        fig = pen.drawing.draw(show=False)
+        box = pen.drawing.get_bbox()
+        xs = [box.xmin, box.xmax] + [b.x0 for b in pen.boxes] + [b.x1 for b in pen.boxes]
+        ys = [box.ymin, box.ymax] + [b.y0 for b in pen.boxes] + [b.y1 for b in pen.boxes]
+        fig.set_bbox(BBox(min(xs), min(ys), max(xs), max(ys)))
+        # schemdraw spells a solid line "stroke-dasharray:-", which no SVG reader accepts.
+        return fig.getimage("svg").replace(b"stroke-dasharray:-;", b"")
+    finally:
+        schemdraw.svgconfig.text = previous
+
+
+def schematic_svg(netlist: Netlist, topology: Topology) -> bytes:
+    """The schematic as a standalone SVG document (UTF-8), text kept as text."""
+    return _svg_of(_layout(netlist, topology))
+
+
+# How far below its anchor the alphabetic baseline sits for each dominant-baseline, in ems:
+# svglib reads every <text> as alphabetic, so the anchors schemdraw writes are moved.
+_BASELINE_SHIFT_EM = {"central": 0.36, "middle": 0.36, "hanging": 0.75, "text-before-edge": 0.75,
+                      "ideographic": -0.22, "text-after-edge": -0.22}
+
+
+def _for_svglib(svg: bytes) -> bytes:
+    """Put each text's baseline where a browser would, since svglib ignores ``dominant-baseline``."""
+    root = ET.fromstring(svg)
+    for text in root.iter(f"{_SVG_NS}text"):
+        baseline = text.attrib.pop("dominant-baseline", "alphabetic")
+        shift = _BASELINE_SHIFT_EM.get(baseline, 0.0)
+        if shift:
+            size = float(text.get("font-size", FONT_PT))
+            text.set("y", repr(float(text.get("y", "0")) + shift * size))
+    return ET.tostring(root, encoding="utf-8")
+
+
+def schematic_drawing(netlist: Netlist, topology: Topology, *, max_width_pt: float,
+                      max_height_pt: float) -> Drawing:
+    """The schematic as a reportlab vector ``Drawing`` no larger than the box given.
+
+    The drawing is shrunk to fit but never enlarged: at natural size its text
+    is ``FONT_PT`` and its lines ``LINE_PT``, meant for print.
+    """
+    from reportlab.graphics.shapes import Drawing, Group
+    from svglib.fonts import FontMap
+    from svglib.svglib import svg2rlg
+
+    class _SheetFont(FontMap):
+        """Every family the SVG names becomes the sheet's embedded face."""
+
+        def find_font(self, font_name: str, weight: str = "normal", style: str = "normal") -> tuple[str, bool]:
+            return PDF_FONT, True
+
+    if max_width_pt <= 0 or max_height_pt <= 0:
+        raise ValueError(f"the box must have room: {max_width_pt} × {max_height_pt} pt")
+    register_fonts()
+    art = svg2rlg(io.BytesIO(_for_svglib(schematic_svg(netlist, topology))), font_map=_SheetFont())
+    if art is None:
+        raise ValueError("svglib could not read the schematic SVG")
+    body = Group(*art.contents)
+    x0, y0, x1, y1 = body.getBounds()
+    pad = LINE_PT  # strokes reach half a line beyond the geometry, round caps included
+    x0, y0, x1, y1 = x0 - pad, y0 - pad, x1 + pad, y1 + pad
+    scale = min(1.0, max_width_pt / (x1 - x0), max_height_pt / (y1 - y0))
+    body.transform = (scale, 0, 0, scale, -x0 * scale, -y0 * scale)
+    out = Drawing((x1 - x0) * scale, (y1 - y0) * scale)
+    out.add(body)
+    return out

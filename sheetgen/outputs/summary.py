@@ -1,0 +1,54 @@
+"""The readable terminal summary of a Report."""
+
+from __future__ import annotations
+
+from sheetgen.sizing.report import Report
+from sheetgen.engine.measure import DEFINITIONS
+from sheetgen.inputs.units import format_quantity
+
+
+def _value(part) -> str:
+    if part.kind == "resistor":
+        w = f", {part.rating_w:g} W" if part.rating_w else ""
+        return f"{format_quantity(part.value, 'ohm')}{w}"
+    if part.kind == "capacitor":
+        v = f", {part.rating_v:g} V" if part.rating_v else ""
+        return f"{format_quantity(part.value, 'F')}{v}"
+    return part.part_number or part.description
+
+
+def summary_text(report: Report) -> str:
+    d = report.design
+    spec = d.spec
+    s = spec.supply
+    sp = report.spread
+    h = report.heat
+    lines = [
+        spec.title,
+        f"  supply {s.nominal_v:g} V (from {s.min_v:g} to {s.max_v:g} V), ambient up to {spec.ambient_c:g} °C",
+        f"  topology: {d.topology.title}",
+        f"  load current {format_quantity(d.load_current_a, 'A')} (steady, nominal supply)",
+        f"  fade-in  {d.fade_in_s:6.2f} s  (asked {spec.fade_in_s:g} s): {DEFINITIONS['fade_in_s']}",
+        f"  fade-out {d.fade_out_s:6.2f} s  (asked {spec.fade_out_s:g} s): {DEFINITIONS['fade_out_s']}",
+        f"  base drive at {s.min_v:g} V and minimum gain: {d.overdrive:.2f}× what saturation needs",
+        f"  over {sp.draws} tolerance draws (parts, gain, supply, ambient): fade-in {sp.fade_in_s[0]:.2f}–"
+        f"{sp.fade_in_s[2]:.2f} s, fade-out {sp.fade_out_s[0]:.2f}–{sp.fade_out_s[2]:.2f} s (5–95 %); "
+        f"{sp.full_brightness_yield:.1%} reach full brightness",
+        f"  Q1 heat at {h.supply_v:g} V, {h.ambient_c:g} °C: peak {h.peak_power_w:.2f} W while fading, "
+        f"{h.steady_power_w:.2f} W fully on; junction up to {h.peak_junction_c:.0f} °C if the feed hovers "
+        + ("(no heatsink needed)" if h.heatsink_c_per_w is None else f"(heatsink ≤ {h.heatsink_c_per_w:.0f} °C/W)"),
+        f"  fuse {report.harness.fuse_a:g} A, wire {report.harness.wire_mm2:g} mm² ({report.harness.wire_awg} AWG); "
+        f"standby drain {format_quantity(report.standby_a, 'A')}",
+        "",
+        "  parts:",
+    ]
+    seen = {}
+    for p in d.netlist.parts:
+        key = (p.kind, p.value, p.model.name if p.model else None, p.rating_w)
+        seen.setdefault(key, []).append(p)
+    for group in seen.values():
+        refs = ", ".join(p.ref for p in group)
+        lines.append(f"    {refs:<22} {_value(group[0]):<24} {group[0].description}")
+    lines.append("")
+    lines += [f"  {r}" for r in d.reasons]
+    return "\n".join(lines)

@@ -1,1 +1,0 @@
-"""Renderers: they read a Report and draw it; they never compute physics."""

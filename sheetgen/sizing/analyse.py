@@ -1,0 +1,168 @@
+"""What a sized design does: curves, heat, harness and bench readings.
+
+One batched transient covers the nominal and the maximum supply together; DC
+operating points give the steady readings.  Everything lands in a Report that
+the outputs only read.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+
+from sheetgen.parts import catalog
+from sheetgen.engine import devices
+from sheetgen.parts import eseries
+from sheetgen.sizing import instructions
+from sheetgen.engine import simulate
+from sheetgen.engine import thermal
+from sheetgen.sizing import tolerance
+from sheetgen.model.netlist import GROUND, Part
+from sheetgen.engine.measure import fade_times
+from sheetgen.sizing.report import BenchReading, Curves, Harness, Heat, Report, ResistorHeat, TuningRow
+from sheetgen.sizing.size import TJ_LIMIT_C, Design, load_line_peak_w
+from sheetgen.inputs.spec import LampLoad
+
+#: Blade-fuse ratings in amperes (ISO 8820-3 sizes; from memory).
+FUSES_A = (1, 2, 3, 5, 7.5, 10, 15, 20, 25, 30)
+FUSE_FACTOR = 1.5  # fuse ≈ 1.25-1.5 × load, so it does not blow on warm-up (check-values §7, common practice)
+#: (mm², AWG of at least that copper area, continuous amperes): rule-of-thumb ratings
+#: for single cores in free air (type2.com/~keen/west/wire2, check-values §7, a*);
+#: AWG areas from the Handbook of Electronic Tables (18 AWG 0.823, 20 AWG 0.518 mm²)
+#: and, for 16 and 14 AWG (1.31, 2.08 mm²), from memory.
+METER_INPUT_OHM = 10e6
+TUNING_PARTS = (("charge", "E12"), ("bleed", "E12"), ("timing", "E6"))
+WIRES = ((0.5, 20, 5.0), (0.75, 18, 7.0), (1.0, 16, 9.0), (1.5, 14, 13.0))
+
+
+def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int = tolerance.SEED) -> Report:
+    """Simulate the chosen design at nominal and maximum supply and over tolerance draws."""
+    spec = design.spec
+    nl = design.netlist
+    vmax, vnom = spec.supply.max_v, spec.supply.nominal_v
+    levels = np.array([vnom, vmax])
+    ov = {("VSUPPLY", "level"): levels, ("VFEED", "level"): levels}
+    tr = simulate.transient(nl, overrides=ov, n=2)
+    on_at = nl.release_s * 0.999
+    op_on = simulate.operating_point(nl, at_s=on_at, overrides=ov, n=2)
+    load = tr.i_source("VSUPPLY")
+    steady = op_on.i_source("VSUPPLY")
+
+    curves = Curves(t_s=tr.t_s, load_a=load[0], light=_light(design, tr)[0], timer_v=tr.v("timer")[0])
+    heat = _heat(design, tr, op_on)
+    harness = _harness(float(steady[1]))
+    sample = tolerance.draw(design, n=draws, seed=seed)
+    return Report(design=design, curves=curves, steady_a=float(steady[0]), heat=heat, harness=harness,
+                  bench=_bench(design, sample), spread=tolerance.spread(design, sample),
+                  tuning=_tuning(design), standby_a=_standby(design),
+                  wiring=instructions.wiring_steps(design, harness),
+                  cautions=instructions.cautions(design, heat),
+                  brief=instructions.brief(design, harness, heat))
+
+
+def _light(design: Design, tr) -> np.ndarray:
+    """Relative light output: LED flux follows current, a filament its temperature."""
+    load = design.spec.load
+    if isinstance(load, LampLoad):
+        lamps = design.netlist.by_role("load")
+        t_hot = lamps[0].model["THOT"]
+        return devices.lamp_light(tr.v(f"{lamps[0].ref}:th"), t_hot_k=t_hot)
+    # LED flux is close to proportional to forward current at these levels (common practice, no source).
+    i = tr.i_source("VSUPPLY")
+    return i / np.max(i[:, tr.t_s <= design.netlist.release_s], axis=1, keepdims=True)
+
+
+def _heat(design: Design, tr, op_on) -> Heat:
+    spec = design.spec
+    q = design.values.transistor
+    switch = design.netlist.by_role("switch")[0].ref
+    p = tr.switch_power(switch)[1]  # at maximum supply
+    t = tr.t_s
+    steady_p = float(np.interp(design.netlist.release_s * 0.999, t, p))
+    energy = float(np.sum(0.5 * (p[1:] + p[:-1]) * np.diff(t)) - steady_p * design.netlist.release_s)
+    hover = load_line_peak_w(spec, supply_v=spec.supply.max_v, r_led_ohm=design.values.r_led_ohm)
+    tj = spec.ambient_c + hover * q.rth_ja_c_per_w
+    sink = None
+    if tj > TJ_LIMIT_C:
+        sink = (TJ_LIMIT_C - spec.ambient_c) / hover - q.rth_jc_c_per_w - q.rth_cs_c_per_w
+    net = thermal.network(package=q.package, rth_jc_c_per_w=q.rth_jc_c_per_w, rth_ja_c_per_w=q.rth_ja_c_per_w)
+    tj_curve = thermal.junction_temperature(net, t_s=t, power_w=p, ambient_c=spec.ambient_c)
+    resistors = []
+    for part in design.netlist.parts:
+        if part.kind == "resistor":
+            v = op_on.v(part.net("1"))[1] - op_on.v(part.net("2"))[1]
+            resistors.append(ResistorHeat(ref=part.ref, power_w=float(v * v / part.value), rating_w=part.rating_w))
+    return Heat(transistor=q.part_number, package=q.package, ambient_c=spec.ambient_c,
+                supply_v=spec.supply.max_v, peak_power_w=float(p.max()), fade_energy_j=max(energy, 0.0),
+                steady_power_w=steady_p, hover_power_w=hover, peak_junction_c=tj, junction_limit_c=TJ_LIMIT_C,
+                heatsink_c_per_w=sink, power_t_s=t, power_w=p, junction_c=tj_curve,
+                fade_peak_junction_c=float(tj_curve.max()), resistors=tuple(resistors))
+
+
+def _harness(max_current_a: float) -> Harness:
+    need = FUSE_FACTOR * max_current_a
+    fuse = next((f for f in FUSES_A if f >= need), FUSES_A[-1])
+    for mm2, awg, amps in WIRES:
+        if amps >= fuse:
+            return Harness(max_current_a=max_current_a, fuse_a=fuse, wire_mm2=mm2, wire_awg=awg, wire_rating_a=amps)
+    mm2, awg, amps = WIRES[-1]
+    return Harness(max_current_a=max_current_a, fuse_a=fuse, wire_mm2=mm2, wire_awg=awg, wire_rating_a=amps)
+
+
+def _bench(design: Design, sample: tolerance.Draws) -> tuple[BenchReading, ...]:
+    """DC readings at each test point, feed on and off, as min-max over the tolerance draws.
+
+    Each reading includes the meter: a digital multimeter's 10 MΩ input from
+    the test point to ground (common practice, no source), which matters on
+    high-impedance nodes such as an off collector held up only by LED leakage.
+    """
+    nl = design.netlist
+    out = []
+    for label, net in nl.probes:
+        meter = Part(ref="RMETER", kind="resistor", pins=(("1", net), ("2", GROUND)), role="meter",
+                     value=METER_INPUT_OHM)
+        probed = replace(nl, parts=nl.parts + (meter,))
+        on = simulate.operating_point(probed, at_s=nl.release_s * 0.999, overrides=sample.overrides,
+                                      n=sample.n).v(net)
+        off = simulate.operating_point(probed, at_s=nl.stop_s, overrides=sample.overrides, n=sample.n).v(net)
+        out.append(BenchReading(label=label, net=net, on_v=(float(on.min()), float(on.max())),
+                                off_v=(float(off.min()), float(off.max()))))
+    return tuple(out)
+
+
+def _tuning(design: Design) -> tuple[TuningRow, ...]:
+    """Fade times with the charge, bleed and timing parts at their neighbouring standard values."""
+    nl = design.netlist
+    rows = []
+    for role, series in TUNING_PARTS:
+        part = nl.by_role(role)[0]
+        lower, higher = eseries.neighbours(series, part.value)
+        rows += [(part.ref, lower, "lower"), (part.ref, higher, "higher")]
+    n = len(rows)
+    ov: dict = {}
+    for k, (ref, value, _) in enumerate(rows):
+        arr = ov.setdefault((ref, "value"), np.full(n, nl.part(ref).value))
+        arr[k] = value
+    tr = simulate.transient(nl, overrides=ov, n=n)
+    steady = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=ov, n=n).i_source("VSUPPLY")
+    t_in, t_out = fade_times(tr.t_s, tr.i_source("VSUPPLY"), release_s=nl.release_s, steady_a=steady)
+    return tuple(TuningRow(ref=ref, value=value, direction=d, fade_in_s=float(a), fade_out_s=float(b))
+                 for (ref, value, d), a, b in zip(rows, t_in, t_out))
+
+
+def _standby(design: Design) -> float:
+    """Current from the always-on supply with the feed off, capacitor leakage included.
+
+    Electrolytic leakage follows the datasheet rule I ≤ 0.01·C·V or 3 µA at rated
+    voltage (catalog), scaled by the fraction of the rating actually applied.
+    """
+    nl = design.netlist
+    off = simulate.operating_point(nl, at_s=nl.stop_s)
+    total = float(off.i_source("VSUPPLY")[0])
+    caps = catalog.capacitors()
+    for part in nl.parts:
+        if part.kind == "capacitor" and part.rating_v:
+            v = abs(float(off.v(part.net("+"))[0] - off.v(part.net("-"))[0]))
+            total += caps.leakage_a(part.value, part.rating_v) * v / part.rating_v
+    return total

@@ -1,0 +1,147 @@
+"""Real parts: seeded random draws over tolerances, supply and ambient, in one batch.
+
+Every draw is a full parameter set for the same netlist, passed to the
+simulator as overrides, so N draws cost one batched run:
+
+* resistors uniform within their tolerance, the timing capacitor within its own;
+* each bipolar transistor's gain log-uniform between the catalog's minimum and
+  maximum at the operating current (BF of the typical card scaled by the drawn
+  ratio); a MOSFET's threshold uniform over the catalog's range;
+* each LED's forward voltage uniform from half its colour's upward spread below
+  the stated value to the full spread above it (vf_max − vf_typ of the catalog);
+* the supply uniform between the spec's minimum and maximum (feed and always-on
+  alike);
+* ambient uniform over the 25 °C below the spec's worst case, which moves the
+  transistor's Vbe by −2 mV/°C and its gain by +0.5 %/°C from 27 °C (common
+  practice, no source), applied as IS and BF of the card.
+
+"Full brightness" for a draw means its steady on current is at least 90 % of
+the current the same draw carries with the switch driven as hard as it can go
+(gain × 1000): the drive, not the battery, must not be what dims the light.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from sheetgen.parts import catalog
+from sheetgen.engine import simulate
+from sheetgen.engine.devices import VT_NOMINAL
+from sheetgen.engine.measure import fade_times
+from sheetgen.inputs.spec import LedLoad
+
+if TYPE_CHECKING:
+    from sheetgen.sizing.size import Design
+
+DEFAULT_DRAWS = 500
+SEED = 60062  # fixed, so the same spec gives the same report
+FULL_BRIGHTNESS = 0.90
+YIELD_REQUIRED = 0.99
+VBE_TC_V_PER_C = -2e-3
+HFE_TC_PER_C = 0.005
+AMBIENT_SPAN_C = 25.0
+T_MODEL_C = 27.0
+INPUT_STAGE_CURRENT_A = 0.01  # an input stage carries only the charge current, milliamps
+
+
+@dataclass(frozen=True)
+class Draws:
+    """N parameter sets as simulator overrides, with the drawn supply and ambient."""
+
+    n: int
+    overrides: dict
+    supply_v: np.ndarray
+    ambient_c: np.ndarray
+
+
+def draw(design: "Design", *, n: int = DEFAULT_DRAWS, seed: int = SEED) -> Draws:
+    """Seeded draws over every toleranced quantity of ``design``."""
+    rng = np.random.default_rng(seed)
+    spec = design.spec
+    nl = design.netlist
+    ov: dict = {}
+    for part in nl.parts:
+        if part.kind in ("resistor", "capacitor") and part.tolerance:
+            ov[(part.ref, "value")] = part.value * rng.uniform(1 - part.tolerance, 1 + part.tolerance, n)
+    supply = rng.uniform(spec.supply.min_v, spec.supply.max_v, n)
+    ov[("VSUPPLY", "level")] = supply
+    ov[("VFEED", "level")] = supply
+    ambient = rng.uniform(spec.ambient_c - AMBIENT_SPAN_C, spec.ambient_c, n)
+    dt = ambient - T_MODEL_C
+
+    for part in nl.parts:
+        if part.kind in ("npn", "pnp"):
+            i_op = design.load_current_a if part.role == "switch" else INPUT_STAGE_CURRENT_A
+            _draw_bipolar(rng, ov, part, catalog.transistor(part.part_number), i_op, dt)
+        elif part.kind == "nmos":
+            lo, hi = catalog.transistor(part.part_number).vgs_th_v
+            ov[(part.ref, "VTO")] = rng.uniform(lo, hi, n)
+
+    if isinstance(spec.load, LedLoad):
+        colour = (catalog.led_colour(spec.load.colour) if spec.load.colour else
+                  min(catalog.led_colours(), key=lambda c: abs(c.vf_typ_v - spec.load.vf_v)))
+        spread = (colour.vf_max_v - colour.vf_typ_v) / colour.vf_typ_v
+        for led in (p for p in nl.parts if p.kind == "led"):
+            dv = spec.load.vf_v * rng.uniform(-spread / 2, spread, n)
+            ov[(led.ref, "IS")] = led.model["IS"] * np.exp(-dv / (led.model["N"] * VT_NOMINAL))
+    return Draws(n=n, overrides=ov, supply_v=supply, ambient_c=ambient)
+
+
+def _draw_bipolar(rng, ov: dict, part, q, i_op: float, dt: np.ndarray) -> None:
+    """Gain log-uniform between the catalog's minimum and maximum, plus its temperature drift."""
+    n = dt.size
+    lo, hi = q.hfe_min_at(i_op), q.hfe_max_at(i_op)
+    gain = np.exp(rng.uniform(np.log(lo), np.log(hi), n)) / q.hfe_typ_at(i_op)
+    ov[(part.ref, "BF")] = part.model["BF"] * gain * (1 + HFE_TC_PER_C * dt)
+    nf = part.model.get("NF", 1.0)
+    ov[(part.ref, "IS")] = part.model["IS"] * np.exp(-VBE_TC_V_PER_C * dt / (nf * VT_NOMINAL))
+
+
+def full_brightness_yield(design: "Design", draws: Draws) -> float:
+    """Fraction of draws whose steady current reaches 90 % of what a hard switch would give."""
+    nl = design.netlist
+    at = nl.release_s * 0.999
+    real = simulate.operating_point(nl, at_s=at, overrides=draws.overrides, n=draws.n).i_source("VSUPPLY")
+    hard = dict(draws.overrides)
+    switch = nl.by_role("switch")[0]
+    if switch.kind == "nmos":
+        hard[(switch.ref, "KP")] = np.full(draws.n, switch.model["KP"] * 1000.0)
+    else:
+        hard[(switch.ref, "BF")] = draws.overrides[(switch.ref, "BF")] * 1000.0
+    ideal = simulate.operating_point(nl, at_s=at, overrides=hard, n=draws.n).i_source("VSUPPLY")
+    return float(np.mean(real >= FULL_BRIGHTNESS * ideal))
+
+
+@dataclass(frozen=True)
+class Spread:
+    """Percentiles of the fade times over the draws, the yield, and the band of curves."""
+
+    draws: int
+    fade_in_s: tuple[float, float, float]  # p5, p50, p95
+    fade_out_s: tuple[float, float, float]
+    full_brightness_yield: float
+    t_s: np.ndarray
+    load_p5_a: np.ndarray
+    load_p95_a: np.ndarray
+
+
+def spread(design: "Design", draws: Draws) -> Spread:
+    """One batched transient over all draws: fade-time percentiles and the 5-95 % band."""
+    nl = design.netlist
+    tr = simulate.transient(nl, overrides=draws.overrides, n=draws.n)
+    steady = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=draws.overrides,
+                                      n=draws.n).i_source("VSUPPLY")
+    load = tr.i_source("VSUPPLY")
+    t_in, t_out = fade_times(tr.t_s, load, release_s=nl.release_s, steady_a=steady)
+
+    def pct(x):
+        x = np.where(np.isfinite(x), x, np.inf)  # an unfinished fade counts as the slowest
+        p = np.percentile(x, [5, 50, 95])
+        return tuple(float(v) for v in p)
+
+    return Spread(draws=draws.n, fade_in_s=pct(t_in), fade_out_s=pct(t_out),
+                  full_brightness_yield=full_brightness_yield(design, draws), t_s=tr.t_s,
+                  load_p5_a=np.percentile(load, 5, axis=0), load_p95_a=np.percentile(load, 95, axis=0))

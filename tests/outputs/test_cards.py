@@ -1,0 +1,303 @@
+"""Wiring cards: names as written, one card per builder, paper, cut marks, both sides, fitting, layouts.
+
+Text is pulled out of the PDF with pypdf; the cut marks are read from the page
+content streams as the line segments they are drawn with and compared with the
+corners the card layout puts the cards at.  The cards themselves are also looked
+at by a person (pdftoppm) when their blocks change.
+"""
+
+from __future__ import annotations
+
+import io
+import re
+from dataclasses import replace
+
+import pytest
+from pypdf import PdfReader
+from pypdf.generic import ContentStream
+
+from sheetgen.sizing import instructions
+from sheetgen.cli import main
+from sheetgen.errors import SpecError
+from sheetgen.outputs.pdf.cards import (CARD_PAD_MM, MARK_LENGTH_MM, MARK_OFFSET_MM, PT_PER_MM, Card, card_sides,
+                                   cut_marks, render_cards)
+from sheetgen.inputs.layout import CARD_BLOCK_NAMES, CardLayout, load_card_layout, load_layout, parse_layout
+
+EPOCH = {"SOURCE_DATE_EPOCH": "1700000000"}
+NAMES = ["Ana", "Zoë Ødegård", "<b>Bo</b> & <i>", "../../etc/passwd", "Yes", "Łukasz Żółć", "Ан Ли"]
+
+
+@pytest.fixture(scope="module")
+def a6() -> CardLayout:
+    return load_card_layout("a6-card")
+
+
+@pytest.fixture(scope="module")
+def cards(camper_report, railway_report):
+    """Seven named camper cards (an odd count: one sheet is half full) and three numbered railway cards."""
+    out = [Card(report=camper_report, design="A", name=n, event="Spring build night \u00b7 2027-03-20") for n in NAMES]
+    out += [Card(report=railway_report, design="B", place=f"Builder {k} of 3") for k in (1, 2, 3)]
+    return out
+
+
+@pytest.fixture(scope="module")
+def pdf(cards, a6) -> bytes:
+    return render_cards(cards, a6, title="Spring build night", environ=EPOCH)
+
+
+@pytest.fixture(scope="module")
+def pages(pdf):
+    return PdfReader(io.BytesIO(pdf)).pages
+
+
+def _text(page) -> str:
+    return page.extract_text()
+
+
+def _segments(page) -> list[tuple[float, float, float, float]]:
+    """Every straight segment drawn as ``x1 y1 m x2 y2 l`` in the page's own content stream."""
+    ops = ContentStream(page.get_contents(), page.pdf).operations
+    out, start = [], None
+    for operands, op in ops:
+        if op == b"m":
+            start = tuple(float(v) for v in operands)
+        elif op == b"l" and start is not None:
+            end = tuple(float(v) for v in operands)
+            out.append((*start, *end))
+            start = end
+        else:
+            start = None if op not in (b"m", b"l") else start
+    return out
+
+
+def _form_calls(page) -> int:
+    return sum(1 for _, op in ContentStream(page.get_contents(), page.pdf).operations if op == b"Do")
+
+
+# ------------------------------------------------------------------ names
+def test_every_name_appears_exactly_as_written(pages):
+    text = "\n".join(_text(p) for p in pages)
+    for name in NAMES:
+        assert name in text.splitlines(), name  # a line of its own: not merged, not marked up, not escaped
+    assert "&lt;" not in text and "&amp;" not in text
+
+
+def test_one_card_per_builder_and_sheets_never_mix_designs(pages, cards, a6):
+    fronts = [p for p in pages if "fronts" in _text(p)]
+    assert sum(_text(p).count("BUILDER") for p in fronts) == len(cards)
+    # Seven A cards take four sheets of two; three B cards two more.
+    assert len(fronts) == 4 + 2 and len(pages) == 2 * len(fronts)
+    for page in fronts:
+        titles = {t for t in ("Camper van step light", "Model railway station lamp") if t in _text(page)}
+        assert len(titles) == 1
+
+
+def test_numbered_cards_say_their_place_and_leave_a_line_for_the_name(pages):
+    text = "\n".join(_text(p) for p in pages)
+    for k in (1, 2, 3):
+        assert f"BUILDER {k} OF 3" in text
+    assert text.count("Name") >= 3
+
+
+def test_backs_carry_no_names_and_sit_behind_either_flip(pages, a6):
+    backs = [p for p in pages if "backs" in _text(p)]
+    for page in backs:
+        text = _text(page)
+        assert not any(name in text for name in NAMES)
+        assert "Wiring steps" in text and "CAUTIONS" in text
+        # A 2 x 1 grid: one card's back must be printed in both places its front can land behind.
+        assert _form_calls(page) == a6.per_sheet
+
+
+def test_fonts_are_embedded_and_cover_the_names(pdf):
+    from sheetgen.outputs.pdf.fonts import BOLD, missing_glyphs
+
+    reader = PdfReader(io.BytesIO(pdf))
+    seen = set()
+    for page in reader.pages:
+        fonts = dict(page["/Resources"].get("/Font", {}))
+        for xobject in page["/Resources"].get("/XObject", {}).values():
+            fonts.update(xobject.get_object().get("/Resources", {}).get("/Font", {}))
+        for font in fonts.values():
+            font = font.get_object()
+            seen.add(font["/BaseFont"])
+            assert "/FontFile2" in font["/FontDescriptor"], font["/BaseFont"]
+    assert seen and all("DejaVuSans" in name for name in seen)
+    assert all(missing_glyphs(name, font=BOLD) == "" for name in NAMES)
+
+
+# ----------------------------------------------------------- paper and marks
+@pytest.mark.parametrize("name, size_pt, grid", [("a6-card", (841.89, 595.28), (2, 1)),
+                                                  ("4x6-card", (792.0, 612.0), (2, 1))])
+def test_cards_are_set_landscape_two_to_a_sheet_of_the_layouts_paper(camper_report, name, size_pt, grid):
+    layout = load_card_layout(name)
+    assert layout.grid == grid
+    reader = PdfReader(io.BytesIO(render_cards([Card(report=camper_report, name="Ana")], layout, title="t",
+                                               environ=EPOCH)))
+    for page in reader.pages:
+        assert (float(page.mediabox.width), float(page.mediabox.height)) == pytest.approx(size_pt, abs=0.01)
+    w, h = layout.card_pt
+    assert (w / PT_PER_MM, h / PT_PER_MM) == pytest.approx(layout.card_mm)
+    for slot in layout.slots():  # every card on the paper, clear of the least margin
+        assert slot.x_pt >= layout.margins_mm * PT_PER_MM - 0.01
+        assert slot.x_pt + w <= size_pt[0] - layout.margins_mm * PT_PER_MM + 0.01
+
+
+def test_cut_marks_at_every_card_corner_on_fronts_only(pages, a6):
+    slots = a6.slots()
+    w, h = a6.card_pt
+    for page in pages:
+        segments = _segments(page)
+        front = "fronts" in _text(page)
+        cards_here = _text(page).count("BUILDER") if front else 0
+        for slot in slots[:cards_here]:
+            for mark in cut_marks(slot, a6):
+                assert any(all(abs(a - b) < 0.01 for a, b in zip(mark, seg)) for seg in segments), mark
+        marks = [seg for seg in segments if any(all(abs(a - b) < 0.01 for a, b in zip(m, seg))
+                                                for slot in slots for m in cut_marks(slot, a6))]
+        assert len(marks) == 8 * cards_here  # an empty place on a half sheet gets no marks, a back none at all
+    # Each mark starts outside its corner and runs away from the card, along one of its edges.
+    for slot in slots:
+        for x1, y1, x2, y2 in cut_marks(slot, a6):
+            for x, y in ((x1, y1), (x2, y2)):
+                inside = slot.x_pt < x < slot.x_pt + w and slot.y_pt < y < slot.y_pt + h
+                assert not inside
+            length = abs(x2 - x1) + abs(y2 - y1)
+            assert 0 < length <= MARK_LENGTH_MM * PT_PER_MM + 1e-6
+            assert (x1 == x2 and x1 in (slot.x_pt, slot.x_pt + w)) or (y1 == y2 and y1 in (slot.y_pt, slot.y_pt + h))
+            gap = min(abs(x1 - cx) + abs(y1 - cy) for cx in (slot.x_pt, slot.x_pt + w)
+                      for cy in (slot.y_pt, slot.y_pt + h))
+            assert gap == pytest.approx(MARK_OFFSET_MM * PT_PER_MM)
+
+
+def test_neighbouring_marks_do_not_touch_in_the_gap(a6):
+    left, right = a6.slots()[:2]
+    reach = max(max(x1, x2) for x1, _, x2, _ in cut_marks(left, a6))
+    start = min(min(x1, x2) for x1, _, x2, _ in cut_marks(right, a6))
+    assert reach < start
+
+
+# --------------------------------------------------------------- fitting
+@pytest.mark.parametrize("name", ["a6-card", "4x6-card"])
+def test_both_sides_fit_without_shrinking_or_dropping_a_step(camper_report, railway_report, name):
+    layout = load_card_layout(name)
+    w, h = layout.card_pt
+    for report in (camper_report, railway_report):
+        sides = card_sides(report, layout)
+        assert set(sides) == {"front", "back"}
+        placed = sides["front"].blocks + sides["back"].blocks
+        assert sorted(placed) == sorted(layout.front + layout.back)  # every block once, order kept
+        assert placed == layout.front + layout.back
+        for side in sides.values():
+            assert side.shrink == 1.0 and not side.steps_cut
+            assert side.scale >= 0.78  # a body of 7 pt or more
+            assert side.height_pt <= h - 2 * CARD_PAD_MM * PT_PER_MM
+
+
+def test_a_design_too_long_for_the_card_keeps_the_first_steps_and_points_to_the_rest(camper_report, a6):
+    long = replace(camper_report, brief=replace(camper_report.brief, steps=camper_report.brief.steps * 4))
+    sides = card_sides(long, a6)
+    side = next(s for s in sides.values() if "steps" in s.blocks)
+    assert side.steps_cut and side.shrink == 1.0
+    reader = PdfReader(io.BytesIO(render_cards([Card(report=long, name="Ana")], a6, title="t", environ=EPOCH)))
+    text = " ".join(" ".join(p.extract_text().split()) for p in reader.pages)
+    match = re.search(r"Steps (\d+)\u2013(\d+): see Wiring on the design's build sheet", text)
+    assert match and int(match[2]) == len(long.brief.steps)
+    assert f"{int(match[1]) - 1}. " in text  # the steps before it are all there
+
+
+def test_same_cards_same_bytes(cards, a6, pdf):
+    assert render_cards(cards, a6, title="Spring build night", environ=EPOCH) == pdf
+
+
+# ----------------------------------------------------------- card wording
+def _expand(text: str) -> set[str]:
+    refs = set(re.findall(r"\b[A-Z]+\d+\b", text))
+    for prefix, a, b in re.findall(r"\b([A-Z]+)(\d+)(?:\u2013| to )[A-Z]+(\d+)\b", text):
+        refs |= {f"{prefix}{k}" for k in range(int(a), int(b) + 1)}
+    return refs
+
+
+def test_the_short_steps_still_wire_every_part(camper_report, railway_report):
+    for report in (camper_report, railway_report):
+        said = _expand(" ".join(report.brief.steps))
+        assert {p.ref for p in report.design.netlist.parts} <= said
+        assert len(report.brief.steps) < len(report.wiring) or len(report.design.netlist.by_role("load")) == 1
+
+
+def test_card_cautions_are_the_sheets_less_the_two_the_card_says_elsewhere(camper_report):
+    d, heat = camper_report.design, camper_report.heat
+    assert len(instructions.cautions(d, heat, short=True)) == len(instructions.cautions(d, heat)) - 2
+    assert camper_report.brief.steps[0].startswith("Disconnect the battery")
+    assert "Fuse" in camper_report.brief.cautions[0]
+
+
+# ----------------------------------------------------------------- layouts
+def test_shipped_card_layouts_place_every_card_block():
+    for name in ("a6-card", "4x6-card"):
+        layout = load_layout(name)
+        assert isinstance(layout, CardLayout) and sorted(layout.front + layout.back) == sorted(CARD_BLOCK_NAMES)
+
+
+_CARD = "name: mine\npage: A4\ncard: A6\n"
+
+
+@pytest.mark.parametrize("snippet, key, line", [
+    (_CARD + "front: [parts, cautions]\nback: [stesp]\n", "back[1]", 5),
+    (_CARD + "front: [parts, cautions]\nback: [parts]\n", "back[1]", 5),
+    (_CARD + "front: [parts]\n", "front", 4),
+    ("name: mine\npage: A4\ncard: A7\nfront: [cautions]\n", "card", 3),
+    ("name: mine\npage: A4\ncard: {width: 90 mm}\nfront: [cautions]\n", "card.height", 3),
+    (_CARD + "gap: 2 mm\nfront: [cautions]\n", "gap", 4),
+    (_CARD + "front: [cautions]\nblocks: [summary]\n", "blocks", 5),
+    (_CARD + "front: [cautions]\nbalance: maybe\n", "balance", 5),
+])
+def test_card_layout_problems_name_file_key_and_line(snippet, key, line):
+    with pytest.raises(SpecError) as err:
+        parse_layout(snippet, source="mine.yaml")
+    assert any(p.startswith(f"mine.yaml:{line}: {key}") for p in err.value.problems), err.value.problems
+
+
+def test_a_card_too_big_for_the_paper_is_refused():
+    with pytest.raises(SpecError, match="does not fit on A4"):
+        parse_layout("name: big\npage: A4\ncard: {width: 200 mm, height: 200 mm}\nfront: [cautions]\n",
+                     source="big.yaml")
+
+
+def test_a_smaller_card_sets_four_to_a_sheet():
+    layout = parse_layout("name: four\npage: A4\ncard: {width: 94 mm, height: 134 mm}\nmargins: 6 mm\n"
+                          "gap: 8 mm\nfront: [schematic, parts, harness]\nback: [steps, readings, cautions]\n",
+                          source="four.yaml")
+    assert layout.grid == (2, 2) and layout.sheet_size_pt == pytest.approx((595.2756, 841.8898))
+
+
+# ------------------------------------------------------------ command line
+def test_build_with_a_card_layout_writes_a_sheet_of_cards(camper_report, tmp_path, monkeypatch, capsys):
+    from pathlib import Path
+
+    camper = Path(__file__).parents[2] / "examples" / "camper-van-step-light.yaml"
+    monkeypatch.setattr("sheetgen.sizing.size.size", lambda spec: camper_report.design)
+    monkeypatch.setattr("sheetgen.sizing.analyse.analyse", lambda design: camper_report)
+    monkeypatch.chdir(tmp_path)
+    assert main(["build", str(camper), "--layout", "a6-card"]) == 0
+    out = tmp_path / "camper-van-step-light-cards.pdf"
+    assert capsys.readouterr().out.strip() == str(out)
+    reader = PdfReader(out)
+    fronts = [p for p in reader.pages if "fronts" in p.extract_text()]
+    assert len(fronts) == 1 and fronts[0].extract_text().count("Name") == load_card_layout("a6-card").per_sheet
+    assert [p.name for p in tmp_path.iterdir()] == [out.name]
+
+
+@pytest.mark.parametrize("args, needle", [
+    (["--layout", "a6-card"], "a6-card is a card layout"),
+    (["--cards", "a4-sheet"], "a4-sheet is a sheet layout"),
+    (["--cards", "a7-card"], "no shipped layout is named 'a7-card'"),
+])
+def test_pack_refuses_the_wrong_kind_of_layout(tmp_path, capsys, args, needle):
+    from pathlib import Path
+
+    event = Path(__file__).parents[2] / "examples" / "events" / "spring-build-night.yaml"
+    assert main(["pack", str(event), "-o", str(tmp_path / "out"), *args]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and needle in err[0]
+    assert not (tmp_path / "out").exists()
