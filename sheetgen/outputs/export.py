@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 
+from sheetgen.parts import installs
 from sheetgen.sizing.report import Report
 from sheetgen.engine.measure import DEFINITIONS
 from sheetgen.outputs.spice import spice_deck
@@ -27,6 +28,13 @@ def part_entry(part) -> dict:
     return entry
 
 
+def install_entry(spec) -> dict:
+    """Where the design goes, as applied: its profile's name, the ambient sized for and the wire minimum."""
+    place = installs.install(spec.install)
+    return {"name": place.name, "title": place.title, "ambient_c": spec.ambient_c,
+            "wire_min_mm2": place.wire_min_mm2, "supply_system": spec.system}
+
+
 def report_dict(report: Report) -> dict:
     """The JSON report: the contract's keys first, then the rest of what was computed."""
     d = report.design
@@ -43,6 +51,7 @@ def report_dict(report: Report) -> dict:
         "definitions": dict(DEFINITIONS),
         "supply": {"nominal_v": spec.supply.nominal_v, "min_v": spec.supply.min_v, "max_v": spec.supply.max_v},
         "ambient_c": spec.ambient_c,
+        "install": install_entry(spec),
         "overdrive_at_min_supply": d.overdrive,
         "reasons": list(d.reasons),
         "steady_load_a": report.steady_a,
@@ -58,6 +67,7 @@ def report_dict(report: Report) -> dict:
             "resistors": [{"ref": r.ref, "power_w": r.power_w, "rating_w": r.rating_w} for r in report.heat.resistors],
         },
         "harness": {"fuse_a": report.harness.fuse_a, "wire_mm2": report.harness.wire_mm2,
+                    "wire_min_mm2": report.harness.wire_min_mm2,
                     "wire_awg": report.harness.wire_awg, "max_current_a": report.harness.max_current_a},
         "bench": [{"point": b.label, "net": b.net, "on_v": list(b.on_v), "off_v": list(b.off_v)}
                   for b in report.bench],

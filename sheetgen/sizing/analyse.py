@@ -14,6 +14,7 @@ import numpy as np
 from sheetgen.parts import catalog
 from sheetgen.engine import devices
 from sheetgen.parts import eseries
+from sheetgen.parts import installs
 from sheetgen.sizing import instructions
 from sheetgen.engine import simulate
 from sheetgen.engine import thermal
@@ -51,7 +52,7 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
 
     curves = Curves(t_s=tr.t_s, load_a=load[0], light=_light(design, tr)[0], timer_v=tr.v("timer")[0])
     heat = _heat(design, tr, op_on)
-    harness = _harness(float(steady[1]))
+    harness = _harness(float(steady[1]), wire_min_mm2=installs.install(spec.install).wire_min_mm2)
     sample = tolerance.draw(design, n=draws, seed=seed)
     return Report(design=design, curves=curves, steady_a=float(steady[0]), heat=heat, harness=harness,
                   bench=_bench(design, sample), spread=tolerance.spread(design, sample),
@@ -100,14 +101,17 @@ def _heat(design: Design, tr, op_on) -> Heat:
                 fade_peak_junction_c=float(tj_curve.max()), resistors=tuple(resistors))
 
 
-def _harness(max_current_a: float) -> Harness:
+def _harness(max_current_a: float, *, wire_min_mm2: float) -> Harness:
+    """The fuse for the load and the smallest wire it protects, never below the install's minimum."""
     need = FUSE_FACTOR * max_current_a
     fuse = next((f for f in FUSES_A if f >= need), FUSES_A[-1])
     for mm2, awg, amps in WIRES:
-        if amps >= fuse:
-            return Harness(max_current_a=max_current_a, fuse_a=fuse, wire_mm2=mm2, wire_awg=awg, wire_rating_a=amps)
+        if amps >= fuse and mm2 >= wire_min_mm2:
+            return Harness(max_current_a=max_current_a, fuse_a=fuse, wire_mm2=mm2, wire_awg=awg, wire_rating_a=amps,
+                           wire_min_mm2=wire_min_mm2)
     mm2, awg, amps = WIRES[-1]
-    return Harness(max_current_a=max_current_a, fuse_a=fuse, wire_mm2=mm2, wire_awg=awg, wire_rating_a=amps)
+    return Harness(max_current_a=max_current_a, fuse_a=fuse, wire_mm2=mm2, wire_awg=awg, wire_rating_a=amps,
+                   wire_min_mm2=wire_min_mm2)
 
 
 def _bench(design: Design, sample: tolerance.Draws) -> tuple[BenchReading, ...]:

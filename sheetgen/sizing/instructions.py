@@ -13,6 +13,7 @@ from the same netlist walk, so the card and the sheet cannot disagree.
 from __future__ import annotations
 
 from sheetgen.parts import catalog
+from sheetgen.parts import installs
 from sheetgen.model.netlist import GROUND, Part
 from sheetgen.sizing.report import Brief, Harness, Heat
 from sheetgen.sizing.size import Design
@@ -133,8 +134,8 @@ def wiring_steps(design: Design, harness: Harness, *, short: bool = False) -> tu
     """
     nl = design.netlist
     spec = design.spec
-    steps = ["Disconnect the battery first: a short can start a fire." if short else
-             "Disconnect the battery (or switch off and unplug the bench supply) before you start."]
+    place = installs.install(spec.install)
+    steps = [place.isolate_short if short else place.isolate]
     pins_on: dict[str, list[tuple[Part, str]]] = {}
     for part in nl.parts:
         for pin, net in part.pins:
@@ -246,12 +247,12 @@ def cautions(design: Design, heat: Heat, *, short: bool = False) -> tuple[str, .
     footer on both sides.
     """
     spec = design.spec
+    place = installs.install(spec.install)
     out = [
         ("Fuse the always-on feed close to its source, sized to protect the wire (the fuse protects the wire, "
          "not the lamp).",
          "Fuse the always-on feed near its source: the fuse protects the wire."),
-        ("Disconnect the battery before working on the wiring; a short on a battery feed can start a fire.",
-         None),
+        (place.isolate, None),
     ]
     if heat.heatsink_c_per_w is not None:
         out.append((f"Q1 needs a heatsink of {heat.heatsink_c_per_w:.1f} °C/W or better: without one its junction "
@@ -266,17 +267,7 @@ def cautions(design: Design, heat: Heat, *, short: bool = False) -> tuple[str, .
         out.append(("Lamp glass and holders run hot: use heat-rated holders, keep them clear of fabric, trim and "
                     "wiring, and let them cool before touching.",
                     "Lamps run hot: heat-rated holders, clear of fabric and trim."))
-    if spec.install == "vehicle":
-        out.append(("Airbag and seat-belt restraint wiring runs in pillars and headliners (often in yellow "
-                    "sleeving): do not cut, splice or pierce it, and do not route new wiring over it.",
-                    "Never cut or splice airbag or seat-belt wiring (often yellow)."))
-        out.append(("Vehicles whose interior lights are run by a body controller (dimmed, pulsed or load-sensed "
-                    "feeds) may not suit a plain fader: measure the feed before you fit it.",
-                    "A body-controlled feed (dimmed, pulsed, load-sensed) may not suit a fader: measure it first."))
-    if spec.install == "boat":
-        out.append(("On a boat use tinned marine wire, sealed connections and ignition-protected parts where "
-                    "fuel vapour can collect.",
-                    "Boats: tinned wire, sealed joints, ignition-protected parts near fuel vapour."))
+    out += place.cautions
     out.append(("sheetgen covers low-voltage DC (5–32 V) only. Follow your local vehicle, marine and electrical "
                 "codes; where they call for licensed work, have it done by a licensed installer.",
                 None))

@@ -74,6 +74,7 @@ class Harness:
     wire_mm2: float
     wire_awg: int
     wire_rating_a: float
+    wire_min_mm2: float = 0.0  # the install's smallest conductor (installs.yaml); wire_mm2 is never below it
 
 
 @dataclass(frozen=True)
