@@ -28,6 +28,27 @@ def part_entry(part) -> dict:
     return entry
 
 
+def hardware_entry(item, *, on: str) -> dict:
+    """A heatsink or insulating kit as a part: no pins, its thermal resistance as its rating."""
+    return {"ref": item.ref, "kind": item.kind, "role": item.kind, "value": None,
+            "part_number": item.part_number or None, "description": item.description, "pins": {},
+            "rating_c_per_w": item.rating_c_per_w, "package": item.package, "fits": on,
+            "sources": list(item.sources)}
+
+
+def mounting_entry(m) -> dict | None:
+    """The heatsink chain as applied: T_j = T_a + P (R_θJC + R_θCS + R_θSA)."""
+    if m is None:
+        return None
+    return {"transistor": m.transistor, "power_w": m.power_w, "ambient_c": m.ambient_c,
+            "rth_jc_c_per_w": m.rth_jc_c_per_w,
+            "rth_cs_c_per_w": m.rth_cs_c_per_w, "chain_c_per_w": m.chain_c_per_w,
+            "rth_sa_c_per_w": m.heatsink.rating_c_per_w, "needed_sa_c_per_w": m.needed_c_per_w,
+            "junction_c": m.junction_c, "heatsink_c": m.sink_c,
+            "free_air_junction_c": m.free_air_c if m.free_air_c <= m.tj_max_c else None,
+            "tj_max_c": m.tj_max_c}
+
+
 def install_entry(spec) -> dict:
     """Where the design goes, as applied: its profile's name, the ambient sized for and the wire minimum."""
     place = installs.install(spec.install)
@@ -42,7 +63,9 @@ def report_dict(report: Report) -> dict:
     out = {
         "title": spec.title,
         "topology": d.topology.name,
-        "parts": [part_entry(p) for p in d.netlist.parts],
+        "parts": [part_entry(p) for p in d.netlist.parts]
+                 + [hardware_entry(h, on=report.mounting.transistor) for h in
+                    (report.mounting.hardware if report.mounting else ())],
         "load_current_a": d.load_current_a,
         "fade_in_s": d.fade_in_s,
         "fade_out_s": d.fade_out_s,
@@ -64,6 +87,7 @@ def report_dict(report: Report) -> dict:
             "fade_energy_j": report.heat.fade_energy_j,
             "junction_limit_c": report.heat.junction_limit_c,
             "fade_peak_junction_c": report.heat.fade_peak_junction_c,
+            "mounting": mounting_entry(report.mounting),
             "resistors": [{"ref": r.ref, "power_w": r.power_w, "rating_w": r.rating_w} for r in report.heat.resistors],
         },
         "harness": {"fuse_a": report.harness.fuse_a, "wire_mm2": report.harness.wire_mm2,

@@ -143,11 +143,13 @@ def kit_items(report: Report) -> tuple[KitItem, ...]:
                            rating=f"{h.wire_rating_a:g} A", tolerance="", package="", unit="m",
                            quantity=WIRE_M_PER_RUN,
                            note=f"{run}; {WIRE_M_PER_RUN} m per build per colour (estimate)"))
-    sink = report.heat.heatsink_c_per_w
-    if sink is not None:
-        extra.append(KitItem(kind="heatsink", sort_value=sink, item="heatsink", value=f"{sink:.1f} °C/W or better",
-                           rating="", tolerance="", package=report.heat.package, unit="pcs", quantity=1,
-                           note="for Q1"))
+    m = report.mounting
+    for hw in (m.hardware if m is not None else ()):
+        value = hw.part_number or f"{hw.rating_c_per_w:g} °C/W or better"
+        item = "heatsink" if hw.kind == "heatsink" else "insulating kit"
+        extra.append(KitItem(kind="heatsink", sort_value=hw.rating_c_per_w, item=item, value=value,
+                           rating=f"{hw.rating_c_per_w:g} °C/W", tolerance="", package=hw.package, unit="pcs",
+                           quantity=1, note=f"for {m.transistor}: {hw.description}"))
     for it in extra:
         got = merged.get(it.key)
         merged[it.key] = it if got is None else _with_quantity(got, got.quantity + it.quantity)

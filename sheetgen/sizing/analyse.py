@@ -16,6 +16,7 @@ from sheetgen.engine import devices
 from sheetgen.parts import eseries
 from sheetgen.parts import installs
 from sheetgen.sizing import instructions
+from sheetgen.sizing import mounting
 from sheetgen.engine import simulate
 from sheetgen.engine import thermal
 from sheetgen.sizing import tolerance
@@ -54,10 +55,12 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
     heat = _heat(design, tr, op_on)
     harness = _harness(float(steady[1]), wire_min_mm2=installs.install(spec.install).wire_min_mm2)
     sample = tolerance.draw(design, n=draws, seed=seed)
+    mount = mounting.choose(design, heat)
     return Report(design=design, curves=curves, steady_a=float(steady[0]), heat=heat, harness=harness,
                   bench=_bench(design, sample), spread=tolerance.spread(design, sample),
                   tuning=_tuning(design), standby_a=_standby(design),
-                  wiring=instructions.wiring_steps(design, harness),
+                  wiring=mounting.with_steps(instructions.wiring_steps(design, harness), design, mount, short=False),
+                  mounting=mount,
                   cautions=instructions.cautions(design, heat),
                   brief=instructions.brief(design, harness, heat))
 

@@ -15,6 +15,7 @@ from __future__ import annotations
 from sheetgen.parts import catalog
 from sheetgen.parts import installs
 from sheetgen.model.netlist import GROUND, Part
+from sheetgen.sizing import mounting
 from sheetgen.sizing.report import Brief, Harness, Heat
 from sheetgen.sizing.size import Design
 from sheetgen.inputs.spec import LampLoad
@@ -233,7 +234,9 @@ def lead_key(design: Design) -> str:
 
 def brief(design: Design, harness: Harness, heat: Heat) -> Brief:
     """The card's words: the short steps, the lead key and the short cautions."""
-    return Brief(steps=wiring_steps(design, harness, short=True), leads=lead_key(design),
+    steps = mounting.with_steps(wiring_steps(design, harness, short=True), design, mounting.choose(design, heat),
+                                short=True)
+    return Brief(steps=steps, leads=lead_key(design),
                  cautions=cautions(design, heat, short=True))
 
 
@@ -254,15 +257,7 @@ def cautions(design: Design, heat: Heat, *, short: bool = False) -> tuple[str, .
          "Fuse the always-on feed near its source: the fuse protects the wire."),
         (place.isolate, None),
     ]
-    if heat.heatsink_c_per_w is not None:
-        out.append((f"Q1 needs a heatsink of {heat.heatsink_c_per_w:.1f} °C/W or better: without one its junction "
-                    f"could reach {heat.peak_junction_c:.0f} °C if the feed hovers half-on.",
-                    f"Q1 needs a heatsink of {heat.heatsink_c_per_w:.1f} °C/W or better."))
-    if heat.peak_junction_c > 60.0:
-        hot = min(heat.peak_junction_c, 150)
-        out.append((f"Q1 can get hot enough to burn (up to about {hot:.0f} °C at the "
-                    "junction in the worst case): keep it clear of wiring, trim and fingers.",
-                    f"Q1 can reach about {hot:.0f} °C: keep it clear of wiring and fingers."))
+    out += mounting.heat_cautions(heat, mounting.choose(design, heat))
     if isinstance(spec.load, LampLoad):
         out.append(("Lamp glass and holders run hot: use heat-rated holders, keep them clear of fabric, trim and "
                     "wiring, and let them cool before touching.",

@@ -66,6 +66,53 @@ class Heat:
 
 
 @dataclass(frozen=True)
+class Hardware:
+    """A part that is bought and fitted but has no place in the netlist: a heatsink, an insulating kit."""
+
+    ref: str  # "HS1", "MK1"
+    kind: str  # "heatsink" | "insulator"
+    description: str
+    part_number: str  # "" when no catalog part is good enough
+    rating_c_per_w: float  # its thermal resistance in the chain
+    package: str  # the outline it fits: "TO-220"
+    sources: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Mounting:
+    """Q1 on a heatsink through an insulating kit, and what that chain does at worst case.
+
+    The worst case is the feed hovering half-on at maximum supply and the
+    spec's ambient: ``power_w`` steady in Q1.  ``junction_c`` is
+    T_a + P (R_θJC + R_θCS + R_θSA) with the parts chosen; ``sink_c`` the
+    heatsink's own temperature (what a finger touches); ``free_air_c`` the
+    junction without the heatsink, which is only meaningful up to ``tj_max_c``.
+    """
+
+    transistor: str  # ref, "Q1"
+    heatsink: Hardware
+    insulator: Hardware | None
+    rth_jc_c_per_w: float
+    rth_cs_c_per_w: float  # through the insulating kit, or compound alone when there is none
+    power_w: float
+    ambient_c: float
+    junction_c: float
+    sink_c: float
+    free_air_c: float
+    tj_max_c: float
+    needed_c_per_w: float  # the largest R_θSA that keeps the junction under the limit with this kit
+
+    @property
+    def chain_c_per_w(self) -> float:
+        """R_θJC + R_θCS + R_θSA: junction to air through the heatsink."""
+        return self.rth_jc_c_per_w + self.rth_cs_c_per_w + self.heatsink.rating_c_per_w
+
+    @property
+    def hardware(self) -> tuple[Hardware, ...]:
+        return (self.heatsink,) + ((self.insulator,) if self.insulator else ())
+
+
+@dataclass(frozen=True)
 class Harness:
     """Off-board wiring: fuse in the always-on feed and the wire it protects."""
 
@@ -125,3 +172,4 @@ class Report:
     wiring: tuple[str, ...]  # numbered steps, in order, without their numbers
     cautions: tuple[str, ...]
     brief: Brief  # the steps and cautions in a card's words
+    mounting: Mounting | None = None  # Q1's heatsink and insulating kit, where one is needed

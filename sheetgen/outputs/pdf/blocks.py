@@ -24,6 +24,7 @@ from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 
 from sheetgen.engine.measure import DEFINITIONS
+from sheetgen.sizing import mounting
 from sheetgen.sizing.report import Report
 from sheetgen.inputs.spec import LedLoad
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
@@ -595,6 +596,13 @@ def parts_block(report: Report) -> Block:
                      _p(part_rating(p), s.cell), _p(tol, s.cell), _p(package, s.cell),
                      _p(part_bands(p) or EN_DASH, s.cell), _p(does, s.cell)])
 
+    m = report.mounting
+    for item in (m.hardware if m is not None else ()):
+        rows.append([_p(item.ref, s.cell_bold), _p("1", s.cell), _p(item.part_number or EN_DASH, s.cell_bold),
+                     _p(EN_DASH, s.cell), _p(f"{item.rating_c_per_w:g} °C/W", s.cell), _p(EN_DASH, s.cell),
+                     _p(item.package, s.cell), _p(EN_DASH, s.cell),
+                     _p(f"{item.description}; for {m.transistor}", s.cell)])
+
     def build(aw):
         return _table(rows, _fractions(aw, (1.15, 0.4, 0.85, 0.55, 0.95, 0.55, 0.95, 1.5, 2.0)))
 
@@ -666,19 +674,27 @@ def heat_block(report: Report) -> Block:
     s = styles()
     h = report.heat
     limit = f"{h.junction_limit_c:g} °C"
-    if h.heatsink_c_per_w is None:
+    m = report.mounting
+    hover = f"{escape(format_quantity(h.hover_power_w, 'W'))} steady: "
+    if m is None:
         sink = _pm(f"<b>Not needed</b>: under {escape(limit)} in free air", s.cell)
+        stuck = _pm(hover + f"junction <b>{h.peak_junction_c:.0f} °C</b> without heatsink (limit {escape(limit)})",
+                    s.cell)
     else:
-        sink = _pm(f"<b>Needed: {h.heatsink_c_per_w:.1f} °C/W or better</b> (heatsink to air) to stay "
-                   f"under {escape(limit)}", s.cell)
+        kit = f"{m.insulator.ref} kit" if m.insulator else "compound"
+        name = f"{m.heatsink.ref} {m.heatsink.part_number}".strip()
+        sink = _pm(f"<b>{escape(name)}, {m.heatsink.rating_c_per_w:g} °C/W</b> (needed: "
+                   f"{m.needed_c_per_w:.1f} °C/W or better). Chain: junction–case {m.rth_jc_c_per_w:g} + {kit} "
+                   f"{m.rth_cs_c_per_w:g} + heatsink {m.heatsink.rating_c_per_w:g} = {m.chain_c_per_w:.2f} °C/W; "
+                   f"heatsink up to {m.sink_c:.0f} °C", s.cell)
+        stuck = _pm(hover + f"junction <b>{m.junction_c:.0f} °C</b> on {m.heatsink.ref} (limit {escape(limit)}); "
+                    f"{escape(mounting.free_air_words(m))}", s.cell)
     rows = [
         [_p("Peak power in a fade", s.cell_bold), _p(format_quantity(h.peak_power_w, "W"), s.cell)],
         [_p("Energy per fade", s.cell_bold), _p(joules(h.fade_energy_j), s.cell)],
         [_p("Steady, fully on", s.cell_bold), _p(watts(h.steady_power_w), s.cell)],
         [_p("Junction in use", s.cell_bold), _p(f"{h.fade_peak_junction_c:.0f} °C at most, fading on and off", s.cell)],
-        [_p("Feed stuck half on", s.cell_bold),
-         _pm(f"{escape(format_quantity(h.hover_power_w, 'W'))} steady: junction <b>{h.peak_junction_c:.0f} °C</b> "
-             f"without heatsink (limit {escape(limit)})", s.cell)],
+        [_p("Feed stuck half on", s.cell_bold), stuck],
         [_p("Heatsink", s.cell_bold), sink],
     ]
     head = [_p(x, s.cell_bold) for x in ("Ref", "Power", "Rating")]

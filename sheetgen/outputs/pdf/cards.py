@@ -318,10 +318,12 @@ def _harness(report: Report, st: _Styles) -> Flowable:
     lines = [Paragraph(f"<b>Fuse {h.fuse_a:g} A</b> (always-on feed) \u00b7 "
                        f"<b>Wire {h.wire_mm2:g} mm² ({h.wire_awg} AWG)</b>", st.body),
              Paragraph(f"Switched feed: {trigger}", st.body)]
-    sink = report.heat.heatsink_c_per_w
-    if sink is not None:
-        lines.append(Paragraph(f"<b>Q1 heatsink {sink:.1f} °C/W</b> or better ({escape(report.heat.package)})",
-                               st.body))
+    m = report.mounting
+    if m is not None:
+        name = f"{m.heatsink.ref} {m.heatsink.part_number}".strip()
+        kit = f" on kit {m.insulator.ref}" if m.insulator else ""
+        lines.append(Paragraph(f"<b>Q1 on heatsink {escape(name)}</b> ({m.heatsink.rating_c_per_w:g} °C/W, "
+                               f"{escape(m.heatsink.package)}){kit}", st.body))
     return _Framed(lines, pad_pt=4.0 * st.gap_pt / 3.0, line_pt=1.2)
 
 
