@@ -26,6 +26,7 @@ from yaml.nodes import MappingNode, ScalarNode, SequenceNode
 
 from sheetgen.errors import SpecError
 from sheetgen.inputs.units import format_quantity, parse_quantity
+from sheetgen.inputs.wires import RUNS, check_wires
 from sheetgen.parts import installs as profiles
 
 __all__ = [
@@ -111,6 +112,11 @@ class Spec:
     install: str = "vehicle"  # where it goes: vehicle | boat | building | bench (profile in parts/catalog/installs.yaml)
     source: str = ""  # file path or "<built-in>", for messages
     system: str = "battery-12"  # the supply system its span was taken from (installs.yaml)
+    wires: tuple[tuple[str, str], ...] = ()  # (run, colour) the user chose: always_on, switched, ground
+
+    def wire_colour(self, run: str) -> str | None:
+        """The colour chosen for an off-board run, or None (the sheet then names the run only)."""
+        return dict(self.wires).get(run)
 
 
 def default_supply_span(nominal_v: float, install: str = "vehicle", system: str | None = None) -> tuple[float, float]:
@@ -432,7 +438,7 @@ def _voltage(p: _Problems, value: Any, path: tuple[str, ...], *, floor_v: float 
     return volts
 
 
-_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install")
+_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install", "wires")
 INSTALLS = tuple(i.name for i in profiles.installs())
 _SUPPLY_KEYS = ("nominal", "min", "max", "system")
 _LED_KEYS = ("kind", "current", "vf", "colour", "per_string", "strings")
@@ -471,6 +477,7 @@ def _build(data: Any, p: _Problems) -> Spec:
     fade_in_s, fade_out_s = _fade(p, data)
     ambient_c = _ambient(p, data, install)
     topology = _topology(p, data)
+    wires = _wires(p, data)
     p.raise_if_any()
     return Spec(
         title=title,
@@ -484,6 +491,7 @@ def _build(data: Any, p: _Problems) -> Spec:
         install=install,
         source=p.source,
         system=system,
+        wires=wires,
     )
 
 
@@ -784,6 +792,15 @@ def _install(p: _Problems, data: dict) -> str:
         p.add(("install",), f'"{value}" is not a place; use one of {", ".join(INSTALLS)}{hint}')
         return "vehicle"
     return value.lower()
+
+
+def _wires(p: _Problems, data: dict) -> tuple[tuple[str, str], ...]:
+    if "wires" not in data:
+        return ()
+    chosen, problems = check_wires(data["wires"])
+    for run, message in problems:
+        p.add(("wires",) if run is None else ("wires", run), message)
+    return tuple((run, chosen[run]) for run in RUNS if run in chosen)
 
 
 def _topology(p: _Problems, data: dict) -> str:

@@ -4,7 +4,9 @@ from __future__ import annotations
 
 import json
 
+from sheetgen.inputs.wires import RUN_NAMES
 from sheetgen.parts import installs
+from sheetgen.sizing import runs
 from sheetgen.sizing.report import Report
 from sheetgen.engine.measure import DEFINITIONS
 from sheetgen.outputs.spice import spice_deck
@@ -90,6 +92,8 @@ def report_dict(report: Report) -> dict:
             "mounting": mounting_entry(report.mounting),
             "resistors": [{"ref": r.ref, "power_w": r.power_w, "rating_w": r.rating_w} for r in report.heat.resistors],
         },
+        "wires": [{"run": runs.run_of(net), "name": RUN_NAMES[runs.run_of(net)], "colour": runs.colour(spec, net)}
+                  for net, _ in d.topology.wiring],
         "harness": {"fuse_a": report.harness.fuse_a, "wire_mm2": report.harness.wire_mm2,
                     "wire_min_mm2": report.harness.wire_min_mm2,
                     "wire_awg": report.harness.wire_awg, "max_current_a": report.harness.max_current_a},

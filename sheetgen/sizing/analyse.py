@@ -15,6 +15,7 @@ from sheetgen.parts import catalog
 from sheetgen.engine import devices
 from sheetgen.parts import eseries
 from sheetgen.parts import installs
+from sheetgen.sizing import feeds
 from sheetgen.sizing import instructions
 from sheetgen.sizing import mounting
 from sheetgen.engine import simulate
@@ -56,13 +57,17 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
     harness = _harness(float(steady[1]), wire_min_mm2=installs.install(spec.install).wire_min_mm2)
     sample = tolerance.draw(design, n=draws, seed=seed)
     mount = mounting.choose(design, heat)
+    bench = _bench(design, sample)
+    wiring = mounting.with_steps(instructions.wiring_steps(design, harness), design, mount, short=False)
+    brief = instructions.brief(design, harness, heat)
+    brief = replace(brief, steps=feeds.with_door_test(brief.steps, design, bench, short=True))
     return Report(design=design, curves=curves, steady_a=float(steady[0]), heat=heat, harness=harness,
-                  bench=_bench(design, sample), spread=tolerance.spread(design, sample),
+                  bench=bench, spread=tolerance.spread(design, sample),
                   tuning=_tuning(design), standby_a=_standby(design),
-                  wiring=mounting.with_steps(instructions.wiring_steps(design, harness), design, mount, short=False),
+                  wiring=feeds.with_door_test(wiring, design, bench, short=False),
                   mounting=mount,
                   cautions=instructions.cautions(design, heat),
-                  brief=instructions.brief(design, harness, heat))
+                  brief=brief)
 
 
 def _light(design: Design, tr) -> np.ndarray:

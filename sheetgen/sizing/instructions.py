@@ -16,6 +16,7 @@ from sheetgen.parts import catalog
 from sheetgen.parts import installs
 from sheetgen.model.netlist import GROUND, Part
 from sheetgen.sizing import mounting
+from sheetgen.sizing import runs as offboard
 from sheetgen.sizing.report import Brief, Harness, Heat
 from sheetgen.sizing.size import Design
 from sheetgen.inputs.spec import LampLoad
@@ -199,25 +200,27 @@ def wiring_steps(design: Design, harness: Harness, *, short: bool = False) -> tu
         if short and len(other_ends) >= 2:  # "R4, R5, R6, R7 (other ends)" reads faster than four brackets
             rest = [lead for lead in leads if not lead.endswith(" (other end)")]
             target = ", ".join([", ".join(other_ends) + " (other ends)", *rest])
+        run = offboard.label(spec, net)  # "always-on +" or "always-on +, red": the run's name on every output
         if short:  # the card's harness box gives the wire size once
             if net == "supply":
                 steps.append(f"Fit the {harness.fuse_a:g} A fuse in the {supply_v} {what} near its source; wire it "
-                             f"to {target}.")
+                             f"({run}) to {target}.")
             elif net == GROUND:
-                steps.append(f"Join {target}; wire them to {what}.")
+                steps.append(f"Join {target}; wire them ({run}) to {what}.")
             else:  # the card's harness box says which way the feed switches
-                steps.append(f"Wire the {what.split(' (')[0]} to {target}.")
+                steps.append(f"Wire the {what.split(' (')[0]} ({run}) to {target}.")
             continue
         if net == "supply":
             steps.append(
                          f"Fit a {harness.fuse_a:g} A fuse in the {supply_v} {what} as close to its "
-                         f"source (battery or distribution point) as you can, and run {wire} wire from it to "
-                         f"{target}.")
+                         f"source (battery or distribution point) as you can, and run {wire} wire ({run}) from it "
+                         f"to {target}.")
         elif net == GROUND:
-            steps.append(f"Join {target}, and run {wire} wire from there to {what}; use a clean, tight "
+            steps.append(f"Join {target}, and run {wire} wire ({run}) from there to {what}; use a clean, tight "
                          "ground point.")
         else:
-            steps.append(f"Connect the {what} to {target}, with {wire} wire.")
+            hue = offboard.colour(spec, net)
+            steps.append(f"Connect the {what} to {target}, with {wire} wire" + (f" ({hue})." if hue else "."))
     steps.append("Check every joint against the schematic, reconnect, then take the readings: feed off, then on."
                  if short else
                  "Check every joint against the schematic, then reconnect the supply and take the readings "

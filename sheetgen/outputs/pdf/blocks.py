@@ -24,7 +24,8 @@ from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 
 from sheetgen.engine.measure import DEFINITIONS
-from sheetgen.sizing import mounting
+from sheetgen.sizing import mounting, runs
+from sheetgen.sizing.analyse import WIRES
 from sheetgen.sizing.report import Report
 from sheetgen.inputs.spec import LedLoad
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
@@ -767,7 +768,10 @@ def wiring_block(report: Report) -> Block:
     h = report.harness
     harness = _pm(
         f"<b>Fuse {h.fuse_a:g} A</b> in the always-on feed. <b>Wire {h.wire_mm2:g} mm² ({h.wire_awg} AWG)</b>, "
-        f"rated {h.wire_rating_a:g} A; the load draws at most {escape(format_quantity(h.max_current_a, 'A'))}.",
+        f"rated {h.wire_rating_a:g} A; the load draws at most {escape(format_quantity(h.max_current_a, 'A'))}"
+        + (f" (at least {h.wire_min_mm2:g} mm² here)" if h.wire_min_mm2 > WIRES_SMALLEST_MM2 else "")
+        + ". Runs: " + ", ".join(escape(runs.label(report.design.spec, net)) for net, _ in report.design.topology.wiring)
+        + ("." if report.design.spec.wires else "; colours as you choose, the same on every build."),
         s.body)
     steps = [_p(text, s.step, bulletText=f"{k}.") for k, text in enumerate(report.wiring, start=1)]
     return Block("Wiring", [harness, *steps])
@@ -779,6 +783,8 @@ def cautions_block(report: Report) -> Flowable:
     items = [_p(text, s.caution, bulletText="!") for text in report.cautions]
     return Boxed("CAUTIONS: read before you start", items)
 
+
+WIRES_SMALLEST_MM2 = WIRES[0][0]
 
 #: Blocks a reader wants in one piece: they move to the next page rather than split.
 WHOLE_BLOCKS = ("schematic", "timing", "parts")

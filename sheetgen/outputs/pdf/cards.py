@@ -41,6 +41,7 @@ from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 
 from sheetgen import __version__
+from sheetgen.sizing import runs
 from sheetgen.sizing.report import Report
 
 from sheetgen.outputs.pdf.blocks import Heading, paragraph_style, part_bands, part_groups, part_rating, part_value, refs_text, volts_range
@@ -317,7 +318,10 @@ def _harness(report: Report, st: _Styles) -> Flowable:
                else "goes positive when the light should be on")
     lines = [Paragraph(f"<b>Fuse {h.fuse_a:g} A</b> (always-on feed) \u00b7 "
                        f"<b>Wire {h.wire_mm2:g} mm² ({h.wire_awg} AWG)</b>", st.body),
-             Paragraph(f"Switched feed: {trigger}", st.body)]
+             Paragraph(f"Switched feed: {trigger}", st.body),
+             Paragraph("Wires: " + " \u00b7 ".join(escape(runs.label(report.design.spec, net))
+                                                   for net, _ in report.design.topology.wiring)
+                       + ("" if report.design.spec.wires else " (colours as you choose)"), st.body)]
     m = report.mounting
     if m is not None:
         name = f"{m.heatsink.ref} {m.heatsink.part_number}".strip()
