@@ -113,6 +113,7 @@ class Spec:
     source: str = ""  # file path or "<built-in>", for messages
     system: str = "battery-12"  # the supply system its span was taken from (installs.yaml)
     wires: tuple[tuple[str, str], ...] = ()  # (run, colour) the user chose: always_on, switched, ground
+    protection: bool | None = None  # supply-abuse protection: None = where the supply system needs it
 
     def wire_colour(self, run: str) -> str | None:
         """The colour chosen for an off-board run, or None (the sheet then names the run only)."""
@@ -438,7 +439,7 @@ def _voltage(p: _Problems, value: Any, path: tuple[str, ...], *, floor_v: float 
     return volts
 
 
-_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install", "wires")
+_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install", "wires", "protection")
 INSTALLS = tuple(i.name for i in profiles.installs())
 _SUPPLY_KEYS = ("nominal", "min", "max", "system")
 _LED_KEYS = ("kind", "current", "vf", "colour", "per_string", "strings")
@@ -478,6 +479,7 @@ def _build(data: Any, p: _Problems) -> Spec:
     ambient_c = _ambient(p, data, install)
     topology = _topology(p, data)
     wires = _wires(p, data)
+    protection = _protection(p, data)
     p.raise_if_any()
     return Spec(
         title=title,
@@ -492,6 +494,7 @@ def _build(data: Any, p: _Problems) -> Spec:
         source=p.source,
         system=system,
         wires=wires,
+        protection=protection,
     )
 
 
@@ -801,6 +804,17 @@ def _wires(p: _Problems, data: dict) -> tuple[tuple[str, str], ...]:
     for run, message in problems:
         p.add(("wires",) if run is None else ("wires", run), message)
     return tuple((run, chosen[run]) for run in RUNS if run in chosen)
+
+
+def _protection(p: _Problems, data: dict) -> bool | None:
+    """``protection: auto`` (the default), or true / false (YAML also reads on/off and yes/no so)."""
+    value = data.get("protection", "auto")
+    if isinstance(value, bool):
+        return value
+    if isinstance(value, str) and value.strip().lower() == "auto":
+        return None
+    p.add(("protection",), f"must be auto, true or false, got {_describe(value)}")
+    return None
 
 
 def _topology(p: _Problems, data: dict) -> str:

@@ -7,7 +7,7 @@ an edit to that file alone.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import lru_cache
 
 from sheetgen.parts.catalog import CatalogDataError, _Entry, _list, _read
@@ -26,6 +26,11 @@ class System:
     max_v: float
     abuse: bool  # a battery that can be reversed, jump-started or load-dumped
     sources: tuple[str, ...]
+    jump_v: float | None = None  # jump start: this voltage for jump_s (abuse systems only)
+    jump_s: float | None = None
+    dump_v: float | None = None  # suppressed load dump: this voltage for dump_s through dump_ohm
+    dump_s: float | None = None
+    dump_ohm: float | None = None
 
 
 @dataclass(frozen=True)
@@ -36,6 +41,7 @@ class Install:
     title: str
     ambient_c: float  # default design ambient, °C
     wire_min_mm2: float  # smallest harness conductor allowed there
+    protect: bool  # supply protection by default (a vehicle's or a boat's battery and alternator)
     supplies: tuple[str, ...]  # system names, first preferred
     isolate: str  # "disconnect the battery" or "unplug the supply", sheet words
     isolate_short: str  # the same on a card
@@ -43,8 +49,10 @@ class Install:
     sources: tuple[str, ...]
 
 
-_SYSTEM_KEYS = ("name", "title", "nominal_v", "min_v", "max_v", "abuse", "sources")
-_INSTALL_KEYS = ("name", "title", "ambient_c", "wire_min_mm2", "supplies", "isolate", "isolate_short",
+_SYSTEM_KEYS = ("name", "title", "nominal_v", "min_v", "max_v", "abuse", "sources", "jump_v", "jump_s", "dump_v",
+                "dump_s", "dump_ohm")
+_ABUSE_KEYS = ("jump_v", "jump_s", "dump_v", "dump_s", "dump_ohm")
+_INSTALL_KEYS = ("name", "title", "ambient_c", "wire_min_mm2", "protect", "supplies", "isolate", "isolate_short",
                  "cautions", "sources")
 _FILE = "installs.yaml"
 
@@ -55,8 +63,12 @@ def _profiles() -> tuple[dict[str, System], dict[str, Install]]:
     systems: dict[str, System] = {}
     for i, raw in enumerate(_list(top.data, "systems", _FILE)):
         e = _Entry(raw, f"{_FILE}.systems[{i}]", _SYSTEM_KEYS)
+        abuse = e.flag("abuse")
+        if abuse and not all(e.has(k) for k in _ABUSE_KEYS):
+            raise CatalogDataError(f"{e.where}: an abuse system needs {', '.join(_ABUSE_KEYS)}")
+        figures = {k: e.num(k, optional=True) for k in _ABUSE_KEYS}
         s = System(name=e.text("name"), title=e.text("title"), nominal_v=e.num("nominal_v"), min_v=e.num("min_v"),
-                   max_v=e.num("max_v"), abuse=e.flag("abuse"), sources=e.sources())
+                   max_v=e.num("max_v"), abuse=abuse, sources=e.sources(), **figures)
         if not s.min_v <= s.nominal_v <= s.max_v:
             raise CatalogDataError(f"{e.where}: min_v <= nominal_v <= max_v does not hold")
         systems[s.name] = s
@@ -74,7 +86,7 @@ def _profiles() -> tuple[dict[str, System], dict[str, Install]]:
             cautions.append((ce.text("sheet"), ce.text("card") if ce.has("card") else None))
         found[e.text("name")] = Install(
             name=e.text("name"), title=e.text("title"), ambient_c=e.num("ambient_c"),
-            wire_min_mm2=e.num("wire_min_mm2"), supplies=supplies, isolate=e.text("isolate"),
+            wire_min_mm2=e.num("wire_min_mm2"), protect=e.flag("protect"), supplies=supplies, isolate=e.text("isolate"),
             isolate_short=e.text("isolate_short"), cautions=tuple(cautions), sources=e.sources())
     return systems, found
 
@@ -119,6 +131,10 @@ def supply_for(place: Install, nominal_v: float, *, named: str | None = None) ->
     if abs(base.nominal_v - nominal_v) < 1e-9:
         return base
     k = nominal_v / base.nominal_v
-    return System(name=base.name, title=f"{nominal_v:g} V {base.title.split(' ', 2)[-1]}", nominal_v=nominal_v,
-                  min_v=round(base.min_v * k, 6), max_v=round(base.max_v * k, 6), abuse=base.abuse,
-                  sources=base.sources)
+
+    def scaled(v: float | None) -> float | None:
+        return None if v is None else round(v * k, 6)
+
+    return replace(base, title=f"{nominal_v:g} V {base.title.split(' ', 2)[-1]}", nominal_v=nominal_v,
+                   min_v=scaled(base.min_v), max_v=scaled(base.max_v), jump_v=scaled(base.jump_v),
+                   dump_v=scaled(base.dump_v))
