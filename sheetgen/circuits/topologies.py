@@ -464,9 +464,15 @@ def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
     pen.load(series_branches(netlist, top=rail, bottom=out), top=rail)
     pen.test_point(tp[rail], rail, "up")
     pen.mark("rail")
-    pen.wire("left", until=row)
     if rail != "supply":
-        _draw_supply_guard(pen, netlist)
+        pen.go(row)
+        pen.move("right", GUARD_SPAN, net=rail)
+        pen.mark("guard")  # only its x counts: where the guard ends on the rail
+        pen.go("rail")
+        pen.wire("left", until="guard")
+        _draw_supply_guard(pen, netlist, row=row)
+    else:
+        pen.wire("left", until=row)
     pen.terminal(f"+{supply_v:g} V always-on\n(via fuse)", "left")
     pen.go(row)
     pen.move("down", 1.5, net=GROUND)
@@ -474,7 +480,8 @@ def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
     pen.wire("right", 0.5)
     pen.ground()
     if netlist.by_role("cutoff"):
-        _draw_cutoff(pen, netlist, row=row)
+        pen.pin(q1, common_pin)
+        _draw_cutoff(pen, netlist)
 
 
 def _rail(netlist: Netlist) -> str:
@@ -483,39 +490,44 @@ def _rail(netlist: Netlist) -> str:
     return guard[0].net("K") if guard else "supply"
 
 
-def _draw_supply_guard(pen: Pen, netlist: Netlist) -> None:
-    """Left of the rail's end: the TVS down to ground, then the series Schottky out to the always-on terminal."""
+#: Rail length, from the always-on terminal, that the guard takes: short of the first part a
+#: ground-switched input hangs from the rail (R5, 2 pitches along).
+GUARD_SPAN = 1.75
+
+
+def _draw_supply_guard(pen: Pen, netlist: Netlist, *, row: str) -> None:
+    """On the rail by the always-on terminal: the TVS down to ground, then the series Schottky and TP5."""
     tp = {net: label for label, net in netlist.probes}
     guard = _one(netlist, "reverse_polarity")
-    pen.wire("left", 2.25)  # clear of the feed and ground terminals' labels below
     for tvs in netlist.by_role("surge"):
         pen.junction()
         pen.mark("tvs")
         pen.diode(tvs, "down")
         pen.ground()
         pen.go("tvs")
-        pen.wire("left", 0.5)
     pen.diode(guard, "left")
     pen.wire("left", 0.25)
     pen.test_point(tp["supply"], "supply", "down")
-    pen.wire("left", 0.25)
+    pen.wire("left", until=row)
 
 
-def _draw_cutoff(pen: Pen, netlist: Netlist, *, row: str) -> None:
-    """The over-voltage cut-off on its own row below the circuit, joined by flags to the rail and Q1's drive."""
+def _draw_cutoff(pen: Pen, netlist: Netlist) -> None:
+    """The over-voltage cut-off beside Q1 (the cursor on Q1's grounded pin), joined by flags to the rail and Q1's drive.
+
+    Beside rather than below, so the drawing grows wider, not taller: a card
+    scales it to its width.
+    """
     tp = {net: label for label, net in netlist.probes}
-    parts = {p.kind: p for p in netlist.by_role("cutoff")}
-    zener, q = parts["diode"], parts["npn"]
-    series, bias = _one(netlist, "cutoff_series"), _one(netlist, "cutoff_bias")
-    rail, drive = zener.net("K"), q.net("C")
-    pen.go(row)
-    pen.move("down", 3.0, net=rail)
+    q = _one(netlist, "cutoff")
+    upper, lower = _one(netlist, "cutoff_series"), _one(netlist, "cutoff_bias")
+    rail, drive = upper.net("1"), q.net("C")
+    pen.move("right", 2.0, net=rail)
+    pen.move("down", 0.5, net=rail)
     pen.net_label(f"rail ({tp[rail].split()[0]})", "left")
-    pen.diode(zener, "right")
-    pen.resistor(series, "right")
+    pen.resistor(upper, "right")
     pen.junction()
     pen.mark("cut_b")
-    pen.resistor(bias, "down")
+    pen.resistor(lower, "down")
     pen.ground()
     pen.go("cut_b")
     pen.wire("right", 1.0)

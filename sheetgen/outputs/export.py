@@ -51,6 +51,15 @@ def mounting_entry(m) -> dict | None:
             "tj_max_c": m.tj_max_c}
 
 
+def abuse_entry(case) -> dict:
+    """One simulated supply fault: what is drawn and lit, and every part's worst stress against its limit."""
+    return {"name": case.name, "title": case.title, "supply_v": case.supply_v, "duration_s": case.duration_s,
+            "supply_a": case.supply_a, "feed_a": case.feed_a, "load_fraction": case.load_fraction,
+            "led_max_a": case.led_max_a, "guard": case.guard, "ok": case.ok,
+            "stresses": [{"ref": st.ref, "quantity": st.quantity, "value": st.value, "limit": st.limit,
+                          "unit": st.unit, "ok": st.ok} for st in case.stresses]}
+
+
 def install_entry(spec) -> dict:
     """Where the design goes, as applied: its profile's name, the ambient sized for and the wire minimum."""
     place = installs.install(spec.install)
@@ -108,6 +117,7 @@ def report_dict(report: Report) -> dict:
         "tuning": [{"ref": r.ref, "value": r.value, "direction": r.direction, "fade_in_s": r.fade_in_s,
                     "fade_out_s": r.fade_out_s} for r in report.tuning],
         "standby_a": report.standby_a,
+        "abuse": [abuse_entry(c) for c in report.abuse],
         "wiring": list(report.wiring),
         "cautions": list(report.cautions),
         "spice": spice_deck(d.netlist),

@@ -15,6 +15,7 @@ from sheetgen.parts import catalog
 from sheetgen.engine import devices
 from sheetgen.parts import eseries
 from sheetgen.parts import installs
+from sheetgen.sizing import abuse
 from sheetgen.sizing import feeds
 from sheetgen.sizing import instructions
 from sheetgen.sizing import mounting
@@ -65,7 +66,7 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
                   bench=bench, spread=tolerance.spread(design, sample),
                   tuning=_tuning(design), standby_a=_standby(design),
                   wiring=feeds.with_door_test(wiring, design, bench, short=False),
-                  mounting=mount,
+                  mounting=mount, abuse=abuse.abuse_cases(design),
                   cautions=instructions.cautions(design, heat),
                   brief=brief)
 

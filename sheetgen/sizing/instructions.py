@@ -142,18 +142,21 @@ def wiring_steps(design: Design, harness: Harness, *, short: bool = False) -> tu
     for part in nl.parts:
         for pin, net in part.pins:
             pins_on.setdefault(net, []).append((part, pin))
+    alike: dict[str, list[str]] = {}  # one step per transistor type: "Q1, Q3 BC337-40"
     for part in nl.parts:
-        if part.kind not in ("npn", "pnp", "nmos"):
-            continue
-        q = catalog.transistor(part.part_number)
+        if part.kind in ("npn", "pnp", "nmos"):
+            alike.setdefault(part.part_number, []).append(part.ref)
+    for number, refs in alike.items():
+        q = catalog.transistor(number)
         if not q.pinout:
             continue
         leads = ", ".join(_LEAD_NAMES[x] for x in q.pinout)
+        who = ", ".join(refs)
         if short:
-            steps.append(f"{part.ref} {q.part_number} ({q.package}), printed face to you, leads down: {leads} "
+            steps.append(f"{who} {q.part_number} ({q.package}), printed face to you, leads down: {leads} "
                          "(check its data sheet).")
         else:
-            steps.append(f"Identify {part.ref} ({q.part_number}, {q.package}) leads: printed face towards you, "
+            steps.append(f"Identify {who} ({q.part_number}, {q.package}) leads: printed face towards you, "
                          f"leads down, left to right: {leads}. Makers differ; check the data sheet of the part "
                          "in your hand.")
     off_board = dict(design.topology.wiring)
@@ -201,14 +204,16 @@ def wiring_steps(design: Design, harness: Harness, *, short: bool = False) -> tu
             rest = [lead for lead in leads if not lead.endswith(" (other end)")]
             target = ", ".join([", ".join(other_ends) + " (other ends)", *rest])
         run = offboard.label(spec, net)  # "always-on +" or "always-on +, red": the run's name on every output
-        if short:  # the card's harness box gives the wire size once
+        if short:  # the card's harness box gives the wire size and the runs' names once
+            hue = offboard.colour(spec, net)
+            hue = f" ({hue})" if hue else ""
             if net == "supply":
-                steps.append(f"Fit the {harness.fuse_a:g} A fuse in the {supply_v} {what} near its source; wire it "
-                             f"({run}) to {target}.")
+                steps.append(f"Fit the {harness.fuse_a:g} A fuse in the {supply_v} {what} near its source; wire it"
+                             f"{hue} to {target}.")
             elif net == GROUND:
-                steps.append(f"Join {target}; wire them ({run}) to {what}.")
+                steps.append(f"Join {target}; wire them{hue} to {what}.")
             else:  # the card's harness box says which way the feed switches
-                steps.append(f"Wire the {what.split(' (')[0]} ({run}) to {target}.")
+                steps.append(f"Wire the {what.split(' (')[0]}{hue} to {target}.")
             continue
         if net == "supply":
             steps.append(
@@ -243,6 +248,25 @@ def brief(design: Design, harness: Harness, heat: Heat) -> Brief:
                  cautions=cautions(design, heat, short=True))
 
 
+def guard_cautions(design: Design) -> list[tuple[str, str | None]]:
+    """What the supply protection does and does not cover, from the parts actually fitted."""
+    nl = design.netlist
+    guard, cut = nl.by_role("reverse_polarity"), nl.by_role("cutoff")
+    if not guard:
+        return []
+    out: list[tuple[str, str | None]] = [(
+        f"{guard[0].ref} blocks a reversed battery and {nl.by_role('surge')[0].ref} takes fast spikes; fit both "
+        f"the way round the schematic shows (banded ends to the rail): fitted backwards, {guard[0].ref} leaves the "
+        f"board dead and {nl.by_role('surge')[0].ref} shorts the supply until the fuse blows.",
+        None)]  # a card's steps already name each cathode (banded end)
+    if not cut:
+        out.append(("This design has no over-voltage cut-off (its supply's jump-start voltage is too close to the "
+                    "charging voltage for one): a jump start from a higher voltage overruns the load. Jump-start "
+                    "with the light switched off.",
+                    "No over-voltage cut-off: jump-start with the light off."))
+    return out
+
+
 def cautions(design: Design, heat: Heat, *, short: bool = False) -> tuple[str, ...]:
     """The safety cautions for this build, chosen by its load, its heat and where it goes.
 
@@ -266,6 +290,7 @@ def cautions(design: Design, heat: Heat, *, short: bool = False) -> tuple[str, .
                     "wiring, and let them cool before touching.",
                     "Lamps run hot: heat-rated holders, clear of fabric and trim."))
     out += place.cautions
+    out += guard_cautions(design)
     out.append(("sheetgen covers low-voltage DC (5–32 V) only. Follow your local vehicle, marine and electrical "
                 "codes; where they call for licensed work, have it done by a licensed installer.",
                 None))

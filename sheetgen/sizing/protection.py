@@ -9,10 +9,11 @@ the board gets, whatever stage the sizer chose:
   battery finds it blocking, so nothing conducts and the light stays dark;
 - a TVS across the rail, with its breakdown above the suppressed load dump
   (it does not try to clamp the alternator's own 35 V), taking fast spikes;
-- an over-voltage cut-off: a zener from the rail into the base of a small
+- an over-voltage cut-off: a divider from the rail into the base of a small
   NPN that pulls the output stage's drive (base or gate) to ground above a
   jump-start threshold, so the light goes out instead of overrunning its LEDs
-  or lamp, and comes back when the supply falls.
+  or lamp, and comes back when the supply falls.  (A divider, not a zener:
+  the engine's diode has no breakdown, and the check must be the simulator's.)
 
 The step only reads the netlist (the rail is whatever hangs on ``supply``;
 the drive is the switch's base or gate), so it fits stages added later.
@@ -33,16 +34,17 @@ from sheetgen.parts import installs as profiles
 from sheetgen.parts.catalog import Diode
 from sheetgen.parts.protective import protective
 
-__all__ = ["wanted", "system_of", "apply", "drop_v", "surge_v", "RAIL", "SUPPLY"]
+__all__ = ["wanted", "system_of", "apply", "drop_v", "surge_v", "cutoff_trip_v", "RAIL", "SUPPLY"]
 
 SUPPLY = "supply"  # where the always-on wire lands: the Schottky's anode once protected
 RAIL = "rail"  # the protected rail every other part hangs from
 IF_DERATE = 0.75  # the series diode carries at most 75 % of its average rating (common practice, no source)
 TVS_MARGIN = 1.05  # TVS breakdown at least 5 % above the suppressed load dump it must not clamp
-CUTOFF_MARGIN_V = 0.3  # the cut-off trips at least this far above the highest normal supply
-CUTOFF_VBE_V = 0.55  # the cut-off NPN starts to pull at about this base voltage (common practice)
-R_CUTOFF_BIAS_OHM = 10_000.0  # holds the cut-off NPN off below the zener voltage (common practice, no source)
-ZENER_POWER_SHARE = 0.5  # the cut-off's series resistor keeps the zener at half its IZM in a load dump
+CUTOFF_MARGIN_V = 0.5  # the cut-off trips at least this far above the highest normal supply, below a jump
+CUTOFF_VBE_V = 0.6  # the cut-off NPN pulls hard at about this base voltage at 25 °C (common practice, no source)
+VBE_TEMPCO_V_PER_C = -0.002  # V_BE falls about 2 mV/°C (Sedra & Smith, Microelectronic Circuits; from memory)
+COLD_C = -20.0  # the cold corner of the acceptance contract
+R_CUTOFF_BIAS_OHM = 10_000.0  # lower divider resistor (common practice, no source)
 CUTOFF_NPN = "BC337-40"
 _DRIVE_PINS = ("B", "G")
 
@@ -94,18 +96,37 @@ def drop_v(spec: Spec) -> float:
     return float(m["N"] * 0.025852 * np.log1p(i / m["IS"]) + i * m.get("RS", 0.0))
 
 
-def _parts_for(spec: Spec) -> tuple[Diode, Diode, Diode]:
-    """(series Schottky, TVS, cut-off zener) sized to the system."""
-    s = system_of(spec)
-    dump = s.dump_v or spec.supply.max_v * 1.5
-    jump = s.jump_v or spec.supply.max_v * 1.5
+def _parts_for(spec: Spec) -> tuple[Diode, Diode]:
+    """(series Schottky, TVS) sized to the system."""
+    dump, jump = _dump_jump(spec)
     tvs = _pick("surge", lambda d: d.vz_min_v >= TVS_MARGIN * dump and d.vrrm_v >= jump)
-    zener = _pick("cutoff", lambda d: d.vz_min_v + CUTOFF_VBE_V >= spec.supply.max_v + CUTOFF_MARGIN_V
-                  and d.vz_max_v + 1.0 < jump)
-    if tvs is None or zener is None:
-        raise InfeasibleDesign(f"no catalog TVS or cut-off zener suits a {spec.supply.nominal_v:g} V system "
-                               f"(load dump {dump:g} V, jump start {jump:g} V); set protection: false to leave it out")
-    return _series_diode(spec), tvs, zener
+    if tvs is None:
+        raise InfeasibleDesign(f"no catalog TVS suits a {spec.supply.nominal_v:g} V system (load dump {dump:g} V, "
+                               f"jump start {jump:g} V); set protection: false to leave the protection out")
+    return _series_diode(spec), tvs
+
+
+def _dump_jump(spec: Spec) -> tuple[float, float]:
+    s = system_of(spec)
+    return s.dump_v or spec.supply.max_v * 1.5, s.jump_v or spec.supply.max_v * 1.5
+
+
+def _vbe(t_c: float) -> float:
+    return CUTOFF_VBE_V + VBE_TEMPCO_V_PER_C * (t_c - 25.0)
+
+
+def cutoff_trip_v(spec: Spec) -> float | None:
+    """The rail voltage at which the cut-off pulls the drive down (nominal, 25 °C), or None if none fits.
+
+    The threshold is a divider into the cut-off NPN's base, so it moves with
+    V_BE: it must stay above the highest normal supply at the spec's ambient
+    and below the jump-start voltage at −20 °C.  The geometric middle of that
+    window is taken; a 24 V system's window is too narrow and gets no cut-off.
+    """
+    _, jump = _dump_jump(spec)
+    lo = (spec.supply.max_v + CUTOFF_MARGIN_V) * CUTOFF_VBE_V / _vbe(spec.ambient_c)
+    hi = (jump - CUTOFF_MARGIN_V) * CUTOFF_VBE_V / _vbe(COLD_C)
+    return float(np.sqrt(lo * hi)) if lo < hi else None
 
 
 def _next(prefix: str, netlist: Netlist) -> int:
@@ -123,38 +144,38 @@ def apply(netlist: Netlist, spec: Spec) -> Netlist:
     """The netlist with its protection added, or unchanged when the spec's supply needs none."""
     if not wanted(spec) or netlist.by_role("reverse_polarity"):
         return netlist
-    schottky, tvs, zener = _parts_for(spec)
-    s = system_of(spec)
-    dump = s.dump_v or spec.supply.max_v * 1.5
-    jump = s.jump_v or spec.supply.max_v * 1.5
-    switch = netlist.by_role("switch")[0]
-    drive = next(n for p, n in switch.pins if p in _DRIVE_PINS)
+    schottky, tvs = _parts_for(spec)
+    dump, jump = _dump_jump(spec)
     moved = tuple(replace(p, pins=tuple((pin, RAIL if net == SUPPLY else net) for pin, net in p.pins))
                   for p in netlist.parts)
     d, r, q = _next("D", netlist), _next("R", netlist), _next("Q", netlist)
-    r_zener = max(eseries.above("E12", (dump - zener.vz_min_v) ** 2 / (ZENER_POWER_SHARE * 0.25)), 1000.0)
-    trip = zener.model["BV"] + CUTOFF_VBE_V
-    npn = catalog.transistor(CUTOFF_NPN)
-    added = (
+    added: tuple[Part, ...] = (
         _diode_part(f"D{d}", schottky, SUPPLY, RAIL, "reverse_polarity",
                     f"series Schottky: a reversed battery finds it blocking, so nothing draws current; "
                     f"{schottky.if_avg_a:g} A, {schottky.vrrm_v:g} V"),
         _diode_part(f"D{d + 1}", tvs, GROUND, RAIL, "surge",
                     f"TVS, breakdown {tvs.vz_min_v:g}-{tvs.vz_max_v:g} V: takes fast spikes on the supply; the "
                     f"alternator's own {dump:g} V load-dump clamp stays below it"),
-        _diode_part(f"D{d + 2}", zener, "cut_z", RAIL, "cutoff",
-                    f"{zener.vrrm_v:g} V zener: the over-voltage cut-off's threshold"),
-        Part(ref=f"R{r}", kind="resistor", pins=(("1", "cut_z"), ("2", "cut_b")), role="cutoff_series",
-             value=r_zener, description="limits the cut-off zener's current in a load dump", rating_w=0.25,
-             tolerance=0.05, package="axial"),
-        Part(ref=f"R{r + 1}", kind="resistor", pins=(("1", "cut_b"), ("2", GROUND)), role="cutoff_bias",
-             value=R_CUTOFF_BIAS_OHM, description="holds the cut-off transistor off at normal supply",
-             rating_w=0.25, tolerance=0.05, package="axial"),
-        Part(ref=f"Q{q}", kind="npn", pins=(("C", drive), ("B", "cut_b"), ("E", GROUND)), role="cutoff",
-             model=npn.model, part_number=npn.part_number,
-             description=f"over-voltage cut-off: above about {trip:.1f} V on the rail (a {jump:g} V jump start, "
-                         f"a load dump) it holds {switch.ref} off, so the light goes out instead of overrunning",
-             rating_v=npn.vmax_v, rating_w=npn.pd_free_air_w, package=npn.package),
     )
+    trip = cutoff_trip_v(spec)
+    if trip is not None:
+        switch = netlist.by_role("switch")[0]
+        drive = next(n for p, n in switch.pins if p in _DRIVE_PINS)
+        r_top = eseries.nearest("E24", R_CUTOFF_BIAS_OHM * (trip / CUTOFF_VBE_V - 1.0))
+        npn = catalog.transistor(CUTOFF_NPN)
+        added += (
+            Part(ref=f"R{r}", kind="resistor", pins=(("1", RAIL), ("2", "cut_b")), role="cutoff_series",
+                 value=r_top, description="cut-off divider, upper: sets the trip voltage", rating_w=0.25,
+                 tolerance=0.05, package="axial"),
+            Part(ref=f"R{r + 1}", kind="resistor", pins=(("1", "cut_b"), ("2", GROUND)), role="cutoff_bias",
+                 value=R_CUTOFF_BIAS_OHM, description="cut-off divider, lower: holds the cut-off off at normal "
+                 "supply", rating_w=0.25, tolerance=0.05, package="axial"),
+            Part(ref=f"Q{q}", kind="npn", pins=(("C", drive), ("B", "cut_b"), ("E", GROUND)), role="cutoff",
+                 model=npn.model, part_number=npn.part_number,
+                 description=f"over-voltage cut-off: above about {trip:.0f} V on the rail (a {jump:g} V jump "
+                             f"start, a load dump) it holds {switch.ref} off, so the light goes out instead of "
+                             "overrunning",
+                 rating_v=npn.vmax_v, rating_w=npn.pd_free_air_w, package=npn.package),
+        )
     label = f"TP{len(netlist.probes) + 1} protected rail"
     return replace(netlist, parts=moved + added, probes=netlist.probes + ((label, RAIL),))

@@ -113,6 +113,50 @@ class Mounting:
 
 
 @dataclass(frozen=True)
+class Stress:
+    """One part's worst figure in one supply fault, beside the limit it must stay under."""
+
+    ref: str
+    quantity: str  # "reverse voltage", "VCE", "power", "current", "voltage"
+    value: float
+    limit: float
+    unit: str  # "V", "W", "A"
+
+    @property
+    def ok(self) -> bool:
+        return self.value <= self.limit
+
+
+@dataclass(frozen=True)
+class AbuseCase:
+    """A supply fault simulated at DC with the feed on and off: what is drawn, what lights, what is stressed.
+
+    ``load_fraction`` is the load current with the feed on relative to the
+    nominal steady current (0 = dark).  ``stresses`` holds every part's worst
+    figure over both feed states; ``worst`` the one closest to its limit.
+    """
+
+    name: str  # "reverse" | "jump" | "dump"
+    title: str  # "Battery reversed"
+    supply_v: float  # the always-on wire's voltage against ground (negative when reversed)
+    duration_s: float | None  # how long the standard holds it; None for a steady fault
+    supply_a: float  # the largest current drawn from the always-on wire, either feed state
+    feed_a: float  # the largest current through the switched-feed wire
+    load_fraction: float
+    led_max_a: float | None  # the highest LED string current, feed on
+    stresses: tuple[Stress, ...]
+    guard: str  # which part deals with it, in words
+
+    @property
+    def worst(self) -> Stress:
+        return max(self.stresses, key=lambda st: st.value / st.limit)
+
+    @property
+    def ok(self) -> bool:
+        return all(st.ok for st in self.stresses)
+
+
+@dataclass(frozen=True)
 class Harness:
     """Off-board wiring: fuse in the always-on feed and the wire it protects."""
 
@@ -173,3 +217,4 @@ class Report:
     cautions: tuple[str, ...]
     brief: Brief  # the steps and cautions in a card's words
     mounting: Mounting | None = None  # Q1's heatsink and insulating kit, where one is needed
+    abuse: tuple[AbuseCase, ...] = ()  # reversed battery, jump start, load dump, where protection is fitted

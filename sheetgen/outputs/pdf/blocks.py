@@ -173,7 +173,7 @@ class Block(Flowable):
                 fits.append(item)
                 room -= h + ITEM_GAP_PT
                 continue
-            pieces = item.split(aw, room) if room > 24 else []
+            pieces = item.split(aw, room) if room > 24 and not getattr(item, "keep_whole", False) else []
             if len(pieces) >= 2:
                 fits.append(pieces[0])
                 rest = [*pieces[1:], *self.items[k + 1:]]
@@ -742,7 +742,33 @@ def bench_block(report: Report) -> Block:
              for b in report.bench]
     intro = _p("Meter on DC volts, black lead on ground. Read after each fade has settled; "
                "a reading inside the range is right.", s.small)
-    return Block("Bench readings", [intro, _Sized(lambda aw: _table(rows, _fractions(aw, (1.5, 1, 1))))])
+    items = [intro, _Sized(lambda aw: _table(rows, _fractions(aw, (1.5, 1, 1))))]
+    if report.abuse:
+        items += _abuse_items(report)
+    return Block("Bench readings", items)
+
+
+def _abuse_items(report: Report) -> list[Flowable]:
+    """The simulated supply faults: what the board does and its most stressed part against the rating."""
+    s = styles()
+    rows = [[_p(x, s.cell_bold) for x in ("Supply fault", "What happens", "Most stressed")]]
+    for c in report.abuse:
+        held = f", {seconds(c.duration_s)}" if c.duration_s else ""
+        happens = (f"{c.guard}; {escape(format_quantity(c.supply_a, 'A'))} drawn, light "
+                   + ("off" if c.load_fraction < 0.05 else f"at {c.load_fraction:.0%} of its current"))
+        w = c.worst
+        worst = (f"{w.ref} {w.quantity} {escape(format_quantity(w.value, w.unit))} of "
+                 f"{escape(format_quantity(w.limit, w.unit))}")
+        if not c.ok:
+            worst = "<b>EXCEEDS:</b> " + "; ".join(
+                f"{st.ref} {st.quantity} {escape(format_quantity(st.value, st.unit))} of "
+                f"{escape(format_quantity(st.limit, st.unit))}" for st in c.stresses if not st.ok)
+        rows.append([_p(f"{c.title}, {format_quantity(abs(c.supply_v), 'V')}{held}", s.cell), _pm(happens, s.cell),
+                     _pm(worst, s.cell)])
+    note = _p("Simulated at DC with the feed on and off (the feed follows the supply): a reversed battery at the "
+              "highest charging voltage, a jump start and a load dump as the alternator's own suppression leaves "
+              "it (ISO 16750-2). An unsuppressed load dump (up to about 100 V) is beyond these parts.", s.small)
+    return [_Sized(lambda aw: _table(rows, _fractions(aw, (1.1, 1.45, 1.45)))), note]
 
 
 def tuning_block(report: Report) -> Block:
@@ -774,6 +800,8 @@ def wiring_block(report: Report) -> Block:
         + ("." if report.design.spec.wires else "; colours as you choose, the same on every build."),
         s.body)
     steps = [_p(text, s.step, bulletText=f"{k}.") for k, text in enumerate(report.wiring, start=1)]
+    for step in steps:
+        step.keep_whole = True  # a step is read in one go: it moves to the next page rather than split
     return Block("Wiring", [harness, *steps])
 
 

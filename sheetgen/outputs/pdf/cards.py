@@ -247,6 +247,10 @@ def _natural_schematic(report: Report) -> Flowable:
     return schematic_drawing(d.netlist, d.topology, max_width_pt=1e5, max_height_pt=1e5)
 
 
+#: Roles of the supply protection (sizing/protection.py), listed on one card line.
+GUARD_ROLES = ("reverse_polarity", "surge", "cutoff", "cutoff_series", "cutoff_bias")
+
+
 def _card_value(part) -> str:
     """What the tray is labelled with: a value or a part number; an LED by its colour, a lamp by its rating."""
     if part.kind == "led":
@@ -283,9 +287,16 @@ def _identify(part) -> str:
 
 def _parts(report: Report, st: _Styles) -> Flowable:
     texts = [("Ref", "Qty", "Value", "Rating", "Identify")]
+    guard = []
     for parts, p in part_groups(report):
+        if p.role in GUARD_ROLES:  # one line for the supply guard: a card has no room for five
+            guard += parts
+            continue
         texts.append((refs_text([q.ref for q in parts]), str(len(parts)), _card_value(p) or EN_DASH, _card_rating(p),
                       _identify(p) or EN_DASH))
+    if guard:
+        texts.append((refs_text([q.ref for q in guard]), str(len(guard)), "supply guard", EN_DASH,
+                      ", ".join(f"{q.ref} {_card_value(q)}" for q in guard)))
     bold_columns = (0, 2)
     rows = [[_p(t, st.cell_bold) for t in texts[0]]]
     rows += [[_p(t, st.cell_bold if k in bold_columns else st.cell) for k, t in enumerate(row)] for row in texts[1:]]
