@@ -31,6 +31,7 @@ from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
 from sheetgen.outputs.pdf import plot
 from sheetgen.parts.colour_code import bands
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
+from sheetgen.inputs.blocknames import SHEET_BLOCKS
 from sheetgen.inputs.layout import FULL, Layout
 
 BLACK = colors.black
@@ -469,7 +470,16 @@ def part_groups(report: Report) -> list[tuple[list, object]]:
 
 
 # ------------------------------------------------------------------- blocks
-def summary_block(report: Report) -> Block:
+@dataclass(frozen=True)
+class Frame:
+    """The page area a block is made for: its maker may scale a drawing to it."""
+
+    width_pt: float
+    height_pt: float
+
+
+@SHEET_BLOCKS.register("summary")
+def summary_block(report: Report, frame: Frame) -> Block:
     """What was asked, what was achieved, and why this transistor."""
     s = styles()
     d = report.design
@@ -536,9 +546,11 @@ def _drive_row(report: Report) -> list:
                f"sags, so it runs cool and the light is at full brightness.", s.cell)]
 
 
-def schematic_block(report: Report, *, max_height_pt: float) -> Block:
-    """The circuit as a vector drawing, scaled to the block."""
+@SHEET_BLOCKS.register("schematic", whole=True)
+def schematic_block(report: Report, frame: Frame) -> Block:
+    """The circuit as a vector drawing, scaled to the block (at most 42 % of the frame's height)."""
     s = styles()
+    max_height_pt = frame.height_pt * 0.42
     d = report.design
     probes = ", ".join(label for label, _ in d.netlist.probes)
     items = [_Schematic(report, max_height_pt=max_height_pt),
@@ -578,7 +590,8 @@ def _schematic_drawing(report: Report, width_pt: float, height_pt: float) -> Flo
     return schematic_drawing(d.netlist, d.topology, max_width_pt=width_pt, max_height_pt=height_pt)
 
 
-def parts_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("parts", whole=True)
+def parts_block(report: Report, frame: Frame) -> Block:
     """One line per part to buy, with what a shop and a helper need to pick it out of a tray."""
     s = styles()
     head = ["Ref", "Qty", "Value", "Code", "Rating", "Tol.", "Package / part", "Colour bands", "Purpose"]
@@ -614,7 +627,8 @@ def _current_axis(report: Report) -> tuple[float, str]:
     return (1.0, "A") if peak >= 1.0 else (1e3, "mA")
 
 
-def timing_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("timing", whole=True)
+def timing_block(report: Report, frame: Frame) -> Block:
     """Expected load current and light output through a fade-in and a fade-out."""
     s = styles()
     c = report.curves
@@ -661,7 +675,8 @@ def timing_block(report: Report) -> Block:
     return Block("Expected timing", [_Sized(build), note])
 
 
-def heat_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("heat")
+def heat_block(report: Report, frame: Frame) -> Block:
     """How hot Q1 and the resistors run, and whether Q1 needs a heatsink."""
     s = styles()
     h = report.heat
@@ -717,7 +732,8 @@ def _power_plot(report: Report) -> Flowable:
                                                          panels=(panel,), left=axis)))
 
 
-def bench_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("bench")
+def bench_block(report: Report, frame: Frame) -> Block:
     """Meter readings that tell a helper the board is right before the lights go in."""
     s = styles()
     rows = [[_p(x, s.cell_bold) for x in ("Test point", "Feed on", "Feed off")]]
@@ -728,7 +744,8 @@ def bench_block(report: Report) -> Block:
     return Block("Bench readings", [intro, _Sized(lambda aw: _table(rows, _fractions(aw, (1.5, 1, 1))))])
 
 
-def tuning_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("tuning")
+def tuning_block(report: Report, frame: Frame) -> Block:
     """What one swap to the next standard value does, for a helper who wants the fade a little different."""
     s = styles()
     nl = report.design.netlist
@@ -745,7 +762,8 @@ def tuning_block(report: Report) -> Block:
     return Block("Tuning", [intro, _Sized(lambda aw: _table(rows, _fractions(aw, (0.55, 0.85, 1.35, 0.9, 0.98))))])
 
 
-def wiring_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("wiring")
+def wiring_block(report: Report, frame: Frame) -> Block:
     """Numbered steps, and the fuse and wire the harness needs."""
     s = styles()
     h = report.harness
@@ -757,42 +775,28 @@ def wiring_block(report: Report) -> Block:
     return Block("Wiring", [harness, *steps])
 
 
-def cautions_block(report: Report) -> Flowable:
+@SHEET_BLOCKS.register("cautions")
+def cautions_block(report: Report, frame: Frame) -> Flowable:
     """The safety cautions, boxed under a black bar so they cannot be missed or skimmed past."""
     s = styles()
     items = [_p(text, s.caution, bulletText="!") for text in report.cautions]
     return Boxed("CAUTIONS: read before you start", items)
 
 
-#: Blocks a reader wants in one piece: they move to the next page rather than split.
-WHOLE_BLOCKS = ("schematic", "timing", "parts")
-
-
-def _kept_whole(maker: Callable[[], Block], page_height_pt: float) -> Callable[[], Block]:
-    def make() -> Block:
-        block = maker()
-        block.whole, block.page_height_pt = True, page_height_pt
-        return block
-    return make
+def _make(name: str, report: Report, frame: Frame) -> Flowable:
+    """The registered block ``name``; a block registered ``whole`` moves on rather than split."""
+    entry = SHEET_BLOCKS.entry(name)
+    block = entry.maker(report, frame)
+    if entry.whole:
+        block.whole, block.page_height_pt = True, frame.height_pt
+    return block
 
 
 def build_blocks(report: Report, layout: Layout, *, frame_width_pt: float, frame_height_pt: float) -> list[Flowable]:
     """The story for ``layout``: blocks in its order, side-by-side rows packed into ColumnRows."""
     from reportlab.platypus import PageBreak
 
-    makers: dict[str, Callable[[], Flowable]] = {
-        "summary": lambda: summary_block(report),
-        "schematic": lambda: schematic_block(report, max_height_pt=frame_height_pt * 0.42),
-        "parts": lambda: parts_block(report),
-        "timing": lambda: timing_block(report),
-        "heat": lambda: heat_block(report),
-        "bench": lambda: bench_block(report),
-        "tuning": lambda: tuning_block(report),
-        "wiring": lambda: wiring_block(report),
-        "cautions": lambda: cautions_block(report),
-    }
-    for name in WHOLE_BLOCKS:
-        makers[name] = _kept_whole(makers[name], frame_height_pt)
+    frame = Frame(frame_width_pt, frame_height_pt)
     widths = layout.column_widths_pt(frame_width_pt)
     gutter = layout.gutter_mm * 72.0 / 25.4
     story: list[Flowable] = []
@@ -809,7 +813,7 @@ def build_blocks(report: Report, layout: Layout, *, frame_width_pt: float, frame
             close_row()
             if story:
                 story.append(PageBreak())
-        flowable = makers[placement.name]()
+        flowable = _make(placement.name, report, frame)
         if placement.column == FULL:
             close_row()
             story.append(flowable)

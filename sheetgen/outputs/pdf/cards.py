@@ -45,6 +45,7 @@ from sheetgen.sizing.report import Report
 
 from sheetgen.outputs.pdf.blocks import Heading, paragraph_style, part_bands, part_groups, part_rating, part_value, refs_text, volts_range
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
+from sheetgen.inputs.blocknames import CARD_BLOCKS
 from sheetgen.inputs.layout import CardLayout, Slot
 from sheetgen.outputs.pdf.sheet import FOOTER_TEXT, design_digest
 
@@ -280,7 +281,25 @@ def _identify(part) -> str:
     return part.package
 
 
-def _parts(report: Report, st: _Styles) -> Flowable:
+@dataclass(frozen=True)
+class _Frame:
+    """What a card block is made for: the type, the width, the schematic's room and the steps to keep."""
+
+    st: _Styles
+    width: float
+    schematic_h: float
+    keep_steps: int | None
+    art: Flowable | None
+
+
+@CARD_BLOCKS.register("schematic")
+def _schematic_block(report: Report, frame: _Frame) -> Flowable:
+    return _schematic(frame.art, frame.width, frame.schematic_h)
+
+
+@CARD_BLOCKS.register("parts")
+def _parts(report: Report, frame: _Frame) -> Flowable:
+    st = frame.st
     texts = [("Ref", "Qty", "Value", "Rating", "Identify")]
     for parts, p in part_groups(report):
         texts.append((refs_text([q.ref for q in parts]), str(len(parts)), _card_value(p) or EN_DASH, _card_rating(p),
@@ -311,7 +330,9 @@ def _column_widths(texts: Sequence[Sequence[str]], width: float, st: _Styles, *,
     return widths + [rest]
 
 
-def _harness(report: Report, st: _Styles) -> Flowable:
+@CARD_BLOCKS.register("harness")
+def _harness(report: Report, frame: _Frame) -> Flowable:
+    st = frame.st
     h = report.harness
     trigger = ("grounded when the light should be on" if report.design.spec.trigger == "ground"
                else "goes positive when the light should be on")
@@ -325,8 +346,10 @@ def _harness(report: Report, st: _Styles) -> Flowable:
     return _Framed(lines, pad_pt=4.0 * st.gap_pt / 3.0, line_pt=1.2)
 
 
-def _steps(report: Report, st: _Styles, *, keep: int | None = None) -> Flowable:
-    """The card's numbered steps; ``keep`` shows only the first steps and says where the rest are."""
+@CARD_BLOCKS.register("steps")
+def _steps(report: Report, frame: _Frame) -> Flowable:
+    """The card's numbered steps; ``keep_steps`` shows only the first steps and says where the rest are."""
+    st, keep = frame.st, frame.keep_steps
     steps = report.brief.steps
     shown = steps if keep is None else steps[:keep]
     items: list[Flowable] = [_heading("Wiring steps", st.heading)]
@@ -339,7 +362,9 @@ def _steps(report: Report, st: _Styles, *, keep: int | None = None) -> Flowable:
     return _Stack(items, gap_pt=st.gap_pt * 0.6)
 
 
-def _readings(report: Report, st: _Styles) -> Flowable:
+@CARD_BLOCKS.register("readings")
+def _readings(report: Report, frame: _Frame) -> Flowable:
+    st = frame.st
     rows = [[_p(x, st.cell_bold) for x in ("Test point", "Feed on", "Feed off")]]
     rows += [[_p(b.label, st.cell), _p(volts_range(b.on_v), st.cell), _p(volts_range(b.off_v), st.cell)]
              for b in report.bench]
@@ -349,14 +374,11 @@ def _readings(report: Report, st: _Styles) -> Flowable:
                   gap_pt=st.gap_pt)
 
 
-def _cautions(report: Report, st: _Styles) -> Flowable:
+@CARD_BLOCKS.register("cautions")
+def _cautions(report: Report, frame: _Frame) -> Flowable:
+    st = frame.st
     items = [_p(text, st.caution, bulletText="!") for text in report.brief.cautions]
     return _Framed(items, title=_p("CAUTIONS", st.caution_head), pad_pt=3.5, line_pt=1.6)
-
-
-_MAKERS: dict[str, Callable[[Report, _Styles], Flowable]] = {
-    "parts": _parts, "harness": _harness, "readings": _readings, "cautions": _cautions,
-}
 
 
 # ------------------------------------------------------------------ fitting
@@ -385,15 +407,8 @@ def _measure(items: Sequence[Flowable], width: float, gap: float) -> float:
 
 def _build_side(report: Report, blocks: Sequence[str], st: _Styles, *, width: float, schematic_h: float,
                 keep_steps: int | None, art: Flowable | None) -> list[Flowable]:
-    items = []
-    for name in blocks:
-        if name == "schematic":
-            items.append(_schematic(art, width, schematic_h))
-        elif name == "steps":
-            items.append(_steps(report, st, keep=keep_steps))
-        else:
-            items.append(_MAKERS[name](report, st))
-    return items
+    frame = _Frame(st, width, schematic_h, keep_steps, art)
+    return [CARD_BLOCKS.entry(name).maker(report, frame) for name in blocks]
 
 
 def _try_side(report: Report, blocks: tuple[str, ...], scale: float, keep: int | None, *, width: float,
