@@ -187,19 +187,18 @@ def _transistor_candidates(spec: Spec, topology: Topology, refusals: list[str]) 
             refusals.append(f"{q.part_number}: VCEO {q.vmax_v:g} V is too low for {spec.supply.max_v:g} V")
             continue
         if i_load > IC_DERATE * q.imax_a:
-            refusals.append(f"{q.part_number}: the load draws {format_quantity(i_load, 'A')}, more than "
+            refusals.append(f"{q.part_number}: at {spec.supply.max_v:g} V the load would draw more than "
                             f"{IC_DERATE:.0%} of its {format_quantity(q.imax_a, 'A')} rating")
             continue
         tj = spec.ambient_c + p_peak * q.rth_ja_c_per_w
         if tj > TJ_LIMIT_C and q.package == "TO-92":
-            refusals.append(f"{q.part_number}: up to {p_peak:.2f} W while fading would take the junction "
-                            f"to {tj:.0f} °C in free air at {spec.ambient_c:g} °C")
+            refusals.append(f"{q.part_number}: a fade would take its junction past {TJ_LIMIT_C:g} °C in free air "
+                            f"at {spec.ambient_c:g} °C")
             continue
         sink = (TJ_LIMIT_C - spec.ambient_c) / p_peak - q.rth_jc_c_per_w - q.rth_cs_c_per_w if p_peak > 0 else 1e9
         if tj > TJ_LIMIT_C and sink < HEATSINK_MIN_C_PER_W:
-            refusals.append(f"{q.part_number}: a feed that hovers half-on would put {p_peak:.1f} W into it; keeping "
-                            f"the junction under {TJ_LIMIT_C:g} °C would take a heatsink better than "
-                            f"{HEATSINK_MIN_C_PER_W:g} °C/W")
+            refusals.append(f"{q.part_number}: with a feed that hovers half-on, keeping the junction under "
+                            f"{TJ_LIMIT_C:g} °C would take a heatsink better than {HEATSINK_MIN_C_PER_W:g} °C/W")
             continue
         ok.append(q)
     package_rank = {"TO-92": 0, "TO-126": 1, "TO-220": 2}
@@ -383,7 +382,7 @@ class _BaseDrive:
         if not valid.any():
             raise _NoFit(f"the feed cannot supply {format_quantity(self.od_min * self.ib_rule, 'A')} of base "
                          f"current ({self.od_min:.2g} × {format_quantity(self.i_at_min, 'A')} / hFE_min "
-                         f"{self.hfe_min:.3g}) through any charge resistor")
+                         f"{self.hfe_min:.0f}) through any charge resistor")
         C, R1, R2 = C[valid], R1[valid], R2[valid]
         R3 = _snap_below("E24", R3[valid])
         v_feed = self.spec.supply.nominal_v - DIODE_DROP_V
@@ -419,7 +418,7 @@ class _BaseDrive:
     def reason(self, best) -> str:
         return (f"{self.q.part_number} chosen: the smallest package that carries {format_quantity(best.i_load, 'A')} "
                 f"and is driven to {best.overdrive:.2f}× its minimum-gain base current (hFE_min "
-                f"{self.hfe_min:.3g}) at {self.spec.supply.min_v:g} V")
+                f"{self.hfe_min:.0f}) at {self.spec.supply.min_v:g} V")
 
 
 class _GateDrive:

@@ -11,7 +11,6 @@ Numbers are formatted here, never computed: the physics lives in the Report.
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import Callable, Sequence
@@ -29,6 +28,7 @@ from sheetgen.inputs.spec import LedLoad
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
 
 from sheetgen.outputs.pdf import plot
+from sheetgen.outputs.wording import keep_units, refs_text, standby_text, volts_range
 from sheetgen.parts.colour_code import bands
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import SHEET_BLOCKS
@@ -87,13 +87,13 @@ def styles() -> Styles:
 
 
 def _p(text: str, style: ParagraphStyle, **kw) -> Paragraph:
-    """A paragraph of plain text (escaped: titles and messages may hold < or &)."""
-    return Paragraph(escape(text), style, **kw)
+    """A paragraph of plain text (escaped: titles and messages may hold < or &); numbers keep their units."""
+    return Paragraph(keep_units(escape(text)), style, **kw)
 
 
 def _pm(markup: str, style: ParagraphStyle) -> Paragraph:
     """A paragraph of our own markup (bold tags); callers escape any data they insert."""
-    return Paragraph(markup, style)
+    return Paragraph(keep_units(markup), style)
 
 
 # ------------------------------------------------------------ flowable kit
@@ -172,7 +172,9 @@ class Block(Flowable):
                 fits.append(item)
                 room -= h + ITEM_GAP_PT
                 continue
-            pieces = item.split(aw, room) if room > 24 else []
+            # A paragraph (a numbered step, a note) is never cut: it moves on whole, and so does
+            # everything after it; only tables split between their rows.
+            pieces = item.split(aw, room) if room > 24 and not isinstance(item, Paragraph) else []
             if len(pieces) >= 2:
                 fits.append(pieces[0])
                 rest = [*pieces[1:], *self.items[k + 1:]]
@@ -377,16 +379,6 @@ class _Sized(Flowable):
 
 
 # ------------------------------------------------------------------ wording
-def refs_text(refs: Sequence[str]) -> str:
-    """``R4, R5`` for two, ``LED1–LED6`` for a consecutive run of three or more."""
-    parsed = [re.fullmatch(r"([A-Z]+)(\d+)", r) for r in refs]
-    if len(refs) >= 3 and all(parsed) and len({m[1] for m in parsed}) == 1:
-        nums = [int(m[2]) for m in parsed]
-        if nums == list(range(nums[0], nums[0] + len(nums))):
-            return f"{refs[0]}{EN_DASH}{refs[-1]}"
-    return ", ".join(refs)
-
-
 def load_text(report: Report) -> str:
     load = report.design.spec.load
     if isinstance(load, LedLoad):
@@ -397,12 +389,6 @@ def load_text(report: Report) -> str:
                 f"{format_quantity(load.current_a, 'A')} per string, Vf {format_quantity(load.vf_v, 'V')} each")
     lamps = "1 lamp" if load.count == 1 else f"{load.count} lamps in parallel"
     return f"{lamps}, {format_quantity(load.power_w, 'W')} each, rated at {format_quantity(load.rated_v, 'V')}"
-
-
-def volts_range(lo_hi: tuple[float, float]) -> str:
-    """A meter reading window, e.g. ``10.85–14.45 V``."""
-    lo, hi = lo_hi
-    return f"{lo:.2f}{EN_DASH}{hi:.2f} V"
 
 
 def spread_text(p5_p50_p95: tuple[float, float, float]) -> str:
@@ -509,7 +495,7 @@ def summary_block(report: Report, frame: Frame) -> Block:
          _p(f"5th to 95th percentile over {report.spread.draws} random sets of part tolerances, supply "
             f"and ambient; {report.spread.full_brightness_yield:.0%} of them reach full brightness.", s.cell)],
         [_p("Standby", s.cell_bold),
-         _p(f"{_standby(report.standby_a)} from the always-on supply with the feed off", s.cell), ""],
+         _p(f"{standby_text(report.standby_a)} from the always-on supply with the feed off", s.cell), ""],
         _drive_row(report),
     ]
     rows.append([_p("Why this transistor", s.cell_bold),
@@ -522,11 +508,6 @@ def summary_block(report: Report, frame: Frame) -> Block:
         return t
 
     return Block("Design summary", [_Sized(build)])
-
-
-def _standby(i_a: float) -> str:
-    """Standby drain as printed: leakage below a nanoamp is no drain worth a number."""
-    return format_quantity(i_a, "A") if i_a >= 1e-9 else "under 1 nA (no real drain)"
 
 
 def _drive_row(report: Report) -> list:
@@ -769,7 +750,8 @@ def wiring_block(report: Report, frame: Frame) -> Block:
     h = report.harness
     harness = _pm(
         f"<b>Fuse {h.fuse_a:g} A</b> in the always-on feed. <b>Wire {h.wire_mm2:g} mm² ({h.wire_awg} AWG)</b>, "
-        f"rated {h.wire_rating_a:g} A; the load draws at most {escape(format_quantity(h.max_current_a, 'A'))}.",
+        f"rated {h.wire_rating_a:g} A; the load draws at most {escape(format_quantity(h.max_current_a, 'A'))} "
+        f"at the highest supply, {escape(format_quantity(report.design.spec.supply.max_v, 'V'))}.",
         s.body)
     steps = [_p(text, s.step, bulletText=f"{k}.") for k, text in enumerate(report.wiring, start=1)]
     return Block("Wiring", [harness, *steps])

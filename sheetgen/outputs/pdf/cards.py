@@ -43,7 +43,8 @@ from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 from sheetgen import __version__
 from sheetgen.sizing.report import Report
 
-from sheetgen.outputs.pdf.blocks import Heading, paragraph_style, part_bands, part_groups, part_rating, part_value, refs_text, volts_range
+from sheetgen.outputs.wording import keep_units, refs_text, volts_range
+from sheetgen.outputs.pdf.blocks import Heading, paragraph_style, part_bands, part_groups, part_rating, part_value
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import CARD_BLOCKS
 from sheetgen.inputs.layout import CardLayout, Slot
@@ -89,6 +90,13 @@ class _Styles:
     gap_pt: float
 
 
+def _number_room(size_pt: float) -> float:
+    """The indent that holds a step number up to 99 and its full stop, with a little air."""
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    return stringWidth("00.", BOLD, size_pt) + 0.3 * size_pt
+
+
 @lru_cache(maxsize=None)
 def _styles(scale: float) -> _Styles:
     """The card's styles with every size multiplied by ``scale`` (1.0: a 9 pt body)."""
@@ -104,7 +112,8 @@ def _styles(scale: float) -> _Styles:
         cell=style("cell", 8.6),
         cell_bold=style("cell_bold", 8.6, font=BOLD),
         heading=style("heading", 9.8, font=BOLD),
-        step=style("step", 9.0, leftIndent=15 * scale, bulletIndent=0, bulletFontName=BOLD),
+        # Room for a two-digit number, so steps 10 and on line up with 1 to 9.
+        step=style("step", 9.0, leftIndent=_number_room(9.0 * scale), bulletIndent=0, bulletFontName=BOLD),
         caution_head=style("caution_head", 9.4, font=BOLD, textColor=WHITE),
         caution=style("caution", 8.6, leftIndent=9 * scale, bulletIndent=1, bulletFontName=BOLD),
         gap_pt=3.0 * scale,
@@ -112,8 +121,8 @@ def _styles(scale: float) -> _Styles:
 
 
 def _p(text: str, style: ParagraphStyle, **kw) -> Paragraph:
-    """A paragraph of plain text: escaped, so data such as ``<b>`` prints as written."""
-    return Paragraph(escape(text), style, **kw)
+    """A paragraph of plain text: escaped, so data such as ``<b>`` prints as written; numbers keep their units."""
+    return Paragraph(keep_units(escape(text)), style, **kw)
 
 
 # ------------------------------------------------------------ flowable kit

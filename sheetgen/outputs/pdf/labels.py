@@ -9,7 +9,6 @@ places found here hold on the printed page.
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Sequence
 
@@ -52,19 +51,6 @@ def text_width(text: str) -> float:
 
 def line_height() -> float:
     return FONT_PT * LEADING / PT_PER_UNIT
-
-
-def span(refs: Sequence[str]) -> str:
-    """``LED1–LED5`` for a run of consecutive designators, else a comma list."""
-    if len(refs) <= 2:
-        return ", ".join(refs)
-    parsed = [re.fullmatch(r"([A-Z]+)(\d+)", r) for r in refs]
-    if all(parsed):
-        prefixes = {m.group(1) for m in parsed}
-        numbers = [int(m.group(2)) for m in parsed]
-        if len(prefixes) == 1 and numbers == list(range(numbers[0], numbers[0] + len(numbers))):
-            return f"{refs[0]}\u2013{refs[-1]}"
-    return ", ".join(refs)
 
 
 def part_label(part: Part) -> list[str]:

@@ -30,7 +30,8 @@ from sheetgen.model.netlist import GROUND, PIN_ORDER, Netlist, Part
 from sheetgen.outputs.pdf.fonts import REGULAR as PDF_FONT
 from sheetgen.outputs.pdf.fonts import register as register_fonts
 from sheetgen.outputs.pdf.labels import (FONT_PT, INCHES_PER_UNIT, PART, SIGN, TAG, Ask, Box, Spot, part_label,
-                                         place, probe_tag, span, spots_around, text_width)
+                                         place, probe_tag, spots_around, text_width)
+from sheetgen.outputs.wording import refs_text as span
 
 if TYPE_CHECKING:
     from reportlab.graphics.shapes import Drawing
