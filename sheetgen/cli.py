@@ -75,6 +75,9 @@ def cmd_build(args) -> int:
     layout = load_layout(args.layout)
     suffix = "-cards.pdf" if isinstance(layout, CardLayout) else ".pdf"
     out = args.output or f"{Path(args.spec).stem}{suffix}"
+    if Path(out).suffix.lower() != ".pdf":
+        raise SpecError(f"-o {out}: the sheet is a PDF; give a name ending in .pdf "
+                        f"(e.g. {Path(out).with_suffix('.pdf').name})")
     if Path(out).resolve() == Path(args.spec).resolve():
         raise SpecError(f"-o {out}: would overwrite the spec itself; give a .pdf name")
     return _sheet(spec, layout=layout, out=out)
@@ -173,7 +176,26 @@ def cmd_pack(args) -> int:
         bar.update()
     for path in paths:
         print(path)
+    print(_pack_line(len(designs), len(cards), sheets, _pages(booklet), len(kit)))
     return EXIT_OK
+
+
+def _pages(pdf: bytes) -> int:
+    """Pages in a PDF reportlab wrote: one ``/Type /Page`` object each (``/Pages`` is the tree)."""
+    import re
+
+    return len(re.findall(rb"/Type /Page(?![s\w])", pdf))
+
+
+def _plural(n: int, word: str) -> str:
+    return f"{n} {word}" if n == 1 else f"{n} {word}s"
+
+
+def _pack_line(designs: int, cards: int, card_sheets: int, booklet_pages: int, kit_lines: int) -> str:
+    """The pack's last line: what was made and how much paper it takes."""
+    return (f"{_plural(designs, 'design')}, {_plural(cards, 'card')}; sheets to print: "
+            f"{_plural(card_sheets, 'card sheet')} (both sides) and {_plural(booklet_pages, 'booklet page')}; "
+            f"{_plural(kit_lines, 'kit line')}")
 
 
 def _letters(n: int) -> list[str]:

@@ -623,7 +623,9 @@ def timing_block(report: Report, frame: Frame) -> Block:
     top = plot.nice_ceiling(max(float(np.max(i)), float(np.max(band[1])), steady) * 1.08)
     light_top = top / steady * 100.0 if steady > 0 else 110.0
     left = plot.Axis(0.0, top, f"load current ({unit})")
-    right = plot.Axis(0.0, light_top, "light output (% of steady)",
+    lamp = not isinstance(d.spec.load, LedLoad)
+    # A filament's light is reported against its rated output (rated voltage), an LED's against its steady light.
+    right = plot.Axis(0.0, light_top, "light output (% of rated)" if lamp else "light output (% of steady)",
                       ticks=tuple(t for t in plot.nice_ticks(0.0, light_top) if t <= light_top))
 
     def curves(shift):
@@ -649,7 +651,8 @@ def timing_block(report: Report, frame: Frame) -> Block:
 
     follows = ("For LEDs the light follows the current, so the two lines lie on top of each other. "
                if isinstance(d.spec.load, LedLoad) else
-               "A lamp's light lags its current while the filament heats and cools. ")
+               "A lamp's light lags its current while the filament heats and cools; it is shown as a share of "
+               "the lamp's output at its rated voltage, which a lower supply and the drop across Q1 keep it below. ")
     note = _p(f"Nominal parts at {format_quantity(d.spec.supply.nominal_v, 'V')}; steady current "
               f"{format_quantity(report.steady_a, 'A')}. {follows}The marked points define the fade times: "
               f"fade-in ends at 90 % of the steady current, fade-out at 10 %.", s.small)
