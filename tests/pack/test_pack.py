@@ -98,8 +98,9 @@ def test_kit_list_matches_an_independent_count_of_the_netlists(camper_report, ra
                 key = ("resistor", format_quantity(part.value, "ohm"), part.rating_w)
             elif part.kind == "capacitor":
                 key = ("capacitor", format_quantity(part.value, "F"), part.rating_v)
-            elif part.kind == "led":
-                key = ("led", part.description.split(" at ")[0], None)
+            elif part.kind == "led":  # "red LED, Vf 2 V at 20 mA": colour, forward voltage, current
+                colour_led, vf_at = part.description.split(", ")
+                key = ("led", colour_led, tuple(vf_at.split(" at ")))
             else:
                 key = (part.kind, part.part_number, None)
             expected[key] += kits[letter]
@@ -110,8 +111,9 @@ def test_kit_list_matches_an_independent_count_of_the_netlists(camper_report, ra
             got[("resistor", line.value, float(line.rating.split()[0]))] += line.needed
         elif line.item.endswith("capacitor"):
             got[("capacitor", line.value, float(line.rating.split()[0]))] += line.needed
-        elif line.item.endswith("LED"):
-            got[("led", f"{line.item}, {line.value}", None)] += line.needed
+        elif "LED" in line.item:
+            colour_led = "LED" if line.item == "LED, any colour with this Vf" else line.item
+            got[("led", colour_led, (line.value, line.rating.removeprefix("runs at ")))] += line.needed
         elif line.item in ("diode", "NPN transistor", "PNP transistor", "N-channel MOSFET"):
             kind = {"diode": "diode", "NPN transistor": "npn", "PNP transistor": "pnp", "N-channel MOSFET": "nmos"}
             got[(kind[line.item], line.value, None)] += line.needed
@@ -126,6 +128,17 @@ def test_kit_list_matches_an_independent_count_of_the_netlists(camper_report, ra
     wires = [line for line in lines if line.item.startswith("wire")]
     assert {line.item for line in wires} == {"wire, red", "wire, yellow", "wire, black"}
     assert all(line.unit == "m" and line.needed == WIRE_M_PER_RUN * total_kits for line in wires)
+    assert sum(line.needed for line in lines if line.item == "prototype board") == total_kits
+    # One screw terminal per off-board run (the topology's wiring list), two more per lamp.
+    ways = Counter()
+    for letter, report in reports.items():
+        lamps = sum(p.kind == "lamp" for p in report.design.netlist.parts)
+        ways[f"{len(report.design.topology.wiring) + 2 * lamps}-way"] += kits[letter]
+    assert Counter({line.value: line.needed for line in lines if line.item == "screw terminal block"}) == ways
+    lamps = sum(kits[k] * sum(p.kind == "lamp" for p in r.design.netlist.parts) for k, r in reports.items())
+    assert sum(line.needed for line in lines if line.item == "lamp holder") == lamps
+    sinks = sum(kits[k] for k, r in reports.items() if r.heat.heatsink_c_per_w is not None)
+    assert sum(line.needed for line in lines if line.item == "insulating kit") == sinks
     for line in lines:
         assert line.spares == math.ceil(line.needed / 10 - 1e-9) and line.total == line.needed + line.spares
     assert by_item[("diode", "1N4007")].designs == ("A", "B")  # one line for both designs
@@ -255,7 +268,14 @@ def packed(tmp_path, sized, capsys):
 def test_pack_writes_three_files_and_sizes_each_design_once(packed):
     out, printed, calls = packed
     assert sorted(p.name for p in out.iterdir()) == ["booklet.pdf", "cards.pdf", "kit-list.csv"]
-    assert printed.out.split() == [str(out / n) for n in ("booklet.pdf", "cards.pdf", "kit-list.csv")]
+    *paths, summary = printed.out.splitlines()
+    assert paths == [str(out / n) for n in ("booklet.pdf", "cards.pdf", "kit-list.csv")]
+    # The last line counts what was made, each count read back from the files themselves.
+    card_pages = len(PdfReader(out / "cards.pdf").pages)
+    booklet_pages = len(PdfReader(out / "booklet.pdf").pages)
+    kit_rows = len((out / "kit-list.csv").read_text(encoding="utf-8-sig").splitlines()) - 1
+    assert summary == (f"2 designs, {len(NAMES) + 3} cards; sheets to print: {card_pages // 2} card sheets "
+                       f"(both sides) and {booklet_pages} booklet pages; {kit_rows} kit lines")
     assert sorted(calls) == ["Camper van step light", "Model railway station lamp"]  # builds 0 and 2 share one
     assert printed.err == ""  # no progress bar when stderr is not a terminal
 

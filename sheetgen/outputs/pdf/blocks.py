@@ -380,13 +380,20 @@ class _Sized(Flowable):
 
 # ------------------------------------------------------------------ wording
 def load_text(report: Report) -> str:
+    """The load in a sentence; a single LED or string is not called "1 string of 1 LED"."""
     load = report.design.spec.load
     if isinstance(load, LedLoad):
         colour = f"{load.colour} " if load.colour else ""
-        strings = "1 string" if load.strings == 1 else f"{load.strings} strings"
-        leds = "LED" if load.per_string == 1 else "LEDs"
-        return (f"{strings} of {load.per_string} {colour}{leds} in series, "
-                f"{format_quantity(load.current_a, 'A')} per string, Vf {format_quantity(load.vf_v, 'V')} each")
+        current = format_quantity(load.current_a, "A")
+        vf = format_quantity(load.vf_v, "V")
+        n, leds = load.per_string, "LED" if load.per_string == 1 else "LEDs"
+        if load.strings == 1 and n == 1:
+            return f"1 {colour}LED, {current}, Vf {vf}"
+        if load.strings == 1:
+            return f"{n} {colour}{leds} in series, {current}, Vf {vf} each"
+        if n == 1:
+            return f"{load.strings} {colour}LEDs, each with its own resistor, {current} each, Vf {vf}"
+        return f"{load.strings} strings of {n} {colour}LEDs in series, {current} per string, Vf {vf} each"
     lamps = "1 lamp" if load.count == 1 else f"{load.count} lamps in parallel"
     return f"{lamps}, {format_quantity(load.power_w, 'W')} each, rated at {format_quantity(load.rated_v, 'V')}"
 
