@@ -134,6 +134,8 @@ def cmd_pack(args) -> int:
     from sheetgen.outputs.write import atomic_write_files, check_folder
 
     event = load_event(args.event)
+    for warning in event.warnings:
+        print(f"warning: {warning}", file=sys.stderr)
     _check_printable(event)
     sheet_layout = load_sheet_layout(args.layout)
     card_layout = load_card_layout(args.cards)

@@ -170,6 +170,25 @@ def test_csv_has_the_columns_and_the_lines(camper_report):
 
 
 # ----------------------------------------------------------------- event
+def test_named_builders_plus_unnamed_places_in_one_build(tmp_path):
+    event = load_event(_event(tmp_path, "title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n"
+                                        "    builders: [Ana, Bo]\n    count: 3\n"))
+    (build,) = event.builds
+    assert [b.name for b in build.builders] == ["Ana", "Bo", None, None, None]
+    assert [b.place for b in build.builders][2:] == ["Builder 3 of 5", "Builder 4 of 5", "Builder 5 of 5"]
+    assert event.builder_count == 5 and event.warnings == ()
+
+
+def test_a_name_given_twice_warns_naming_both_places(tmp_path, sized, capsys):
+    text = ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    builders: [Ana, Bo]\n"
+            "  - spec: model-railway-station.yaml\n    builders: [ana]\n")
+    event = load_event(_event(tmp_path, text))
+    assert event.warnings == (f"{tmp_path / 'spring.yaml'}:6: builds[1].builders[0]: 'ana' is named already "
+                              "(builds[0].builders[0], line 4); two cards will carry the same name",)
+    assert _pack(tmp_path, tmp_path / "spring.yaml") == 0  # a warning, not an error
+    assert capsys.readouterr().err.strip() == f"warning: {event.warnings[0]}"
+
+
 def test_event_names_are_read_as_written(tmp_path):
     event = load_event(_event(tmp_path, GOOD))
     assert event.title == "Spring build night" and str(event.date) == "2027-03-20"
@@ -203,8 +222,8 @@ def test_inline_design_keeps_its_lines(tmp_path):
      "spring.yaml:5: builds[0].colour: unknown key"),
     ("title: t\nvenu: hall\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n",
      "spring.yaml:2: venu: unknown key (did you mean venue?)"),
-    ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n    builders: [Ana]\n",
-     "builds[0].count: give builders: (names) or count: (unnamed), not both"),
+    ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 0\n    builders: [Ana]\n",
+     "spring.yaml:4: builds[0].count: must be at least 1"),
     ("title: t\nspares: ten\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n",
      "spring.yaml:2: spares: 'ten' should be a percentage"),
     ("title: t\ndate: 20 March\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n",
