@@ -108,7 +108,7 @@ def _check_printable(event) -> None:
             if missing:
                 problems.append(f"{build.source}:{b.line}: builds[{build.index}].builders[{b.number - 1}]: "
                                 f"'{b.name}' has characters the card font cannot print ({missing}); it covers "
-                                "Latin, Greek and Cyrillic letters")
+                                "Latin, Greek and Cyrillic letters: write the name in those, e.g. in Latin letters")
     if problems:
         raise SpecError(problems)
 

@@ -234,6 +234,9 @@ def test_inline_design_keeps_its_lines(tmp_path):
      "builds[0].builders[0]: must be one line without control characters"),
     ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    builders: [山田]\n",
      "spring.yaml:4: builds[0].builders[0]: '山田' has characters the card font cannot print"),
+    # 田 is U+7530 and 中 U+4E2D: the characters are listed as written, not by code point.
+    ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    builders: [田中田]\n",
+     "'田中田' has characters the card font cannot print (田中)"),
     ("title: t\nbuilds: []\n", "spring.yaml:2: builds: should be a list of builds"),
 ])
 def test_bad_events_exit_2_naming_the_build_and_leave_nothing(tmp_path, capsys, sized, text, needle):
