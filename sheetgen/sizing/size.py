@@ -38,8 +38,10 @@ from sheetgen.inputs.units import format_quantity
 ACCURACY = 0.10  # achieved fade times within ±10 % of the request
 OVERDRIVE_MIN = 1.5  # Ib ≥ 1.5 · Ic / hFE_min at minimum supply (the issue's rule)
 OVERDRIVE_MAX = 2.0
-C_MIN_F, C_MAX_F = 1e-6, 10_000e-6
-C_MAX_AUTO_F = 4_700e-6  # automatic choice moves to a stronger stage before using a bigger can
+C_MIN_F = 1e-6
+C_MAX_F = 4_700e-6  # the largest timing capacitor, chosen or forced: past it a stronger stage is the answer
+HOVER_MAX_W = 15.0  # a feed hovering half-on may put at most this into Q1 (common practice, no source):
+#                     more needs a heatsink better than about 3 °C/W, a large finned extrusion, not a fader box's
 R_CHARGE_RANGE = (22.0, 220e3)
 R_BLEED_RANGE = (100.0, 220e3)  # above this, electrolytic leakage (µA) starts to rival the bleed current
 HEATSINK_MIN_C_PER_W = 1.0  # a better heatsink than this is a fan-cooled extrusion, not a fader's (common practice)
@@ -80,17 +82,20 @@ def size(spec: Spec) -> Design:
     cheapest first, and the first that meets every criterion is chosen: fades
     within ±10 %, full-brightness yield ≥ 99 % over tolerances, junction under
     125 °C (or a heatsink stated) and a timing capacitor no larger than
-    4,700 µF.  A forced topology may use up to 10,000 µF.
+    4,700 µF.  A forced topology is held to the same limits; its reason says it was forced.
     """
     forced = spec.topology != "auto"
-    c_max = C_MAX_F if forced else C_MAX_AUTO_F
+    c_max = C_MAX_F
     passed_over: list[str] = []
     for topology in _topologies(spec):
         refusals: list[str] = []
         design = _size_topology(spec, topology, refusals, c_max)
         if design is not None:
-            why = f"{topology.title} chosen" + (": the cheaper stages could not meet the spec" if passed_over
-                                                else ": the simplest stage that meets the spec")
+            if forced:
+                why = f"{topology.title} forced by topology: {spec.topology} in the spec"
+            else:
+                why = f"{topology.title} chosen" + (": the cheaper stages could not meet the spec" if passed_over
+                                                    else ": the simplest stage that meets the spec")
             return replace(design, reasons=(why, *design.reasons[:1], *passed_over, *design.reasons[1:]))
         passed_over.append(f"not {topology.title}: " + "; ".join(refusals))
     raise InfeasibleDesign(_infeasible_message(spec, passed_over, c_max))
@@ -178,6 +183,11 @@ def _transistor_candidates(spec: Spec, topology: Topology, refusals: list[str]) 
         return []
     i_load = rated_current_a(spec.load) * spec.supply.max_v / spec.supply.nominal_v
     p_peak = load_line_peak_w(spec, supply_v=spec.supply.max_v, r_led_ohm=r_led)
+    if p_peak > HOVER_MAX_W:
+        refusals.append(f"a feed that hovers half-on would put about {p_peak:.0f} W into the switch at "
+                        f"{spec.supply.max_v:g} V, more than the {HOVER_MAX_W:g} W this tool designs for; "
+                        "split the load over two faders or use LEDs")
+        return []
     ok = []
     for q in catalog.transistors():
         wanted = "nmos" if topology.stage.kind == "mosfet" else "npn"
