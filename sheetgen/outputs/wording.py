@@ -35,11 +35,6 @@ def volts_range(lo_hi: tuple[float, float]) -> str:
     return f"{lo:.2f}{EN_DASH}{hi:.2f} V"
 
 
-def gain_text(hfe: float) -> str:
-    """A current gain as a whole number (``1000``, not ``1e+03``)."""
-    return f"{hfe:.0f}"
-
-
 NBSP = "\u00a0"
 _NUMBER_UNIT = re.compile(r"(\d) (?=(?:[pnµmkM]?(?:Ω|V|A|W|F|s|J)|°C|mm²|%|AWG|×)(?![A-Za-z]))")
 
