@@ -68,7 +68,7 @@ class SchemdrawPen:
     named (``named``).
     """
 
-    def __init__(self) -> None:
+    def __init__(self, *, compact: bool = False) -> None:
         import schemdraw
 
         register_fonts()
@@ -79,6 +79,7 @@ class SchemdrawPen:
         self.collisions: list[str] = []
         self.named: list[str] = []
         self._asks: list[Ask] = []
+        self._compact = compact  # parallel branches drawn as the first and a note naming the rest
         self._here = (0.0, 0.0)
         self._net: str | None = None
         self._marks: dict[str, tuple[tuple[float, float], str]] = {}
@@ -157,8 +158,12 @@ class SchemdrawPen:
             raise ValueError(f"no load branches between {top!r} and {bottom!r}")
         for branch in branches:
             _check_chain(branch, top, bottom)
-        if len(branches) > SHOW_ALL_BRANCHES:
-            shown: list[Sequence[Part] | None] = [branches[0], None, branches[-1]]
+        if self._compact and len(branches) > 1:
+            shown: list[Sequence[Part] | None] = [None, branches[0]]  # the note over the circuit, not beyond it
+            note = _hidden_note(branches[1:])
+            self.named.extend(p.ref for b in branches[1:] for p in b)
+        elif len(branches) > SHOW_ALL_BRANCHES:
+            shown = [branches[0], None, branches[-1]]
             note = _hidden_note(branches[1:-1])
             self.named.extend(p.ref for b in branches[1:-1] for p in b)
         else:
@@ -197,9 +202,9 @@ class SchemdrawPen:
             self._here, self._net = (x, y_top), top
             self._draw_branch(branch)
             self._line(self._here, (x, y_bus))
-        if len(xs) > 1:
-            self._line((xs[0], y_top), (xs[-1], y_top))
-            self._line((xs[0], y_bus), (xs[-1], y_bus))
+        if len(real) > 1:  # rails join the drawn branches; a compact note beside them hangs free
+            self._line((xs[real[0]], y_top), (xs[real[-1]], y_top))
+            self._line((xs[real[0]], y_bus), (xs[real[-1]], y_bus))
             for j in real[:-1]:  # the rail tees into every column but the last, where it turns
                 self._dot((xs[j], y_top))
             for j in real:  # the bus tees where the cursor's wire joins and at every inner column
@@ -450,9 +455,9 @@ def _hidden_note(hidden: Sequence[Sequence[Part]]) -> list[str]:
     return lines
 
 
-def _layout(netlist: Netlist, topology: Topology) -> SchemdrawPen:
+def _layout(netlist: Netlist, topology: Topology, *, compact: bool = False) -> SchemdrawPen:
     """Run the topology's recipe on a fresh pen and check that it named every part."""
-    pen = SchemdrawPen()
+    pen = SchemdrawPen(compact=compact)
     topology.draw(pen, netlist)
     pen.finish()
     missing = [p.ref for p in netlist.parts if p.ref not in pen.named]
@@ -480,9 +485,13 @@ def _svg_of(pen: SchemdrawPen) -> bytes:
         schemdraw.svgconfig.text = previous
 
 
-def schematic_svg(netlist: Netlist, topology: Topology) -> bytes:
-    """The schematic as a standalone SVG document (UTF-8), text kept as text."""
-    return _svg_of(_layout(netlist, topology))
+def schematic_svg(netlist: Netlist, topology: Topology, *, compact: bool = False) -> bytes:
+    """The schematic as a standalone SVG document (UTF-8), text kept as text.
+
+    ``compact`` draws one of several parallel load branches and names the rest in a note
+    ("+ 2 strings the same"), for a card too narrow for every string at a readable size.
+    """
+    return _svg_of(_layout(netlist, topology, compact=compact))
 
 
 # How far below its anchor the alphabetic baseline sits for each dominant-baseline, in ems:
@@ -504,7 +513,7 @@ def _for_svglib(svg: bytes) -> bytes:
 
 
 def schematic_drawing(netlist: Netlist, topology: Topology, *, max_width_pt: float,
-                      max_height_pt: float) -> Drawing:
+                      max_height_pt: float, compact: bool = False) -> Drawing:
     """The schematic as a reportlab vector ``Drawing`` no larger than the box given.
 
     The drawing is shrunk to fit but never enlarged: at natural size its text
@@ -523,7 +532,8 @@ def schematic_drawing(netlist: Netlist, topology: Topology, *, max_width_pt: flo
     if max_width_pt <= 0 or max_height_pt <= 0:
         raise ValueError(f"the box must have room: {max_width_pt} × {max_height_pt} pt")
     register_fonts()
-    art = svg2rlg(io.BytesIO(_for_svglib(schematic_svg(netlist, topology))), font_map=_SheetFont())
+    art = svg2rlg(io.BytesIO(_for_svglib(schematic_svg(netlist, topology, compact=compact))),
+                  font_map=_SheetFont())
     if art is None:
         raise ValueError("svglib could not read the schematic SVG")
     body = Group(*art.contents)
