@@ -63,7 +63,7 @@ def summary_text(report: Report) -> str:
         f"{sp.full_brightness_yield:.1%} reach full brightness",
         f"  Q1 heat at {h.supply_v:g} V, {h.ambient_c:g} °C: peak {h.peak_power_w:.2f} W while fading, "
         f"{h.steady_power_w:.2f} W fully on; junction up to {h.peak_junction_c:.0f} °C if the feed hovers "
-        + ("(no heatsink needed)" if h.heatsink_c_per_w is None else f"(heatsink ≤ {h.heatsink_c_per_w:.0f} °C/W)"),
+        + ("(no heatsink needed)" if h.heatsink_c_per_w is None else f"(heatsink {h.heatsink_c_per_w:.1f} °C/W or better)"),
         f"  fuse {report.harness.fuse_a:g} A, wire {report.harness.wire_mm2:g} mm² ({report.harness.wire_awg} AWG); "
         f"standby drain {standby_text(report.standby_a)}",
         "",

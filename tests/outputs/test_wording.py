@@ -155,3 +155,9 @@ def test_card_steps_past_nine_line_up_with_the_first_nine():
         st = _styles(scale).step
         widest = max(stringWidth(f"{k}.", BOLD, st.fontSize) for k in range(1, 100))
         assert widest < st.leftIndent - st.bulletIndent  # the number never pushes its text to the right
+
+
+def test_the_heatsink_reads_the_same_in_the_terminal_as_on_the_sheet(camper_report):
+    heat = dataclasses.replace(camper_report.heat, heatsink_c_per_w=7.0921)
+    text = summary_text(dataclasses.replace(camper_report, heat=heat))
+    assert "(heatsink 7.1 °C/W or better)" in text  # the sheet's heat block prints "7.1 °C/W or better"
