@@ -354,17 +354,17 @@ def test_layout_dataclasses_are_frozen():
 
 # ------------------------------------------------------------- colour code
 @pytest.mark.parametrize("value, tolerance, expected", [
-    # resistorcolorcodes.org/chart worked examples (check-values §2, status a)
+    # resistorcolorcodes.org/chart worked examples (read in the source)
     (4700.0, 0.05, ("yellow", "violet", "red", "gold")),
     (10.0, 0.01, ("brown", "black", "black", "gold", "brown")),
     # digits and multipliers from instrumentationtools.com IEC 60062 table; gold ×0.1, silver ×0.01
-    # (kodekata.net; check-values §2, status a)
+    # (kodekata.net/resistorcolorcode.html; read in the source)
     (130.0, 0.05, ("brown", "orange", "brown", "gold")),
     (6800.0, 0.05, ("blue", "grey", "red", "gold")),
     (4.7, 0.05, ("yellow", "violet", "gold", "gold")),
     (0.47, 0.10, ("yellow", "violet", "silver", "silver")),
     (1e6, 0.05, ("brown", "black", "green", "gold")),
-    (100.0, 0.20, ("brown", "black", "brown")),  # ±20 %: no tolerance band (kodekata.net, status a)
+    (100.0, 0.20, ("brown", "black", "brown")),  # ±20 %: no tolerance band (kodekata.net; read in the source)
     (4990.0, 0.01, ("yellow", "white", "white", "brown", "brown")),
 ])
 def test_colour_bands_follow_iec_60062(value, tolerance, expected):
