@@ -12,6 +12,8 @@ from the same netlist walk, so the card and the sheet cannot disagree.
 
 from __future__ import annotations
 
+from sheetgen.board import words
+from sheetgen.board.model import Board
 from sheetgen.parts import catalog
 from sheetgen.model.netlist import GROUND, Part
 from sheetgen.sizing.report import Brief, Harness, Heat
@@ -139,20 +141,7 @@ def wiring_steps(design: Design, harness: Harness, *, short: bool = False) -> tu
     for part in nl.parts:
         for pin, net in part.pins:
             pins_on.setdefault(net, []).append((part, pin))
-    for part in nl.parts:
-        if part.kind not in ("npn", "pnp", "nmos"):
-            continue
-        q = catalog.transistor(part.part_number)
-        if not q.pinout:
-            continue
-        leads = ", ".join(_LEAD_NAMES[x] for x in q.pinout)
-        if short:
-            steps.append(f"{part.ref} {q.part_number} ({q.package}), printed face to you, leads down: {leads} "
-                         "(check its data sheet).")
-        else:
-            steps.append(f"Identify {part.ref} ({q.part_number}, {q.package}) leads: printed face towards you, "
-                         f"leads down, left to right: {leads}. Makers differ; check the data sheet of the part "
-                         "in your hand.")
+    steps += _identify(nl, short=short)
     off_board = dict(design.topology.wiring)
     probe_of = {net: label for label, net in nl.probes}
     runs = _led_runs(pins_on) if short else {}
@@ -223,6 +212,55 @@ def wiring_steps(design: Design, harness: Harness, *, short: bool = False) -> tu
     return tuple(steps)
 
 
+def _identify(nl, *, short: bool) -> list[str]:
+    """How to tell each transistor's leads apart, one step per transistor."""
+    steps = []
+    for part in nl.parts:
+        if part.kind not in ("npn", "pnp", "nmos"):
+            continue
+        q = catalog.transistor(part.part_number)
+        if not q.pinout:
+            continue
+        leads = ", ".join(_LEAD_NAMES[x] for x in q.pinout)
+        if short:
+            steps.append(f"{part.ref} {q.part_number} ({q.package}), printed face to you, leads down: {leads} "
+                         "(check its data sheet).")
+        else:
+            steps.append(f"Identify {part.ref} ({q.part_number}, {q.package}) leads: printed face towards you, "
+                         f"leads down, left to right: {leads}. Makers differ; check the data sheet of the part "
+                         "in your hand.")
+    return steps
+
+
+_PLACING_ORDER = ("resistor", "diode", "capacitor", "npn", "pnp", "nmos", "led", "lamp")
+
+
+def board_steps(design: Design, harness: Harness, board: Board) -> tuple[str, ...]:
+    """A card's steps beside the board view: cut, link, place each part at its holes, land the wires.
+
+    They replace the "join X to Y" steps, which the copper now does.
+    """
+    nl = design.netlist
+    steps = ["Disconnect the battery first: a short can start a fire."]
+    steps += _identify(nl, short=True)
+    if board.cuts:
+        steps.append(words.cuts(board) + " on the copper side, as the copper view shows.")
+    steps += [text + "." for text in words.links(board)]
+    placed = dict(zip((p.ref for p in board.placements), words.placing(board, nl)))
+    kinds: dict[str, list[str]] = {}
+    for p in board.placements:
+        kinds.setdefault(nl.part(p.ref).kind, []).append(placed[p.ref])
+    for kind in sorted(kinds, key=lambda k: _PLACING_ORDER.index(k) if k in _PLACING_ORDER else 99):
+        steps.append("Place " + "; ".join(kinds[kind]) + ".")
+    supply_v = format_quantity(design.spec.supply.nominal_v, "V")
+    steps.append(f"Fit the {harness.fuse_a:g} A fuse in the {supply_v} always-on feed near its source. Wires: "
+                 + "; ".join(words.wires(board)) + ".")
+    if board.off_board_parts:
+        steps.append("Off the board: " + ", ".join(board.off_board_parts) + " (wired to the points above).")
+    steps.append("Check every joint against the board views, reconnect, then take the readings: feed off, then on.")
+    return tuple(steps)
+
+
 def lead_key(design: Design) -> str:
     """How to tell the leads apart, for the parts this design has: said once on a card."""
     kinds = {part.kind for part in design.netlist.parts}
@@ -230,10 +268,11 @@ def lead_key(design: Design) -> str:
     return "; ".join(said) + "." if said else ""
 
 
-def brief(design: Design, harness: Harness, heat: Heat) -> Brief:
-    """The card's words: the short steps, the lead key and the short cautions."""
+def brief(design: Design, harness: Harness, heat: Heat, board: Board | None = None) -> Brief:
+    """The card's words: the short steps (and, with a board, the board's steps), the lead key and cautions."""
     return Brief(steps=wiring_steps(design, harness, short=True), leads=lead_key(design),
-                 cautions=cautions(design, heat, short=True))
+                 cautions=cautions(design, heat, short=True),
+                 board_steps=board_steps(design, harness, board) if board is not None else ())
 
 
 def cautions(design: Design, heat: Heat, *, short: bool = False) -> tuple[str, ...]:
