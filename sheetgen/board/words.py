@@ -73,3 +73,17 @@ def links(board: Board) -> list[str]:
 def wires(board: Board) -> list[str]:
     """Where each off-board wire lands: "always-on positive feed at A1"."""
     return [f"{t.label} at {hole_name(t.hole)}" for t in board.offboard]
+
+
+def off_board_joins(board: Board, netlist: Netlist) -> list[str]:
+    """Joins made off the board, between parts mounted off it: "Join Q1 collector to LP1 lead 2 off the board"."""
+    from sheetgen.board.place import PIN_WORDS
+
+    landed = {t.net for t in board.offboard}
+    on: dict[str, list[str]] = {}
+    for ref in board.off_board_parts:
+        for pin, net in netlist.part(ref).pins:
+            if net not in landed:
+                on.setdefault(net, []).append(f"{ref} {PIN_WORDS.get(pin, pin)}")
+    return [f"Join {' to '.join(leads)} off the board" for leads in on.values() if len(leads) > 1
+            and not all(lead.startswith("LED") for lead in leads)]

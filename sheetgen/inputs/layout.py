@@ -49,13 +49,13 @@ __all__ = [
 ]
 
 #: Every block a layout may place; the renderer has one flowable for each.
-BLOCK_NAMES = ("summary", "schematic", "parts", "timing", "heat", "bench", "tuning", "wiring", "cautions")
+BLOCK_NAMES = ("summary", "schematic", "parts", "timing", "heat", "bench", "tuning", "wiring", "cautions", "board")
 
 #: Blocks every sheet must carry, whatever the layout says.
 REQUIRED_BLOCKS = ("cautions",)
 
 #: Every block a card layout may place, on its front or back.
-CARD_BLOCK_NAMES = ("schematic", "parts", "harness", "steps", "readings", "cautions")
+CARD_BLOCK_NAMES = ("schematic", "parts", "harness", "steps", "readings", "cautions", "board")
 
 #: Paper sizes (width, height) in points, portrait.
 PAGE_SIZES_PT = {"A4": (595.2756, 841.8898), "letter": (612.0, 792.0)}

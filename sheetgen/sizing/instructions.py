@@ -256,7 +256,9 @@ def board_steps(design: Design, harness: Harness, board: Board) -> tuple[str, ..
     steps.append(f"Fit the {harness.fuse_a:g} A fuse in the {supply_v} always-on feed near its source. Wires: "
                  + "; ".join(words.wires(board)) + ".")
     if board.off_board_parts:
-        steps.append("Off the board: " + ", ".join(board.off_board_parts) + " (wired to the points above).")
+        joins = "; ".join(words.off_board_joins(board, nl))
+        steps.append("Off the board: " + ", ".join(board.off_board_parts) + " (wired to the points above)"
+                     + (f"; {joins}" if joins else "") + ".")
     steps.append("Check every joint against the board views, reconnect, then take the readings: feed off, then on.")
     return tuple(steps)
 

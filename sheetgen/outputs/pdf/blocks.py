@@ -757,6 +757,13 @@ def wiring_block(report: Report) -> Block:
     return Block("Wiring", [harness, *steps])
 
 
+def board_block(report: Report) -> Block:
+    """Where every part goes: the board's two sides and its cut, link and wire lists (``board_view``)."""
+    from sheetgen.outputs.pdf.board_view import board_items
+
+    return Block("Board", board_items(report.board, report.design.netlist, styles().small))
+
+
 def cautions_block(report: Report) -> Flowable:
     """The safety cautions, boxed under a black bar so they cannot be missed or skimmed past."""
     s = styles()
@@ -765,7 +772,7 @@ def cautions_block(report: Report) -> Flowable:
 
 
 #: Blocks a reader wants in one piece: they move to the next page rather than split.
-WHOLE_BLOCKS = ("schematic", "timing", "parts")
+WHOLE_BLOCKS = ("schematic", "timing", "parts", "board")
 
 
 def _kept_whole(maker: Callable[[], Block], page_height_pt: float) -> Callable[[], Block]:
@@ -790,6 +797,7 @@ def build_blocks(report: Report, layout: Layout, *, frame_width_pt: float, frame
         "tuning": lambda: tuning_block(report),
         "wiring": lambda: wiring_block(report),
         "cautions": lambda: cautions_block(report),
+        "board": lambda: board_block(report),
     }
     for name in WHOLE_BLOCKS:
         makers[name] = _kept_whole(makers[name], frame_height_pt)
