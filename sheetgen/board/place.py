@@ -315,13 +315,16 @@ def _build(st: _State, items: list[_Item], n_left: int, where: dict, end_cuts: t
                                     body_mm=item.fp.body_mm, upright=item.fp.style == "axial" and span == 1,
                                     face=face))
     cuts += [(r - top, x) for r in end_cuts]
+    count: dict[int, int] = {}
+    for _, _, net in right_pins:
+        count[where[index[net]]] = count.get(where[index[net]], 0) + 1
+    cols = x + 1 + max(count.values(), default=0)
     used: dict[int, int] = {}
-    for part, pin, net in right_pins:
+    for part, pin, net in right_pins:  # each row's wire points run out to the right-hand edge
         r = where[index[net]]
-        c = x + 1 + used.get(r, 0)
+        c = cols - count[r] + used.get(r, 0)
         used[r] = used.get(r, 0) + 1
         terminals.append(Terminal(net=net, hole=(r - top, c), label=f"{part.ref} {PIN_WORDS.get(pin, pin)}"))
-    cols = x + 1 + max(used.values(), default=0)
     return Board(kind="stripboard", pitch_mm=pitch, rows=bottom - top + 1, cols=cols, cuts=tuple(sorted(cuts)),
                  links=tuple(links), placements=tuple(placements), offboard=tuple(terminals),
                  off_board_parts=off_board)

@@ -53,6 +53,11 @@ def copper_pieces(board: Board) -> dict[Hole, Hole]:
     return {h: _find(parent, h) for h in parent}
 
 
+def is_bridge(board: Board, a: Hole, b: Hole) -> bool:
+    """A perfboard's solder bridge: two neighbouring pads joined with solder, not a wire."""
+    return board.kind == "perfboard" and abs(a[0] - b[0]) + abs(a[1] - b[1]) == 1
+
+
 def _geometry(board: Board, netlist: Netlist) -> list[str]:
     problems = []
     on = lambda h: 0 <= h[0] < board.rows and 0 <= h[1] < board.cols  # noqa: E731
@@ -77,6 +82,11 @@ def _geometry(board: Board, netlist: Netlist) -> list[str]:
     for t in board.offboard:
         claim(t.hole, f"wire '{t.label}'")
     for k, (a, b) in enumerate(board.links):
+        if is_bridge(board, a, b):
+            for h in (a, b):  # solder between two neighbouring pads, leads or not
+                if not on(h):
+                    problems.append(f"bridge at {h} is off the board")
+            continue
         claim(a, f"link {k + 1}")
         claim(b, f"link {k + 1}")
     for h in board.cuts:
