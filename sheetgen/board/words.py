@@ -64,7 +64,9 @@ def _bridge_runs(board: Board) -> tuple[list[tuple[Hole, Hole]], list[tuple[Hole
 def links(board: Board) -> list[str]:
     """The link list: wire links, and on a perfboard the solder bridges along each row."""
     runs, wires = _bridge_runs(board)
-    out = [f"Bridge row {row_letter(a[0])} from {hole_name(a)} to {hole_name(b)}" for a, b in runs]
+    out = [f"Bridge {_span(a, b)} with solder" if b[1] - a[1] == 1 else
+           f"Solder a bare wire along row {row_letter(a[0])} from {hole_name(a)} to {hole_name(b)}, to every pad"
+           for a, b in runs]
     if wires:
         out.append("Wire link" + ("s" if len(wires) > 1 else "") + " " + ", ".join(_span(a, b) for a, b in wires))
     return out
