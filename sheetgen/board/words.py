@@ -78,14 +78,32 @@ def wires(board: Board) -> list[str]:
 
 
 def off_board_joins(board: Board, netlist: Netlist) -> list[str]:
-    """Joins made off the board, between parts mounted off it: "Join Q1 collector to LP1 lead 2 off the board"."""
+    """Joins made off the board between parts mounted off it: a run of LEDs in series in one phrase,
+    any other join named lead to lead ("Join Q1 collector to LP1 lead 2 off the board")."""
     from sheetgen.board.place import PIN_WORDS
 
     landed = {t.net for t in board.offboard}
-    on: dict[str, list[str]] = {}
+    on: dict[str, list[tuple[str, str]]] = {}
     for ref in board.off_board_parts:
         for pin, net in netlist.part(ref).pins:
             if net not in landed:
-                on.setdefault(net, []).append(f"{ref} {PIN_WORDS.get(pin, pin)}")
-    return [f"Join {' to '.join(leads)} off the board" for leads in on.values() if len(leads) > 1
-            and not all(lead.startswith("LED") for lead in leads)]
+                on.setdefault(net, []).append((ref, pin))
+    following: dict[str, str] = {}  # LED ref -> the LED whose anode its cathode meets
+    out = []
+    for net, leads in on.items():
+        kinds = {netlist.part(ref).kind for ref, _ in leads}
+        if kinds == {"led"} and sorted(pin for _, pin in leads) == ["A", "K"]:
+            following[next(ref for ref, pin in leads if pin == "K")] = next(ref for ref, pin in leads if pin == "A")
+        elif len(leads) > 1:
+            out.append("Join " + " to ".join(f"{ref} {PIN_WORDS.get(pin, pin)}" for ref, pin in leads)
+                       + " off the board")
+    runs = []
+    for head in [ref for ref in following if ref not in following.values()]:
+        run = [head]
+        while run[-1] in following:
+            run.append(following[run[-1]])
+        runs.append(f"{run[0]}{EN_DASH}{run[-1]}")
+    if runs:
+        out.append(f"Wire {', '.join(runs)} in series off the board"
+                   + (" (each string on its own)" if len(runs) > 1 else "") + ", each cathode to the next anode")
+    return out
