@@ -77,9 +77,21 @@ def wires(board: Board) -> list[str]:
     return [f"{t.label} at {hole_name(t.hole)}" for t in board.offboard]
 
 
+def refs_run(refs) -> str:
+    """``LED1–LED6`` for a run of consecutive references of one letter prefix, else a list."""
+    import re
+
+    parsed = [re.fullmatch(r"([A-Z]+)(\d+)", r) for r in refs]
+    if len(refs) > 2 and all(parsed) and len({m[1] for m in parsed}) == 1:
+        numbers = [int(m[2]) for m in parsed]
+        if numbers == list(range(numbers[0], numbers[0] + len(numbers))):
+            return f"{refs[0]}{EN_DASH}{refs[-1]}"
+    return ", ".join(refs)
+
+
 def off_board_joins(board: Board, netlist: Netlist) -> list[str]:
     """Joins made off the board between parts mounted off it: a run of LEDs in series in one phrase,
-    any other join named lead to lead ("Join Q1 collector to LP1 lead 2 off the board")."""
+    any other join named lead to lead ("join Q1 collector to LP1 lead 2")."""
     from sheetgen.board.place import PIN_WORDS
 
     landed = {t.net for t in board.offboard}
@@ -95,8 +107,7 @@ def off_board_joins(board: Board, netlist: Netlist) -> list[str]:
         if kinds == {"led"} and sorted(pin for _, pin in leads) == ["A", "K"]:
             following[next(ref for ref, pin in leads if pin == "K")] = next(ref for ref, pin in leads if pin == "A")
         elif len(leads) > 1:
-            out.append("Join " + " to ".join(f"{ref} {PIN_WORDS.get(pin, pin)}" for ref, pin in leads)
-                       + " off the board")
+            out.append("join " + " to ".join(f"{ref} {PIN_WORDS.get(pin, pin)}" for ref, pin in leads))
     runs = []
     for head in [ref for ref in following if ref not in following.values()]:
         run = [head]
@@ -104,6 +115,6 @@ def off_board_joins(board: Board, netlist: Netlist) -> list[str]:
             run.append(following[run[-1]])
         runs.append(f"{run[0]}{EN_DASH}{run[-1]}")
     if runs:
-        out.append(f"Wire {', '.join(runs)} in series off the board"
-                   + (" (each string on its own)" if len(runs) > 1 else "") + ", each cathode to the next anode")
+        out.append(f"wire {', '.join(runs)} in series" + (" (each string on its own)" if len(runs) > 1 else "")
+                   + ", each cathode to the next anode")
     return out

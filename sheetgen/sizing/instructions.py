@@ -257,9 +257,9 @@ def board_steps(design: Design, harness: Harness, board: Board) -> tuple[str, ..
                  + "; ".join(words.wires(board)) + ".")
     if board.off_board_parts:
         joins = "; ".join(words.off_board_joins(board, nl))
-        steps.append("Off the board: " + ", ".join(board.off_board_parts) + " (wired to the points above)"
-                     + (f"; {joins}" if joins else "") + ".")
-    steps.append("Check every joint against the board views, reconnect, then take the readings: feed off, then on.")
+        steps.append("Off the board: " + words.refs_run(board.off_board_parts) + (f"; {joins}" if joins else "")
+                     + ".")
+    steps.append("Check every joint against the board views, reconnect, take the readings: feed off, then on.")
     return tuple(steps)
 
 

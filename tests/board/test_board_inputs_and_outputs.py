@@ -136,7 +136,7 @@ def test_the_card_steps_place_parts_by_hole(camper_report):
     assert any(s.startswith("Cut the copper at") for s in steps)
     assert not any(s.startswith("Join ") for s in steps), "the board replaces the join steps"
     # the strings of three LEDs in series, wired off the board (the camper van's two strings)
-    assert any("Wire LED1\u2013LED3, LED4\u2013LED6 in series off the board" in s for s in steps)
+    assert any("Off the board: LED1\u2013LED6; wire LED1\u2013LED3, LED4\u2013LED6 in series" in s for s in steps)
 
 
 def test_the_board_card_draws_the_board_and_its_steps(tmp_path):

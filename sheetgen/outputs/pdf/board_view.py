@@ -283,8 +283,9 @@ def _lines(board: Board, netlist: Netlist) -> list[str]:
     out.append("Parts: " + "; ".join(words.placing(board, netlist)) + ".")
     out.append("Wires: " + "; ".join(words.wires(board)) + ".")
     if board.off_board_parts:
-        out.append("Mounted off the board: " + ", ".join(board.off_board_parts) + ".")
-    out += [t + "." for t in words.off_board_joins(board, netlist)]
+        joins = "; ".join(words.off_board_joins(board, netlist))
+        out.append("Mounted off the board: " + words.refs_run(board.off_board_parts) + (f"; {joins}" if joins else "")
+                   + ".")
     return out
 
 
