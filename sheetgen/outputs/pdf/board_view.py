@@ -225,9 +225,11 @@ class BoardViews(Flowable):
             path = c.beginPath()
             flat_x = x + (-across / 2 if pl.face == "left" else across / 2)
             back_x = x + (across / 2 if pl.face == "left" else -across / 2)
-            path.moveTo(flat_x, yc - along / 2)
-            path.lineTo(flat_x, yc + along / 2)
-            path.curveTo(back_x, yc + along / 2, back_x, yc - along / 2, flat_x, yc - along / 2)
+            h, k = along / 2, 0.5523  # two quarter ellipses from the flat face round the back
+            path.moveTo(flat_x, yc - h)
+            path.lineTo(flat_x, yc + h)
+            path.curveTo(flat_x + k * (back_x - flat_x), yc + h, back_x, yc + k * h, back_x, yc)
+            path.curveTo(back_x, yc - k * h, flat_x + k * (back_x - flat_x), yc - h, flat_x, yc - h)
             c.drawPath(path, stroke=1, fill=1)
             c.setLineWidth(1.8)
             c.line(flat_x, yc - along / 2, flat_x, yc + along / 2)
@@ -236,7 +238,7 @@ class BoardViews(Flowable):
             c.setFillColor(BLACK)
             side = 1 if pl.face == "left" else -1  # the lead letters inside the body, on its round side
             for pin, (px, py) in zip((pin for pin, _ in pl.holes), pts):
-                c.drawCentredString(px + side * across * 0.28, py - size * 0.35, pin)
+                c.drawCentredString(px + side * max(across * 0.25, 0.34 * self.pitch), py - size * 0.35, pin)
             half = across / 2
         c.setFillColor(BLACK)
         for px, py in pts:
