@@ -157,7 +157,7 @@ class Stage:
 
 
 SINGLE_NPN = Stage(kind="bjt", darlington=False, vce_sat_v=0.2, v_drive_v=0.75, cost_rank=0)
-# Darlington Vce(sat) about 1 V at moderate currents, VBE(on) 1.2-1.5 V (TIP120: 2 V max at 3 A; check-values §8)
+# Darlington Vce(sat) about 1 V at moderate currents, VBE(on) 1.2-1.5 V (TIP120: 2 V max at 3 A, onsemi TIP120 data sheet; read in the source)
 DARLINGTON = Stage(kind="bjt", darlington=True, vce_sat_v=1.0, v_drive_v=1.4, cost_rank=1)
 # A logic-level MOSFET fully on drops only I·RDS(on): tens of millivolts at an amp (IRLZ44N, 25 mΩ at 5 V)
 LOGIC_MOSFET = Stage(kind="mosfet", darlington=False, vce_sat_v=0.05, v_drive_v=0.0, cost_rank=2,
@@ -514,8 +514,8 @@ def _draw_supply_guard(pen: Pen, netlist: Netlist, *, row: str) -> None:
 def _draw_cutoff(pen: Pen, netlist: Netlist) -> None:
     """The over-voltage cut-off beside Q1 (the cursor on Q1's grounded pin), joined by flags to the rail and Q1's drive.
 
-    Beside rather than below, so the drawing grows wider, not taller: a card
-    scales it to its width.
+    Beside Q1, where no label sits; a card without room for it draws the
+    circuit without the cut-off and names it in its parts list.
     """
     tp = {net: label for label, net in netlist.probes}
     q = _one(netlist, "cutoff")

@@ -110,6 +110,7 @@ class Spec:
     ambient_c: float = 25.0  # worst-case air temperature around the box (default: the install's)
     topology: str = "auto"  # "auto" or the name of a topology to force
     install: str = "vehicle"  # where it goes: vehicle | boat | building | bench (profile in parts/catalog/installs.yaml)
+    board: str = "stripboard"  # what the builder solders on: stripboard (copper strips) | perfboard (a pad per hole)
     source: str = ""  # file path or "<built-in>", for messages
     system: str = "battery-12"  # the supply system its span was taken from (installs.yaml)
     wires: tuple[tuple[str, str], ...] = ()  # (run, colour) the user chose: always_on, switched, ground
@@ -373,9 +374,10 @@ def _check_keys(
         p.add(key_path, f"unknown key; {hint}")
 
 
-def _quantity(p: _Problems, value: Any, path: tuple[str, ...], unit: str) -> float | None:
+def _quantity(p: _Problems, value: Any, path: tuple[str, ...], unit: str, *,
+              typical: float | None = None) -> float | None:
     try:
-        return parse_quantity(value, unit, key=p.key(path))
+        return parse_quantity(value, unit, key=p.key(path), typical=typical)
     except SpecError as exc:
         for problem in exc.problems:
             p.add_keyed(path, problem)
@@ -439,10 +441,12 @@ def _voltage(p: _Problems, value: Any, path: tuple[str, ...], *, floor_v: float 
     return volts
 
 
-_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install", "wires", "protection")
+_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install", "board", "wires",
+             "protection")
 INSTALLS = tuple(i.name for i in profiles.installs())
+BOARDS = ("stripboard", "perfboard")
 _SUPPLY_KEYS = ("nominal", "min", "max", "system")
-_LED_KEYS = ("kind", "current", "vf", "colour", "per_string", "strings")
+_LED_KEYS = ("kind", "current", "vf", "colour", "color", "per_string", "strings")
 _LAMP_KEYS = ("kind", "power", "current", "rated", "count")
 _FADE_KEYS = ("in", "out")
 _TRIGGERS = ("positive", "ground")
@@ -480,6 +484,7 @@ def _build(data: Any, p: _Problems) -> Spec:
     topology = _topology(p, data)
     wires = _wires(p, data)
     protection = _protection(p, data)
+    board = board_kind(p, data.get("board"), ("board",)) if "board" in data else "stripboard"
     p.raise_if_any()
     return Spec(
         title=title,
@@ -491,6 +496,7 @@ def _build(data: Any, p: _Problems) -> Spec:
         ambient_c=ambient_c,
         topology=topology,
         install=install,
+        board=board,
         source=p.source,
         system=system,
         wires=wires,
@@ -644,25 +650,28 @@ def _led(p: _Problems, raw: dict, path: tuple[str, ...], supply: Supply | None) 
 
     current = None
     if "current" in raw:
-        current = _quantity(p, raw["current"], path + ("current",), "A")
+        current = _quantity(p, raw["current"], path + ("current",), "A", typical=0.02)
         current = _in_range(p, current, path + ("current",), "A", 1e-3, 3.0, " (per string)")
     else:
         p.add(path, "missing `current:` (per string), e.g. current: 20 mA")
 
     colour = None
     colour_vf = None
-    if "colour" in raw:
-        name = _text(p, raw, path + ("colour",))
+    spelt = "color" if "color" in raw else "colour"  # either spelling; the message names the one written
+    if "color" in raw and "colour" in raw:
+        p.add(path + ("color",), "is given twice, as colour: and color:; keep one")
+    elif spelt in raw:
+        name = _text(p, raw, path + (spelt,))
         if name:
-            colour, colour_vf = _colour_vf(p, name.lower(), path + ("colour",), vf_given="vf" in raw)
+            colour, colour_vf = _colour_vf(p, name.lower(), path + (spelt,), vf_given="vf" in raw)
         elif name == "":
-            p.add(path + ("colour",), "is empty; name an LED colour or give vf:")
+            p.add(path + (spelt,), "is empty; name an LED colour or give vf:")
 
     vf = None
     if "vf" in raw:
         vf = _quantity(p, raw["vf"], path + ("vf",), "V")
         vf = _in_range(p, vf, path + ("vf",), "V", 0.5, 12.0, " (forward voltage of one LED)")
-    elif "colour" not in raw:
+    elif spelt not in raw:
         p.add(path, "needs `vf:` (one LED's forward voltage, e.g. vf: 3.1 V) or `colour:` (e.g. colour: white)")
     else:
         vf = colour_vf
@@ -815,6 +824,21 @@ def _protection(p: _Problems, data: dict) -> bool | None:
         return None
     p.add(("protection",), f"must be auto, true or false, got {_describe(value)}")
     return None
+
+
+def board_kind(p: _Problems, value: Any, path: tuple[str, ...]) -> str:
+    """``board:``: stripboard or perfboard (an event file checks its own key with this too)."""
+    if not isinstance(value, str):
+        p.add(path, f"must be stripboard or perfboard, got {_describe(value)}")
+        return "stripboard"
+    word = value.strip().lower()
+    if word in BOARDS:
+        return word
+    close = difflib.get_close_matches(word, BOARDS, n=1, cutoff=0.5)
+    hint = f"; did you mean `{close[0]}`?" if close else ""
+    p.add(path, f'"{value}" is not a board; use stripboard (copper strips along the rows) or perfboard '
+                f"(a pad per hole){hint}")
+    return "stripboard"
 
 
 def _topology(p: _Problems, data: dict) -> str:

@@ -120,6 +120,7 @@ def report_dict(report: Report) -> dict:
         "abuse": [abuse_entry(c) for c in report.abuse],
         "wiring": list(report.wiring),
         "cautions": list(report.cautions),
+        "board": report.board.as_dict() if report.board is not None else None,
         "spice": spice_deck(d.netlist),
     }
     return out

@@ -1,8 +1,9 @@
 """The shopping list for a build night: every part of every kit, merged, with spares.
 
 Pure arithmetic over Reports: each design's netlist gives the parts one kit
-holds, its harness and heat give the off-board items (fuse, fuse holder, wire,
-a heatsink where one is needed), and lines that are the same thing to buy
+holds, its harness and heat give the off-board items (board, terminal block,
+fuse, fuse holder, wire, lamp holders, a heatsink and its insulating kit where
+one is needed), and lines that are the same thing to buy
 (same item, value, rating, tolerance and package) are merged across designs.
 
     needed = parts per kit × kits, summed over the designs that use the line
@@ -40,8 +41,8 @@ CSV_COLUMNS = ("item", "value", "rating", "tolerance", "package", "unit", "neede
 _KIND_ITEM = {"resistor": "resistor", "capacitor": "capacitor", "diode": "diode", "led": "LED",
               "npn": "NPN transistor", "pnp": "PNP transistor", "nmos": "N-channel MOSFET", "lamp": "lamp"}
 # Shopping order: board parts by kind, then what goes on or off the board.
-_ORDER = ("resistor", "capacitor", "diode", "npn", "pnp", "nmos", "led", "lamp", "heatsink", "fuse", "fuse holder",
-          "wire")
+_ORDER = ("resistor", "capacitor", "diode", "npn", "pnp", "nmos", "led", "lamp", "board", "terminal block",
+          "lamp holder", "heatsink", "insulating kit", "fuse", "fuse holder", "wire")
 
 
 @dataclass(frozen=True)
@@ -110,10 +111,12 @@ def _part_item(part: Part) -> KitItem:
     elif part.kind == "diode" and "zener" in part.description.lower():
         item = "zener diode"
     elif part.kind == "led":
-        # "white LED, Vf 3 V at 20 mA": the LED is bought by colour and forward voltage; the
-        # current is set by its resistor, so LEDs run at different currents are the same part.
+        # "white LED, Vf 3 V at 20 mA": bought by colour and forward voltage, and rated for at
+        # least the current it runs at.
         colour_led, _, rest = part.description.partition(", ")
-        item, value = colour_led, rest.split(" at ")[0]
+        vf, _, current = rest.partition(" at ")
+        item = colour_led if colour_led != "LED" else "LED, any colour with this Vf"
+        value, rating = vf, f"runs at {current}" if current else ""
     elif part.kind == "lamp":
         value, rating = part.description.replace(" lamp", ""), ""
     return KitItem(kind=part.kind, sort_value=sort_value, item=item, value=value, rating=rating,
@@ -136,6 +139,20 @@ def kit_items(report: Report) -> tuple[KitItem, ...]:
               rating=f"for {wire} wire", tolerance="", package="in-line", unit="pcs", quantity=1),
     ]
     spec = report.design.spec
+    n_runs = len(report.design.topology.wiring)
+    lamps = [p for p in report.design.netlist.parts if p.kind == "lamp"]
+    ways = n_runs + 2 * len(lamps)
+    extra += [
+        KitItem(kind="board", sort_value=0.0, item="prototype board", value="stripboard or perfboard", rating="",
+                tolerance="", package="", unit="pcs", quantity=1, note="one per kit; cut to the parts"),
+        KitItem(kind="terminal block", sort_value=ways, item="screw terminal block", value=f"{ways}-way",
+                rating=f"for {wire} wire", tolerance="", package="board mount", unit="pcs", quantity=1,
+                note="one position per off-board wire" + (", two per lamp" if lamps else "")),
+    ]
+    for lamp in lamps:
+        extra.append(KitItem(kind="lamp holder", sort_value=lamp.rating_w or 0.0, item="lamp holder",
+                             value=f"for the {lamp.description}", rating="", tolerance="", package="",
+                             unit="pcs", quantity=1, note="rated for the lamp's wattage and base"))
     for net, _what in report.design.topology.wiring:
         chosen = runs.colour(spec, net)
         item = f"wire, {chosen}" if chosen else f"wire for the {runs.label(spec, net)} run"
@@ -148,7 +165,7 @@ def kit_items(report: Report) -> tuple[KitItem, ...]:
     for hw in (m.hardware if m is not None else ()):
         value = hw.part_number or f"{hw.rating_c_per_w:g} °C/W or better"
         item = "heatsink" if hw.kind == "heatsink" else "insulating kit"
-        extra.append(KitItem(kind="heatsink", sort_value=hw.rating_c_per_w, item=item, value=value,
+        extra.append(KitItem(kind=item, sort_value=hw.rating_c_per_w, item=item, value=value,
                            rating=f"{hw.rating_c_per_w:g} °C/W", tolerance="", package=hw.package, unit="pcs",
                            quantity=1, note=f"for {m.transistor}: {hw.description}"))
     for it in extra:

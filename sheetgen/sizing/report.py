@@ -10,6 +10,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from sheetgen.board.model import Board
 from sheetgen.sizing.size import Design
 from sheetgen.sizing.tolerance import Spread
 
@@ -200,6 +201,7 @@ class Brief:
     steps: tuple[str, ...]
     leads: str
     cautions: tuple[str, ...]
+    board_steps: tuple[str, ...] = ()  # the same build told by the board: place, cut, link, wire
 
 
 @dataclass(frozen=True)
@@ -218,3 +220,4 @@ class Report:
     brief: Brief  # the steps and cautions in a card's words
     mounting: Mounting | None = None  # Q1's heatsink and insulating kit, where one is needed
     abuse: tuple[AbuseCase, ...] = ()  # reversed battery, jump start, load dump, where protection is fitted
+    board: Board | None = None  # where every on-board part goes, proven against the netlist
