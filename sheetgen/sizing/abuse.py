@@ -24,6 +24,9 @@ __all__ = ["abuse_cases", "VEBO_V", "LED_VR_V", "CAP_REVERSE_V"]
 
 VEBO_V = 5.0  # emitter-base reverse rating of the catalog's bipolar parts, 5-6 V in their data sheets (from memory)
 LED_VR_V = 5.0  # reverse voltage rating of a 5 mm indicator LED, 5 V in the usual data sheets (from memory)
+#: IEC 60115-1 short-time overload: 2.5 × rated voltage (6.25 × rated power) for 5 s without harm (from memory).
+SHORT_TIME_OVERLOAD = 6.25
+SHORT_TIME_S = 5.0
 CAP_REVERSE_V = 1.0  # an aluminium electrolytic takes about 1 V reversed without harm (common practice, no source)
 
 
@@ -61,7 +64,8 @@ def abuse_cases(design: Design) -> tuple[AbuseCase, ...]:
     out = []
     for k, (name, title, v, duration, guard) in enumerate(cases):
         states = [(lambda net, op=op: float(op.v(net)[k])) for op in (on, off)]
-        stresses = tuple(st for part in nl.parts for st in _part_stresses(design, part, states))
+        short = duration is not None and duration <= SHORT_TIME_S
+        stresses = tuple(st for part in nl.parts for st in _part_stresses(design, part, states, short_time=short))
         leds = _led_currents(design, states[0])
         if isinstance(design.spec.load, LedLoad):
             stresses += tuple(Stress(ref=r.ref, quantity="LED string current", value=float(i),
@@ -81,15 +85,22 @@ def _worst(ref: str, quantity: str, values: list[float], limit: float, unit: str
     return Stress(ref=ref, quantity=quantity, value=float(max(values)), limit=float(limit), unit=unit)
 
 
-def _part_stresses(design: Design, part: Part, states) -> list[Stress]:
-    """The figures of one part that have a rating, worst over the feed states."""
+def _part_stresses(design: Design, part: Part, states, *, short_time: bool = False) -> list[Stress]:
+    """The figures of one part that have a rating, worst over the feed states.
+
+    ``short_time``: the fault lasts under a second (a load dump), so a resistor is held to its
+    short-time overload rating rather than its continuous power.
+    """
     def across(a: str, b: str) -> list[float]:
         return [v(part.net(a)) - v(part.net(b)) for v in states]
 
     ref = part.ref
     if part.kind == "resistor":
         power = [d * d / part.value for d in across("1", "2")]
-        return [_worst(ref, "power", power, part.rating_w or 0.25, "W")] if part.rating_w else []
+        if not part.rating_w:
+            return []
+        limit = part.rating_w * (SHORT_TIME_OVERLOAD if short_time else 1.0)
+        return [_worst(ref, "short-time power" if short_time else "power", power, limit, "W")]
     if part.kind == "capacitor":
         d = across("+", "-")
         out = [_worst(ref, "reverse voltage", [-x for x in d], CAP_REVERSE_V, "V")]

@@ -34,7 +34,7 @@ from sheetgen.parts import installs as profiles
 from sheetgen.parts.catalog import Diode
 from sheetgen.parts.protective import protective
 
-__all__ = ["wanted", "system_of", "apply", "drop_v", "surge_v", "cutoff_trip_v", "without_cutoff", "CUTOFF_ROLES", "RAIL", "SUPPLY"]
+__all__ = ["wanted", "system_of", "apply", "drop_v", "surge_v", "cutoff_trip_v", "jump_v", "without_cutoff", "CUTOFF_ROLES", "RAIL", "SUPPLY"]
 
 SUPPLY = "supply"  # where the always-on wire lands: the Schottky's anode once protected
 RAIL = "rail"  # the protected rail every other part hangs from
@@ -111,6 +111,11 @@ def _dump_jump(spec: Spec) -> tuple[float, float]:
     return s.dump_v or spec.supply.max_v * 1.5, s.jump_v or spec.supply.max_v * 1.5
 
 
+def jump_v(spec: Spec) -> float | None:
+    """The jump-start voltage the protected board must ride through, or None without protection."""
+    return _dump_jump(spec)[1] if wanted(spec) else None
+
+
 def _vbe(t_c: float) -> float:
     return CUTOFF_VBE_V + VBE_TEMPCO_V_PER_C * (t_c - 25.0)
 
@@ -127,6 +132,25 @@ def cutoff_trip_v(spec: Spec) -> float | None:
     lo = (spec.supply.max_v + CUTOFF_MARGIN_V) * CUTOFF_VBE_V / _vbe(spec.ambient_c)
     hi = (jump - CUTOFF_MARGIN_V) * CUTOFF_VBE_V / _vbe(COLD_C)
     return float(np.sqrt(lo * hi)) if lo < hi else None
+
+
+def _divider(netlist: Netlist, trip_v: float, jump_v: float, npn) -> tuple[float, float]:
+    """(upper, lower) divider resistors: the trip ratio, stiff enough to sink the stage's drive in a jump start.
+
+    In a jump start the feed pushes about V_jump / (R_charge + R_base) into
+    the drive node the cut-off holds down; the cut-off's base current above the
+    trip, (V_jump - V_trip) / R_upper, must be twice that over its minimum gain.
+    Stages without those roles keep the lightest divider.
+    """
+    ratio = trip_v / CUTOFF_VBE_V - 1.0
+    upper = R_CUTOFF_BIAS_OHM * ratio
+    charge, base = netlist.by_role("charge"), netlist.by_role("base")
+    if charge and base:
+        i_drive = jump_v / (charge[0].value + base[0].value)
+        i_base = 2.0 * i_drive / npn.hfe_min_at(max(i_drive, 1e-4))
+        upper = min(upper, (jump_v - trip_v) / i_base)
+    upper = eseries.below("E24", upper)
+    return upper, eseries.below("E24", upper / ratio)
 
 
 def _next(prefix: str, netlist: Netlist) -> int:
@@ -161,14 +185,14 @@ def apply(netlist: Netlist, spec: Spec) -> Netlist:
     if trip is not None:
         switch = netlist.by_role("switch")[0]
         drive = next(n for p, n in switch.pins if p in _DRIVE_PINS)
-        r_top = eseries.nearest("E24", R_CUTOFF_BIAS_OHM * (trip / CUTOFF_VBE_V - 1.0))
         npn = catalog.transistor(CUTOFF_NPN)
+        r_top, r_bottom = _divider(netlist, trip, jump, npn)
         added += (
             Part(ref=f"R{r}", kind="resistor", pins=(("1", RAIL), ("2", "cut_b")), role="cutoff_series",
                  value=r_top, description="cut-off divider, upper: sets the trip voltage", rating_w=0.25,
                  tolerance=0.05, package="axial"),
             Part(ref=f"R{r + 1}", kind="resistor", pins=(("1", "cut_b"), ("2", GROUND)), role="cutoff_bias",
-                 value=R_CUTOFF_BIAS_OHM, description="cut-off divider, lower: holds the cut-off off at normal "
+                 value=r_bottom, description="cut-off divider, lower: holds the cut-off off at normal "
                  "supply", rating_w=0.25, tolerance=0.05, package="axial"),
             Part(ref=f"Q{q}", kind="npn", pins=(("C", drive), ("B", "cut_b"), ("E", GROUND)), role="cutoff",
                  model=npn.model, part_number=npn.part_number,

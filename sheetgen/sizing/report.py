@@ -6,6 +6,7 @@ names carry their SI unit.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -102,6 +103,11 @@ class Mounting:
     free_air_c: float
     tj_max_c: float
     needed_c_per_w: float  # the largest R_θSA that keeps the junction under the limit with this kit
+
+    @property
+    def needed_shown_c_per_w(self) -> float:
+        """The needed R_θSA as printed: rounded down to 0.1 °C/W, so a part of the printed figure is good enough."""
+        return math.floor(self.needed_c_per_w * 10.0) / 10.0
 
     @property
     def chain_c_per_w(self) -> float:

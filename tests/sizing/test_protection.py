@@ -42,6 +42,14 @@ def tailgate():
     return analyse(size(load_spec(EXAMPLES / "estate-car-tailgate-ground.yaml")), draws=20)
 
 
+@pytest.fixture(scope="module")
+def lamp21():
+    # A 21 W lamp in a vehicle: unprotected, a battery reversed at 14.6 V lights it through the
+    # Darlington's collector-emitter diode and the fuse does not blow.
+    text = "title: Van work lamp\nsupply: 12 V\nload: {kind: lamp, power: 21 W}\nfade: {in: 0.5 s, out: 3 s}\n"
+    return analyse(size(parse_spec(text, source="lamp21.yaml")), draws=20)
+
+
 def _case(report, name):
     return next(c for c in report.abuse if c.name == name)
 
@@ -56,21 +64,22 @@ def test_parts_carry_the_roles_of_the_json_contract(camper):
     assert parts["reverse_polarity"]["pins"] == {"A": "supply", "K": "rail"}
 
 
-@pytest.mark.parametrize("fixture", ["camper", "tailgate"])
+@pytest.mark.parametrize("fixture", ["camper", "tailgate", "lamp21"])
 def test_every_fault_keeps_every_part_inside_its_rating(fixture, request):
     report = request.getfixturevalue(fixture)
     assert {c.name for c in report.abuse} == {"reverse", "jump", "dump"}
     for case in report.abuse:
         assert case.ok, [st for st in case.stresses if not st.ok]
     jump = _case(report, "jump")
-    # A jump start may dim or cut the light, never overrun it: the LEDs stay at or under their current.
-    assert jump.led_max_a <= report.design.spec.load.current_a
-    assert jump.led_max_a < 1e-6  # the cut-off holds Q1 off
+    # A jump start may dim or cut the light, never overrun it: the cut-off holds Q1 off.
+    assert jump.load_fraction < 0.2
+    if jump.led_max_a is not None:
+        assert jump.led_max_a <= report.design.spec.load.current_a
     assert _case(report, "reverse").supply_a < 1e-3
 
 
 @pytest.mark.requires_ngspice
-@pytest.mark.parametrize("fixture", ["camper", "tailgate"])
+@pytest.mark.parametrize("fixture", ["camper", "tailgate", "lamp21"])
 def test_reversed_battery_draws_under_a_milliamp_in_ngspice(fixture, request):
     # Without the series Schottky a reversed 14.6 V battery lights a lamp through the switch's
     # collector-base junction (or a Darlington's C-E diode) and does not blow its fuse.

@@ -691,7 +691,7 @@ def heat_block(report: Report, frame: Frame) -> Block:
         kit = f"{m.insulator.ref} kit" if m.insulator else "compound"
         name = f"{m.heatsink.ref} {m.heatsink.part_number}".strip()
         sink = _pm(f"<b>{escape(name)}, {m.heatsink.rating_c_per_w:g} °C/W</b> (needed: "
-                   f"{m.needed_c_per_w:.1f} °C/W or better). Chain: junction–case {m.rth_jc_c_per_w:g} + {kit} "
+                   f"{m.needed_shown_c_per_w:g} °C/W or better). Chain: junction–case {m.rth_jc_c_per_w:g} + {kit} "
                    f"{m.rth_cs_c_per_w:g} + heatsink {m.heatsink.rating_c_per_w:g} = {m.chain_c_per_w:.2f} °C/W; "
                    f"heatsink up to {m.sink_c:.0f} °C", s.cell)
         stuck = _pm(hover + f"junction <b>{m.junction_c:.0f} °C</b> on {m.heatsink.ref} (limit {escape(limit)}); "
