@@ -10,22 +10,15 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Literal, Mapping
 
+from sheetgen.model.kinds import KINDS
+
 GROUND = "0"
 
 PartKind = Literal["resistor", "capacitor", "diode", "led", "npn", "pnp", "nmos", "lamp"]
 ModelKind = Literal["D", "NPN", "PNP", "NMOS", "LAMP"]
 
 #: The pin names of each kind, in SPICE element order.
-PIN_ORDER: dict[str, tuple[str, ...]] = {
-    "resistor": ("1", "2"),
-    "capacitor": ("+", "-"),
-    "diode": ("A", "K"),
-    "led": ("A", "K"),
-    "npn": ("C", "B", "E"),
-    "pnp": ("C", "B", "E"),
-    "nmos": ("D", "G", "S"),
-    "lamp": ("1", "2"),
-}
+PIN_ORDER: dict[str, tuple[str, ...]] = {k.name: k.pins for k in KINDS.values()}
 
 
 @dataclass(frozen=True)

@@ -23,29 +23,14 @@ import re
 import numpy as np
 
 from sheetgen import __version__
+from sheetgen.model.kinds import KINDS
 from sheetgen.model.netlist import GROUND, Model, Netlist, Overrides, Part
 
 #: The SPICE element letter of each part kind.
-ELEMENT_LETTER: dict[str, str] = {
-    "resistor": "R",
-    "capacitor": "C",
-    "diode": "D",
-    "led": "D",
-    "npn": "Q",
-    "pnp": "Q",
-    "nmos": "M",
-    "lamp": "X",
-}
+ELEMENT_LETTER: dict[str, str] = {k.name: k.letter for k in KINDS.values()}
 
 #: The model kind each part kind needs (resistors and capacitors need none).
-MODEL_KIND: dict[str, str] = {
-    "diode": "D",
-    "led": "D",
-    "npn": "NPN",
-    "pnp": "PNP",
-    "nmos": "NMOS",
-    "lamp": "LAMP",
-}
+MODEL_KIND: dict[str, str] = {k.name: k.model_kind for k in KINDS.values() if k.model_kind}
 
 #: Prefix of a deck model name, by model kind: tells a reader what a card is.
 _MODEL_PREFIX = {"D": "D", "NPN": "Q", "PNP": "Q", "NMOS": "M", "LAMP": "LAMP"}
