@@ -49,10 +49,11 @@ class NetIndex:
     def __init__(self, netlist: Netlist, overrides: Overrides | None, n: int):
         self.netlist = netlist
         self.n = n
-        self.overrides = dict(overrides or {})
+        self.overrides = _inner_overrides(netlist, overrides or {})
         for (ref, _), arr in self.overrides.items():
             if np.shape(arr) not in ((n,), ()):
                 raise ValueError(f"override for {ref} has shape {np.shape(arr)}, expected ({n},)")
+        netlist = self.flat = netlist.flattened()
         fixed = [s.plus for s in netlist.sources]
         for s in netlist.sources:
             if s.minus != GROUND:
@@ -172,6 +173,20 @@ class NetIndex:
         params = {k: np.stack([p[k] for _, _, p in items], axis=1) for k in names}
         return _Group(refs, nodes, params)
 
+
+
+def _inner_overrides(netlist: Netlist, overrides: Overrides) -> dict:
+    """Overrides with a composite's ``(Q1, "QD.BF")`` addressed to its inner part ``(Q1.QD, BF)``."""
+    composite = {p.ref for p in netlist.parts if p.is_composite}
+    out = {}
+    for (ref, param), arr in overrides.items():
+        if ref in composite:
+            inner, dot, name = param.partition(".")
+            if not dot:
+                raise ValueError(f"{ref} is built of parts: override one of them, as ({ref!r}, 'QD.{param}')")
+            ref, param = f"{ref}.{inner}", name
+        out[(ref, param)] = arr
+    return out
 
 
 # ------------------------------------------------------------------ elements

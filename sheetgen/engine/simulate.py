@@ -413,14 +413,21 @@ class Traces:
         return self.voltages.shape[0]
 
     def switch_power(self, ref: str) -> np.ndarray:
-        """Instantaneous dissipation of transistor ``ref`` (BJT or MOSFET), shape (N, T).
+        """Instantaneous dissipation of transistor ``ref`` (BJT, MOSFET or Darlington), shape (N, T).
 
         Device currents are evaluated again from the solved junction voltages;
         the power is the sum of pin voltage times pin current over its
-        external pins, so series resistances inside the model count too.
+        external pins, so series resistances inside the model count too.  A
+        composite device dissipates what its transistors do (its resistors and
+        diode carry next to nothing in a switch).
         """
-        c = self.compiled
         part = self.netlist.part(ref)
+        if part.is_composite:
+            return sum(self._one_switch_power(q) for q in part.expanded() if q.kind in ("npn", "pnp", "nmos"))
+        return self._one_switch_power(part)
+
+    def _one_switch_power(self, part) -> np.ndarray:
+        c, ref = self.compiled, part.ref
         vx = {pin: self.v(net) for pin, net in part.pins}
         if ref in c.bjts.refs:
             j = c.bjts.refs.index(ref)

@@ -15,6 +15,7 @@ import pytest
 
 from sheetgen.parts import catalog
 from sheetgen.model.netlist import Model
+from sheetgen.outputs import spice
 from sheetgen.outputs.spice_run import NGSPICE
 
 REQUIRED_TRANSISTORS = ("PN2222A", "BC337-40", "BD139", "TIP31C", "BC327-40",
@@ -253,9 +254,13 @@ def test_lamp_model_card():
 
 
 def _card(model: Model) -> str:
-    kind = {"D": "d", "NPN": "npn", "PNP": "pnp", "NMOS": "nmos"}[model.kind]
-    params = " ".join(f"{k}={v:.6g}" for k, v in model.params)
-    return f".model {model.name} {kind}({params})"
+    """The card exactly as the deck writer prints it (a Darlington as its .subckt)."""
+    return "\n".join(spice.model_card(model.name, model))
+
+
+def _q(model: Model) -> str:
+    """The transistor's element: Q1, or X1 for a device built of parts."""
+    return "X1" if model.body else "Q1"
 
 
 def _run(tmp_path, body: str, analysis: str, vectors: str) -> np.ndarray:
@@ -273,7 +278,7 @@ def _run(tmp_path, body: str, analysis: str, vectors: str) -> np.ndarray:
 def _bjt_gain(tmp_path, t, ic_a: float, vce_v: float) -> tuple[float, float]:
     """(hFE, Vbe) of the card at collector current ic_a and fixed vce_v, from a Vbe sweep."""
     s = -1.0 if t.polarity == "pnp" else 1.0
-    body = (f"Q1 c b 0 {t.model.name}\nVB b 0 DC 0\nVC c 0 DC {s * vce_v}\n{_card(t.model)}")
+    body = (f"{_q(t.model)} c b 0 {t.model.name}\nVB b 0 DC 0\nVC c 0 DC {s * vce_v}\n{_card(t.model)}")
     a = _run(tmp_path, body, f"dc VB 0 {s * 2.0} {s * 0.001}", "i(VB) i(VC)")
     vb, ib, ic = s * a[:, 0], -s * a[:, 1], -s * a[:, 2]      # columns: VB, i(VB), i(VC)
     ok = (ib > 0) & (ic > 0)
@@ -286,7 +291,7 @@ def _bjt_gain(tmp_path, t, ic_a: float, vce_v: float) -> tuple[float, float]:
 def _bjt_sat(tmp_path, t, ic_a: float, ib_a: float) -> tuple[float, float]:
     """(Vce, Vbe) of the card with forced collector and base currents."""
     s = -1.0 if t.polarity == "pnp" else 1.0
-    body = (f"Q1 c b 0 {t.model.name}\nIB 0 b DC {s * ib_a}\nIC 0 c DC {s * ic_a}\n"
+    body = (f"{_q(t.model)} c b 0 {t.model.name}\nIB 0 b DC {s * ib_a}\nIC 0 c DC {s * ic_a}\n"
             f"{_card(t.model)}")
     a = _run(tmp_path, body, "op", "v(c) v(b)")
     return s * a[0, -2], s * a[0, -1]                          # last columns: v(c), v(b)
