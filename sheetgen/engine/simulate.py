@@ -6,6 +6,9 @@ thousand tolerance draws cost one pass of numpy work per Newton iteration, not a
 thousand Python loops.  The integrator is the trapezoidal rule with local
 truncation-error step control, falling back to backward Euler on the first step
 after each source breakpoint (as SPICE does) so switching edges do not ring.
+Where Newton fails even at the smallest step, a recovery ladder takes over
+for a while: backward Euler with more iterations from the last accepted point,
+then gmin continuation within the step; only then does the run give up.
 
 Sources must have their minus terminal on ground; their nodes are then known
 voltages and drop out of the unknowns, and the current they deliver comes out of
@@ -516,32 +519,43 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
     hist_t, hist_v = [0.0], [vc]
 
     t, h, bp_i, first = 0.0, h_start, 0, True
+    rung, calm = 0, 0  # the recovery ladder's rung in use, and steps accepted on it
     while t < stop * (1 - 1e-12):
         while bps[bp_i] <= t * (1 + 1e-12):
             bp_i += 1
         h = min(h, hmax, bps[bp_i] - t)
-        trap = not first
+        trap = not first and rung == 0
         alpha = 2.0 if trap else 1.0
         geq = alpha * cap_c / h
         hist = geq * vc + (ic if trap else 0.0)
         m0 = _linear_system(c, alpha / h, hist)
-        x_start = _predict(hist_t[-3:], [v[:c.n_state] for v in volts[-min(3, len(hist_t)):]], t + h)
-        xn, ok, src, vjn = _newton(c, x_start, c.fixed_values(t + h).T, m0, vj)
+        if rung:  # from the last solution: extrapolating across a kink is what failed
+            xn, ok, src, vjn = _RUNGS[rung - 1](c, x[:c.n_state], c.fixed_values(t + h).T, m0, vj)
+        else:
+            x_start = _predict(hist_t[-3:], [v[:c.n_state] for v in volts[-min(3, len(hist_t)):]], t + h)
+            xn, ok, src, vjn = _newton(c, x_start, c.fixed_values(t + h).T, m0, vj)
         if not ok.all():
             h /= 8.0
             if h < stop * 1e-12:
-                raise SimulationError(f"{netlist.title}: time step too small at t = {t:.6g} s")
+                if rung == len(_RUNGS):
+                    raise SimulationError(f"{netlist.title}: time step too small at t = {t:.6g} s")
+                rung, calm, h = rung + 1, 0, h_start
             continue
+        if rung:
+            calm += 1
+            if calm >= RUNG_STEPS:
+                rung = 0
         vcn = xn[cap_a] - xn[cap_b]
-        if trap and len(hist_t) >= 3:
-            dd3 = _third_divided_difference(hist_t[-3:] + [t + h], hist_v[-3:] + [vcn])
-            lte = np.abs(dd3) * (h**3 / 2.0)
-            tol = TRTOL * (LTE_RELTOL * np.maximum(np.abs(vcn), np.abs(vc)) + LTE_ABSTOL)
+        order = 3 if trap else 2  # the error estimate's order: trapezoidal, or backward Euler on a rung
+        if (trap or rung) and len(hist_t) >= order:
+            dd = _divided_difference(hist_t[-order:] + [t + h], hist_v[-order:] + [vcn])
+            lte = np.abs(dd) * (h**3 / 2.0 if trap else h**2)
+            tol = (TRTOL if trap else 1.0) * (LTE_RELTOL * np.maximum(np.abs(vcn), np.abs(vc)) + LTE_ABSTOL)
             ratio = np.max(lte / tol) if lte.size else 0.0
             if ratio > 1.0 and h > h_start:
-                h *= max(0.25, 0.9 * ratio ** (-1.0 / 3.0))
+                h *= max(0.25, 0.9 * ratio ** (-1.0 / order))
                 continue
-            grow = 2.0 if ratio == 0 else min(2.0, 0.9 * ratio ** (-1.0 / 3.0))
+            grow = 2.0 if ratio == 0 else min(2.0, 0.9 * ratio ** (-1.0 / order))
         else:
             grow = 2.0
         # Resolve the curve a builder looks at: no source current may move by more
@@ -576,6 +590,30 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
                   source_currents=np.stack(currents).transpose(2, 0, 1), compiled=c)
 
 
+def _patient_newton(c: Compiled, x0, xf, m0, vj):
+    """The first rung of the recovery ladder: backward Euler (the caller's choice) and
+    four times the Newton iterations, from the last accepted point."""
+    return _newton(c, x0, xf, m0, vj, max_iter=4 * MAX_NEWTON)
+
+
+def _gmin_continuation(c: Compiled, x0, xf, m0, vj):
+    """The second rung: the step solved with a conductance from every node to ground,
+    relaxed a decade at a time from 1 mS to nothing, each solve starting from the last."""
+    x = x0
+    for gmin in (*10.0 ** np.arange(-3, -13, -1), 0.0):
+        m = m0.copy()
+        m[c._diag] += gmin
+        xx, ok, src, vj = _newton(c, x, xf, m, vj, max_iter=4 * MAX_NEWTON)
+        x = xx[:c.n_state]
+    return xx, ok, src, vj
+
+
+#: What a time step tries when Newton fails even at the smallest step, in order.  A rung
+#: stays in use for RUNG_STEPS accepted steps, then the fast path takes over again.
+_RUNGS = (_patient_newton, _gmin_continuation)
+RUNG_STEPS = 20
+
+
 def _predict(ts: list[float], xs: list[np.ndarray], t: float) -> np.ndarray:
     """Newton's starting point: the polynomial through the last points, at ``t``.
 
@@ -593,8 +631,8 @@ def _predict(ts: list[float], xs: list[np.ndarray], t: float) -> np.ndarray:
     return out
 
 
-def _third_divided_difference(ts: list[float], vs: list[np.ndarray]) -> np.ndarray:
-    """f[t0, t1, t2, t3] ≈ f'''/6 of four values (k, N), as their weighted sum: no stacking."""
+def _divided_difference(ts: list[float], vs: list[np.ndarray]) -> np.ndarray:
+    """f[t0, ..., tk] ≈ f^(k) / k! of k + 1 values (each (m, N)), as their weighted sum: no stacking."""
     out = None
     for i, (ti, vi) in enumerate(zip(ts, vs)):
         w = 1.0
