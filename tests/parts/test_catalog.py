@@ -275,10 +275,12 @@ def _run(tmp_path, body: str, analysis: str, vectors: str) -> np.ndarray:
     return np.atleast_2d(np.loadtxt(out))
 
 
-def _bjt_gain(tmp_path, t, ic_a: float, vce_v: float) -> tuple[float, float]:
-    """(hFE, Vbe) of the card at collector current ic_a and fixed vce_v, from a Vbe sweep."""
+def _bjt_gain(tmp_path, t, ic_a: float, vce_v: float, temp_c: float = 27.0) -> tuple[float, float]:
+    """(hFE, Vbe) of the card at collector current ic_a and fixed vce_v, from a Vbe sweep,
+    at junction temperature ``temp_c`` (ngspice's default 27 °C unless given)."""
     s = -1.0 if t.polarity == "pnp" else 1.0
-    body = (f"{_q(t.model)} c b 0 {t.model.name}\nVB b 0 DC 0\nVC c 0 DC {s * vce_v}\n{_card(t.model)}")
+    body = (f"{_q(t.model)} c b 0 {t.model.name}\nVB b 0 DC 0\nVC c 0 DC {s * vce_v}\n{_card(t.model)}\n"
+            f".temp {temp_c:g}")
     a = _run(tmp_path, body, f"dc VB 0 {s * 2.0} {s * 0.001}", "i(VB) i(VC)")
     vb, ib, ic = s * a[:, 0], -s * a[:, 1], -s * a[:, 2]      # columns: VB, i(VB), i(VC)
     ok = (ib > 0) & (ic > 0)
@@ -366,6 +368,39 @@ def test_card_vbe(tmp_path, part):
     _, vbe = _bjt_gain(tmp_path, t, 0.1 * t.imax_a, 2.0 if not t.darlington else 3.0)
     band = (1.1, 1.6) if t.darlington else (0.6, 0.85)
     assert band[0] <= vbe <= band[1], (part, vbe)
+
+
+# Temperature: the gain falls in the cold and rises with heat, Vbe falls by about 2 mV/°C
+# per junction.  Bands read off the makers' normalised "DC current gain" and "on voltages"
+# curves (onsemi BC337/D, P2N2222A/D, TIP120/D; ST BD135/BD139), from memory: hFE at
+# -20 °C 55-95 % of its 25 °C value, at +60 °C 105-145 %; dVbe/dT -1.4 to -2.6 mV/°C per
+# junction at a tenth of the rated current.
+@pytest.mark.requires_ngspice
+@pytest.mark.parametrize("part", BIPOLARS)
+def test_card_temperature_behaviour(tmp_path, part):
+    t = catalog.transistor(part)
+    ic, vce = 0.1 * t.imax_a, (3.0 if t.darlington else 2.0)
+    h25, v25 = _bjt_gain(tmp_path, t, ic, vce, 25.0)
+    h_cold, v_cold = _bjt_gain(tmp_path, t, ic, vce, -20.0)
+    h_hot, v_hot = _bjt_gain(tmp_path, t, ic, vce, 60.0)
+    assert 0.55 <= h_cold / h25 <= 0.95, (part, h_cold / h25)
+    assert 1.05 <= h_hot / h25 <= 1.45, (part, h_hot / h25)
+    junctions = 2 if t.darlington else 1
+    for v, dt in ((v_cold, -45.0), (v_hot, 35.0)):
+        slope = (v - v25) / dt / junctions
+        assert -2.6e-3 <= slope <= -1.4e-3, (part, slope)
+
+
+def test_tolerance_drift_matches_the_cards_temperature_law():
+    """The tolerance draws shift gain and Vbe with ambient by straight lines; at -20 °C they
+    must agree with what the cards' own temperature law (XTB, EG, XTI as in ngspice's BJT
+    model) gives, so draws and ngspice decks tell the same story in the cold."""
+    from sheetgen.sizing.tolerance import HFE_TC_PER_C, T_MODEL_C
+    t_model, t_cold = T_MODEL_C + 273.15, -20.0 + 273.15
+    for q in (t for t in catalog.transistors() if t.is_bipolar):
+        for _, card in q.model.junctions():
+            law = (t_cold / t_model) ** card["XTB"]     # ngspice: BF(T) = BF (T / TNOM)^XTB
+            assert 1 + HFE_TC_PER_C * (-20.0 - T_MODEL_C) == pytest.approx(law, abs=0.05), q.part_number
 
 
 def _mos_rds(tmp_path, t, vgs: float, id_a: float) -> float:
