@@ -39,7 +39,7 @@ def spec_text(rng: np.random.Generator) -> str:
     low, high = max(5.0, round(0.92 * supply, 1)), min(32.0, round(1.2 * supply, 1))
     if rng.random() < 0.6:
         vf = float(rng.choice([2.0, 3.1]))
-        per_string = int(max(1, min(rng.integers(1, 8), (low - 1.0) // vf)))
+        per_string = int(max(1, min(rng.integers(1, 8), (low - 1.0) / vf - 1e-9)))
         current = float(rng.choice([0.001, 0.005, 0.02, 0.35, 0.525, 1.0]))
         strings = int(rng.choice([1, 2, 4, 5]))
         load = f"{{kind: led, current: {current:g} A, vf: {vf:g} V, per_string: {per_string}, strings: {strings}}}"

@@ -33,6 +33,16 @@ load: {kind: lamp, power: 0.1 W}
 fade: {in: 3 s, out: 0.5 s}
 topology: npn
 """,
+    # a 21 W lamp on 28 V behind the ground-switched input: without the transient's recovery
+    # ladder a candidate's run stopped with "time step too small" 0.12 ms in
+    "lamp-21w-28v-npn-ground": """
+title: Tractor cab lamp
+supply: {nominal: 28 V, min: 25.8 V, max: 32 V}
+trigger: ground
+load: {kind: lamp, power: 21 W}
+fade: {in: 30 s, out: 1 s}
+topology: npn-ground
+""",
     # the edges of the supply range and of the load current
     "5v-1ma-fast": """
 title: Dolls house lamp
