@@ -211,6 +211,23 @@ def test_filament_cold_fraction_and_inrush():
     assert 10 <= inrush <= 15
 
 
+# Resistivity of tungsten, µΩ·cm, by temperature in kelvin: Forsythe and Worthing, "The
+# properties of tungsten and the characteristics of tungsten lamps", Astrophysical Journal
+# 61 (1925) 146, as tabulated in the CRC Handbook of Chemistry and Physics (values from memory).
+TUNGSTEN_RESISTIVITY = {300: 5.65, 1000: 24.93, 1500: 40.36, 2000: 56.67, 2500: 73.91, 3000: 92.04}
+
+
+def test_filament_resistance_law_follows_the_tungsten_table():
+    f = catalog.filament()
+    rho = TUNGSTEN_RESISTIVITY
+    for t_k in (1000, 1500, 2000, 2500):
+        law = (t_k / f.t_room_k) ** f.alpha
+        assert law == pytest.approx(rho[t_k] / rho[300], rel=0.08), t_k
+    # cold over hot at the catalog's hot temperature, the table interpolated linearly
+    hot = np.interp(f.t_hot_k, sorted(rho), [rho[k] for k in sorted(rho)])
+    assert f.cold_fraction == pytest.approx(rho[300] / hot, rel=0.08)
+
+
 def _warm_up(f, *, power_w=10.0, stop_s=0.1, steps=200_000):
     """Filament temperature at rated voltage from cold: C dT/dt = P (T_hot/T)^alpha − k (T⁴ − T_room⁴)."""
     k = f.radiation_k(power_w=power_w)
@@ -449,3 +466,27 @@ def test_led_card_gives_typical_vf(tmp_path, name):
     # sources per colour in leds.yaml (robot.lk / sunkistenterprise.com, read in secondary sources, ...)
     assert vf == pytest.approx(c.vf_typ_v, abs=0.02)
     assert vf <= c.vf_max_v
+
+
+def test_simulated_lamp_hot_and_cold_resistance():
+    """Our solver's filament at its rated voltage and nearly cold, against the rating and the
+    tungsten table above (a 12 V 5 W bulb: 28.8 Ω hot, by R = V²/P)."""
+    from sheetgen.engine import simulate
+    from sheetgen.model.netlist import GROUND, Netlist, Part, Source
+
+    f = catalog.filament()
+    lamp = Part(ref="LP1", kind="lamp", pins=(("1", "a"), ("2", GROUND)), role="load",
+                model=f.lamp_model(power_w=5.0, rated_v=12.0))
+    nl = Netlist(title="lamp", parts=(lamp,), sources=(Source("VA", "a", GROUND, 12.0),), release_s=1.0, stop_s=1.0)
+    levels = np.array([12.0, 0.01])
+    op = simulate.operating_point(nl, at_s=0.0, overrides={("VA", "level"): levels}, n=2)
+    r_hot, r_cold = levels / op.i_source("VA")
+    assert r_hot == pytest.approx(12.0 ** 2 / 5.0, rel=0.01)
+    rho = TUNGSTEN_RESISTIVITY
+    hot = np.interp(f.t_hot_k, sorted(rho), [rho[k] for k in sorted(rho)])
+    # at 20 °C: 5.65 µΩ·cm at 300 K less about 3 % (the table's slope), from the same table
+    rho_20c = rho[300] * (1 - (300 - 293.15) * (rho[1000] - rho[300]) / 700 / rho[300])
+    # The card reads about 8 % high here: its cold point is 27 °C, not 20 °C, and the 1.2 power
+    # law runs some 3 % under the table; the inrush it gives is that much on the low side.
+    assert r_cold / r_hot == pytest.approx(rho_20c / hot, rel=0.10)
+    assert r_cold / r_hot >= rho_20c / hot
