@@ -75,6 +75,9 @@ def cmd_build(args) -> int:
     layout = load_layout(args.layout)
     suffix = "-cards.pdf" if isinstance(layout, CardLayout) else ".pdf"
     out = args.output or f"{Path(args.spec).stem}{suffix}"
+    if Path(out).suffix.lower() != ".pdf":
+        raise SpecError(f"-o {out}: the sheet is a PDF; give a name ending in .pdf "
+                        f"(e.g. {Path(out).with_suffix('.pdf').name})")
     if Path(out).resolve() == Path(args.spec).resolve():
         raise SpecError(f"-o {out}: would overwrite the spec itself; give a .pdf name")
     return _sheet(spec, layout=layout, out=out)
@@ -105,7 +108,7 @@ def _check_printable(event) -> None:
             if missing:
                 problems.append(f"{build.source}:{b.line}: builds[{build.index}].builders[{b.number - 1}]: "
                                 f"'{b.name}' has characters the card font cannot print ({missing}); it covers "
-                                "Latin, Greek and Cyrillic letters")
+                                "Latin, Greek and Cyrillic letters: write the name in those, e.g. in Latin letters")
     if problems:
         raise SpecError(problems)
 
@@ -131,6 +134,8 @@ def cmd_pack(args) -> int:
     from sheetgen.outputs.write import atomic_write_files, check_folder
 
     event = load_event(args.event)
+    for warning in event.warnings:
+        print(f"warning: {warning}", file=sys.stderr)
     _check_printable(event)
     sheet_layout = load_sheet_layout(args.layout)
     card_layout = load_card_layout(args.cards)
@@ -173,7 +178,26 @@ def cmd_pack(args) -> int:
         bar.update()
     for path in paths:
         print(path)
+    print(_pack_line(len(designs), len(cards), sheets, _pages(booklet), len(kit)))
     return EXIT_OK
+
+
+def _pages(pdf: bytes) -> int:
+    """Pages in a PDF reportlab wrote: one ``/Type /Page`` object each (``/Pages`` is the tree)."""
+    import re
+
+    return len(re.findall(rb"/Type /Page(?![s\w])", pdf))
+
+
+def _plural(n: int, word: str) -> str:
+    return f"{n} {word}" if n == 1 else f"{n} {word}s"
+
+
+def _pack_line(designs: int, cards: int, card_sheets: int, booklet_pages: int, kit_lines: int) -> str:
+    """The pack's last line: what was made and how much paper it takes."""
+    return (f"{_plural(designs, 'design')}, {_plural(cards, 'card')}; sheets to print: "
+            f"{_plural(card_sheets, 'card sheet')} (both sides) and {_plural(booklet_pages, 'booklet page')}; "
+            f"{_plural(kit_lines, 'kit line')}")
 
 
 def _letters(n: int) -> list[str]:

@@ -10,7 +10,8 @@ The file (YAML; unknown keys are an error, as in a spec)::
       - spec: cabinet.yaml             # a spec file, relative to this file; or
         builders: [Ana, Bo]            #   names printed on their cards exactly as written
       - design: {supply: 12 V, ...}    # an inline spec (the spec file's keys), instead of spec:
-        count: 7                       #   or this many unnamed builders ("Builder 3 of 7")
+        count: 7                       #   or this many unnamed builders ("Builder 3 of 7");
+                                       #   beside builders:, that many unnamed places after the names
 
 Every problem is reported at once, one a line, as ``file:line: key.path: what``
 with the build named by its place in the list (``builds[1].count``, from 0),
@@ -95,6 +96,7 @@ class Event:
     spares: Fraction  # 0.1 for "10 %"
     spares_text: str  # as written, for printing
     builds: tuple[Build, ...]
+    warnings: tuple[str, ...] = ()  # not errors, but worth a look before printing (a name given twice)
 
     @property
     def builder_count(self) -> int:
@@ -142,7 +144,26 @@ def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".")
         problems.add(top["builds"][1], "builds", f"{total} builders in all; one pack holds at most {BUILDERS_MAX}")
     problems.raise_if_any()
     return Event(source=source, title=title, date=date, venue=venue, spares=spares, spares_text=spares_text,
-                 builds=builds)
+                 builds=builds, warnings=_repeated_names(builds))
+
+
+def _repeated_names(builds: tuple[Build, ...]) -> tuple[str, ...]:
+    """A name given twice (ignoring case and Unicode spelling) makes two cards nobody can tell apart."""
+    first: dict[str, tuple[Build, Builder]] = {}
+    out = []
+    for build in builds:
+        for b in build.builders:
+            if b.name is None:
+                continue
+            key = unicodedata.normalize("NFC", b.name).casefold().strip()
+            if key in first:
+                was_build, was = first[key]
+                out.append(f"{build.source}:{b.line}: builds[{build.index}].builders[{b.number - 1}]: "
+                           f"'{b.name}' is named already (builds[{was_build.index}].builders[{was.number - 1}], "
+                           f"line {was.line}); two cards will carry the same name")
+            else:
+                first[key] = (build, b)
+    return tuple(out)
 
 
 # ----------------------------------------------------------------- checking
@@ -259,8 +280,13 @@ def _build(node: Node, i: int, source: str, folder: Path, problems: Problems) ->
     else:
         problems.add(node, key, "needs spec: (a spec file, relative to this file) or design: (an inline spec)")
     builders: tuple[Builder, ...] = ()
-    if "builders" in fields and "count" in fields:
-        problems.add(fields["count"][0], f"{key}.count", "give builders: (names) or count: (unnamed), not both")
+    if "builders" in fields and "count" in fields:  # the names, then that many unnamed places
+        named = _names(fields["builders"][1], key, problems)
+        extra = _count(fields["count"][1], key, problems)
+        if named and extra:
+            total = len(named) + len(extra)
+            builders = tuple(Builder(name=b.name, line=b.line, number=k + 1, of=total)
+                             for k, b in enumerate((*named, *extra)))
     elif "builders" in fields:
         builders = _names(fields["builders"][1], key, problems)
     elif "count" in fields:

@@ -360,9 +360,10 @@ def _check_keys(
         p.add(key_path, f"unknown key; {hint}")
 
 
-def _quantity(p: _Problems, value: Any, path: tuple[str, ...], unit: str) -> float | None:
+def _quantity(p: _Problems, value: Any, path: tuple[str, ...], unit: str, *,
+              typical: float | None = None) -> float | None:
     try:
-        return parse_quantity(value, unit, key=p.key(path))
+        return parse_quantity(value, unit, key=p.key(path), typical=typical)
     except SpecError as exc:
         for problem in exc.problems:
             p.add_keyed(path, problem)
@@ -428,7 +429,7 @@ def _voltage(p: _Problems, value: Any, path: tuple[str, ...]) -> float | None:
 _TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install")
 INSTALLS = ("vehicle", "boat", "building", "bench")
 _SUPPLY_KEYS = ("nominal", "min", "max")
-_LED_KEYS = ("kind", "current", "vf", "colour", "per_string", "strings")
+_LED_KEYS = ("kind", "current", "vf", "colour", "color", "per_string", "strings")
 _LAMP_KEYS = ("kind", "power", "current", "rated", "count")
 _FADE_KEYS = ("in", "out")
 _TRIGGERS = ("positive", "ground")
@@ -600,25 +601,28 @@ def _led(p: _Problems, raw: dict, path: tuple[str, ...], supply: Supply | None) 
 
     current = None
     if "current" in raw:
-        current = _quantity(p, raw["current"], path + ("current",), "A")
+        current = _quantity(p, raw["current"], path + ("current",), "A", typical=0.02)
         current = _in_range(p, current, path + ("current",), "A", 1e-3, 3.0, " (per string)")
     else:
         p.add(path, "missing `current:` (per string), e.g. current: 20 mA")
 
     colour = None
     colour_vf = None
-    if "colour" in raw:
-        name = _text(p, raw, path + ("colour",))
+    spelt = "color" if "color" in raw else "colour"  # either spelling; the message names the one written
+    if "color" in raw and "colour" in raw:
+        p.add(path + ("color",), "is given twice, as colour: and color:; keep one")
+    elif spelt in raw:
+        name = _text(p, raw, path + (spelt,))
         if name:
-            colour, colour_vf = _colour_vf(p, name.lower(), path + ("colour",), vf_given="vf" in raw)
+            colour, colour_vf = _colour_vf(p, name.lower(), path + (spelt,), vf_given="vf" in raw)
         elif name == "":
-            p.add(path + ("colour",), "is empty; name an LED colour or give vf:")
+            p.add(path + (spelt,), "is empty; name an LED colour or give vf:")
 
     vf = None
     if "vf" in raw:
         vf = _quantity(p, raw["vf"], path + ("vf",), "V")
         vf = _in_range(p, vf, path + ("vf",), "V", 0.5, 12.0, " (forward voltage of one LED)")
-    elif "colour" not in raw:
+    elif spelt not in raw:
         p.add(path, "needs `vf:` (one LED's forward voltage, e.g. vf: 3.1 V) or `colour:` (e.g. colour: white)")
     else:
         vf = colour_vf
