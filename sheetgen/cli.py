@@ -15,46 +15,39 @@ from sheetgen.errors import InfeasibleDesign, SheetgenError, SpecError
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_INFEASIBLE = 0, 1, 2, 3
 
 
-def _design(path: str):
-    from sheetgen.sizing.size import size
-    from sheetgen.inputs.spec import load_spec
-
-    return size(load_spec(path))
-
-
 def cmd_size(args) -> int:
-    from sheetgen.sizing.analyse import analyse
+    from sheetgen.inputs.spec import load_spec
     from sheetgen.outputs.export import report_json
     from sheetgen.outputs.summary import summary_text
+    from sheetgen.sizing.cache import report_for
 
-    report = analyse(_design(args.spec))
+    report = report_for(load_spec(args.spec), use_cache=not args.no_cache)
     print(report_json(report) if args.json else summary_text(report))
     return EXIT_OK
 
 
 def cmd_check(args) -> int:
     from sheetgen.inputs.spec import load_spec
-    from sheetgen.sizing.size import size
+    from sheetgen.sizing.cache import design_for
 
     spec = load_spec(args.spec)
-    design = size(spec)
+    design = design_for(spec, use_cache=not args.no_cache)
     print(f"{args.spec}: OK: {design.topology.title} with {design.values.transistor.part_number}; "
           f"fade-in {design.fade_in_s:.2f} s (asked {spec.fade_in_s:g} s), "
           f"fade-out {design.fade_out_s:.2f} s (asked {spec.fade_out_s:g} s)")
     return EXIT_OK
 
 
-def _sheet(spec, *, layout, out: str) -> int:
-    """Check the output path first, then size, analyse and write the sheet (or a sheet of cards)."""
-    from sheetgen.sizing.analyse import analyse
+def _sheet(spec, *, layout, out: str, use_cache: bool) -> int:
+    """Check the output path first, then size, analyse (or find the stored design) and write the sheet or cards."""
     from sheetgen.inputs.layout import CardLayout
     from sheetgen.outputs.pdf.sheet import build_sheet, sheet_date
     from sheetgen.outputs.write import atomic_write, check_writable
-    from sheetgen.sizing.size import size
+    from sheetgen.sizing.cache import report_for
 
     check_writable(out)
     sheet_date()  # a malformed SOURCE_DATE_EPOCH is bad input: say so before the slow part
-    report = analyse(size(spec))
+    report = report_for(spec, use_cache=use_cache)
     if isinstance(layout, CardLayout):
         from sheetgen.outputs.pdf.cards import render_cards, single_design_cards
 
@@ -77,14 +70,14 @@ def cmd_build(args) -> int:
     out = args.output or f"{Path(args.spec).stem}{suffix}"
     if Path(out).resolve() == Path(args.spec).resolve():
         raise SpecError(f"-o {out}: would overwrite the spec itself; give a .pdf name")
-    return _sheet(spec, layout=layout, out=out)
+    return _sheet(spec, layout=layout, out=out, use_cache=not args.no_cache)
 
 
 def cmd_demo(args) -> int:
     from sheetgen.inputs.demo import OUTPUT, demo_spec
     from sheetgen.inputs.layout import load_layout
 
-    return _sheet(demo_spec(), layout=load_layout(None), out=OUTPUT)
+    return _sheet(demo_spec(), layout=load_layout(None), out=OUTPUT, use_cache=not args.no_cache)
 
 
 PACK_FILES = ("booklet.pdf", "cards.pdf", "kit-list.csv")
@@ -143,7 +136,8 @@ def cmd_pack(args) -> int:
     with _progress(2 * len(specs) + 2) as bar:
         bar.set_description_str(f"sizing {len(specs)} design{'s' if len(specs) != 1 else ''}")
         try:
-            reports = batch.analyse_all(specs, jobs=jobs, on_done=lambda _k: bar.update())
+            reports = batch.analyse_all(specs, jobs=jobs, use_cache=not args.no_cache,
+                                        on_done=lambda _k: bar.update())
         except batch.DesignFailed as failed:
             build = next(b for b in event.builds if batch.spec_key(b.spec) == batch.spec_key(specs[failed.index]))
             what = f"{build.where} ({build.spec_label})"
@@ -229,13 +223,17 @@ def parser() -> argparse.ArgumentParser:
                                                         "4x6-card for US Letter)")
     k.add_argument("--jobs", type=int, metavar="N",
                    help="designs sized at once in separate processes (default: one per core, at most one per "
-                        "design)")
+                        "design not already in the design cache)")
     k.set_defaults(func=cmd_pack)
 
     d = sub.add_parser("demo", help="write the sheet of a built-in scenario into the current folder",
                        description="Size a built-in scenario (a camper van awning light), write its build sheet "
                                    "to sheetgen-demo.pdf in the current folder and print the path.")
     d.set_defaults(func=cmd_demo)
+    for command in (s, c, b, k, d):
+        command.add_argument("--no-cache", action="store_true",
+                             help="size and analyse afresh, neither reading nor writing the design cache "
+                                  "(kept in the user's cache folder, or in $SHEETGEN_CACHE_DIR)")
     return p
 
 

@@ -31,6 +31,14 @@ def pytest_runtest_setup(item: pytest.Item) -> None:
     pytest.skip("ngspice is not installed")
 
 
+@pytest.fixture(autouse=True)
+def design_cache_folder(tmp_path_factory, monkeypatch):
+    """Every test gets an empty design cache of its own, outside its tmp_path, never the user's real one."""
+    folder = tmp_path_factory.mktemp("design-cache")
+    monkeypatch.setenv("SHEETGEN_CACHE_DIR", str(folder))
+    return folder
+
+
 # Sized designs shared by the card and pack tests: sizing and analysis cost seconds per design,
 # so each is done once per session.  Two small examples: two LED strings, and a single LED.
 @pytest.fixture(scope="session")
