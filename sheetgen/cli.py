@@ -21,7 +21,7 @@ def cmd_size(args) -> int:
     from sheetgen.outputs.summary import summary_text
     from sheetgen.sizing.cache import report_for
 
-    report = report_for(load_spec(args.spec), use_cache=not args.no_cache)
+    report = report_for(load_spec(args.spec))
     print(report_json(report) if args.json else summary_text(report))
     return EXIT_OK
 
@@ -31,14 +31,14 @@ def cmd_check(args) -> int:
     from sheetgen.sizing.cache import design_for
 
     spec = load_spec(args.spec)
-    design = design_for(spec, use_cache=not args.no_cache)
+    design = design_for(spec)
     print(f"{args.spec}: OK: {design.topology.title} with {design.values.transistor.part_number}; "
           f"fade-in {design.fade_in_s:.2f} s (asked {spec.fade_in_s:g} s), "
           f"fade-out {design.fade_out_s:.2f} s (asked {spec.fade_out_s:g} s)")
     return EXIT_OK
 
 
-def _sheet(spec, *, layout, out: str, use_cache: bool) -> int:
+def _sheet(spec, *, layout, out: str) -> int:
     """Check the output path first, then size, analyse (or find the stored design) and write the sheet or cards."""
     from sheetgen.inputs.layout import CardLayout
     from sheetgen.outputs.pdf.sheet import build_sheet, sheet_date
@@ -47,7 +47,7 @@ def _sheet(spec, *, layout, out: str, use_cache: bool) -> int:
 
     check_writable(out)
     sheet_date()  # a malformed SOURCE_DATE_EPOCH is bad input: say so before the slow part
-    report = report_for(spec, use_cache=use_cache)
+    report = report_for(spec)
     if isinstance(layout, CardLayout):
         from sheetgen.outputs.pdf.cards import render_cards, single_design_cards
 
@@ -70,14 +70,14 @@ def cmd_build(args) -> int:
     out = args.output or f"{Path(args.spec).stem}{suffix}"
     if Path(out).resolve() == Path(args.spec).resolve():
         raise SpecError(f"-o {out}: would overwrite the spec itself; give a .pdf name")
-    return _sheet(spec, layout=layout, out=out, use_cache=not args.no_cache)
+    return _sheet(spec, layout=layout, out=out)
 
 
 def cmd_demo(args) -> int:
     from sheetgen.inputs.demo import OUTPUT, demo_spec
     from sheetgen.inputs.layout import load_layout
 
-    return _sheet(demo_spec(), layout=load_layout(None), out=OUTPUT, use_cache=not args.no_cache)
+    return _sheet(demo_spec(), layout=load_layout(None), out=OUTPUT)
 
 
 PACK_FILES = ("booklet.pdf", "cards.pdf", "kit-list.csv")
@@ -240,6 +240,9 @@ def parser() -> argparse.ArgumentParser:
 def main(argv: list[str] | None = None) -> int:
     args = parser().parse_args(argv)
     try:
+        from sheetgen.sizing.cache import bypass
+
+        bypass(args.no_cache)
         return args.func(args)
     except SpecError as exc:
         for line in exc.problems:

@@ -34,8 +34,11 @@ def pytest_runtest_setup(item: pytest.Item) -> None:
 @pytest.fixture(autouse=True)
 def design_cache_folder(tmp_path_factory, monkeypatch):
     """Every test gets an empty design cache of its own, outside its tmp_path, never the user's real one."""
+    from sheetgen.sizing import cache
+
     folder = tmp_path_factory.mktemp("design-cache")
     monkeypatch.setenv("SHEETGEN_CACHE_DIR", str(folder))
+    monkeypatch.setattr(cache, "_bypassed", False)  # a test's --no-cache ends with the test
     return folder
 
 

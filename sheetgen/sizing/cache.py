@@ -13,7 +13,9 @@ file, a reader sees a whole entry or none, and one that is damaged anyway is
 dropped and rebuilt.  Failing to write is never an error: the run goes on
 uncached.  The folder is the platform's user cache folder (found by platformdirs)
 or ``$SHEETGEN_CACHE_DIR``; once it holds more than ``MAX_BYTES`` the entries used
-longest ago are removed.
+longest ago are removed.  ``DesignCache`` stores any picklable value, so the
+renderer keeps what it derives from a design alone (the schematic) beside it;
+``bypass()`` turns every cache of the process off, for ``--no-cache``.
 """
 
 from __future__ import annotations
@@ -34,28 +36,39 @@ from sheetgen import __version__
 from sheetgen.inputs.spec import Spec
 from sheetgen.sizing import tolerance
 from sheetgen.sizing.report import Report
-from sheetgen.sizing.size import Design, size
+from sheetgen.sizing.size import Design
 
-__all__ = ["ENV_DIR", "MAX_BYTES", "DesignCache", "design_key", "cached_report", "store_report", "report_for", "design_for"]
+__all__ = ["ENV_DIR", "MAX_BYTES", "DesignCache", "code_fingerprint", "design_key", "cached_report", "store_report",
+           "report_for", "design_for", "bypass"]
 
 ENV_DIR = "SHEETGEN_CACHE_DIR"
 MAX_BYTES = 64 * 1024 * 1024  # a Report is about 40 kB: well over a thousand designs
 MAGIC = b"sheetgen design cache 1\n"
-SUFFIX = ".report"
+SUFFIX = ".entry"
 STALE_TEMP_S = 3600.0  # a temporary file this old was left by a process that died mid-write
 PACKAGE = Path(__file__).resolve().parents[1]
 #: what sizing and analysis read: a change to any file here changes every key
 LAYERS = ("__init__.py", "errors.py", "model", "parts", "inputs", "engine", "circuits", "sizing")
+FINGERPRINTED = (".py", ".yaml", ".ttf")
+
+
+_bypassed = False
+
+
+def bypass(on: bool = True) -> None:
+    """Neither read nor write any cache in this process from now on (or again, with ``on=False``)."""
+    global _bypassed
+    _bypassed = on
 
 
 def default_folder() -> Path:
-    """``$SHEETGEN_CACHE_DIR`` if set, else ``designs`` in the platform's user cache folder for sheetgen."""
+    """``$SHEETGEN_CACHE_DIR`` if set, else the platform's user cache folder for sheetgen."""
     chosen = os.environ.get(ENV_DIR, "").strip()
     if chosen:
         return Path(chosen).expanduser()
     import platformdirs
 
-    return Path(platformdirs.user_cache_dir("sheetgen", appauthor=False)) / "designs"
+    return Path(platformdirs.user_cache_dir("sheetgen", appauthor=False))
 
 
 class DesignCache:
@@ -70,6 +83,8 @@ class DesignCache:
 
     def get(self, key: str) -> object | None:
         """The value stored under ``key``, or None if there is none or it is damaged (then it is removed)."""
+        if _bypassed:
+            return None
         path = self._path(key)
         try:
             blob = path.read_bytes()
@@ -91,6 +106,8 @@ class DesignCache:
 
     def put(self, key: str, value: object) -> None:
         """Store ``value`` under ``key`` atomically, then trim the folder to its cap; never raises on disk trouble."""
+        if _bypassed:
+            return
         payload = pickle.dumps(value, protocol=pickle.HIGHEST_PROTOCOL)
         blob = MAGIC + hashlib.sha256(payload).digest() + payload
         try:
@@ -140,12 +157,12 @@ def _remove(path: Path) -> None:
 
 
 @functools.lru_cache(maxsize=None)
-def code_fingerprint(package: Path) -> str:
-    """A hash of every module and data file that sizing and analysis read, with their paths."""
+def code_fingerprint(package: Path, layers: tuple[str, ...] = LAYERS) -> str:
+    """A hash of every module, data and font file under ``layers`` of the package, with their paths."""
     h = hashlib.sha256()
-    for layer in LAYERS:
+    for layer in layers:
         top = package / layer
-        files = [top] if top.is_file() else sorted(p for p in top.rglob("*") if p.suffix in (".py", ".yaml"))
+        files = [top] if top.is_file() else sorted(p for p in top.rglob("*") if p.suffix in FINGERPRINTED)
         for path in files:
             h.update(path.relative_to(package).as_posix().encode() + b"\0" + path.read_bytes() + b"\0")
     return h.hexdigest()
@@ -174,12 +191,11 @@ def store_report(spec: Spec, report: Report, cache: DesignCache | None = None) -
     (cache or DesignCache()).put(design_key(spec), report)
 
 
-def report_for(spec: Spec, *, use_cache: bool = True, cache: DesignCache | None = None) -> Report:
-    """The Report for ``spec``: stored, or sized and analysed now (and stored unless ``use_cache`` is off)."""
+def report_for(spec: Spec, *, cache: DesignCache | None = None) -> Report:
+    """The Report for ``spec``: stored, or sized and analysed now and stored."""
     from sheetgen.sizing.analyse import analyse
+    from sheetgen.sizing.size import size
 
-    if not use_cache:
-        return analyse(size(spec))
     cache = cache or DesignCache()
     found = cached_report(spec, cache)
     if found is not None:
@@ -189,7 +205,9 @@ def report_for(spec: Spec, *, use_cache: bool = True, cache: DesignCache | None 
     return report
 
 
-def design_for(spec: Spec, *, use_cache: bool = True) -> Design:
+def design_for(spec: Spec) -> Design:
     """The sized Design for ``spec``: from a stored Report if there is one, else sized now (not analysed)."""
-    found = cached_report(spec) if use_cache else None
+    from sheetgen.sizing.size import size
+
+    found = cached_report(spec)
     return found.design if found is not None else size(spec)

@@ -36,14 +36,14 @@ def _no_simulation(monkeypatch) -> None:
 
 
 def _entries(folder: Path) -> list[Path]:
-    return sorted(folder.glob("*.report"))
+    return sorted(folder.glob("*.entry"))
 
 
 # ------------------------------------------------------------------ repeated runs
 def test_a_repeated_build_simulates_nothing_and_writes_the_same_bytes(tmp_path, monkeypatch, design_cache_folder):
     monkeypatch.setenv("SOURCE_DATE_EPOCH", EPOCH)
     assert main(["build", str(CAMPER), "-o", str(tmp_path / "first.pdf")]) == 0
-    assert len(_entries(design_cache_folder)) == 1
+    assert cache.cached_report(load_spec(CAMPER)) is not None
     _no_simulation(monkeypatch)
     assert main(["build", str(CAMPER), "-o", str(tmp_path / "again.pdf")]) == 0
     assert (tmp_path / "again.pdf").read_bytes() == (tmp_path / "first.pdf").read_bytes()
@@ -85,7 +85,7 @@ def test_a_repeated_pack_simulates_nothing_and_writes_the_same_bytes(tmp_path, m
 def test_a_truncated_entry_is_rebuilt(tmp_path, monkeypatch, design_cache_folder):
     monkeypatch.setenv("SOURCE_DATE_EPOCH", EPOCH)
     assert main(["build", str(CAMPER), "-o", str(tmp_path / "first.pdf")]) == 0
-    (entry,) = _entries(design_cache_folder)
+    (entry,) = design_cache_folder.glob(design_key(load_spec(CAMPER)) + ".entry")
     whole = entry.read_bytes()
     entry.write_bytes(whole[: len(whole) // 2])
     assert cache.cached_report(load_spec(CAMPER)) is None and not entry.exists()  # dropped, not believed
@@ -104,7 +104,7 @@ def test_a_truncated_entry_is_rebuilt(tmp_path, monkeypatch, design_cache_folder
 def test_any_damaged_entry_is_a_miss(tmp_path, damage):
     c = DesignCache(tmp_path)
     c.put("k", {"fade": [1.5, 4.0]})
-    path = tmp_path / "k.report"
+    path = tmp_path / "k.entry"
     path.write_bytes(damage(path.read_bytes()))
     assert c.get("k") is None and not path.exists()
     c.put("k", {"fade": [1.5, 4.0]})
@@ -187,7 +187,7 @@ def test_two_processes_writing_the_same_key_leave_one_whole_entry(tmp_path):
         found, reads = found or value is not None, reads + 1
     assert [w.wait() for w in writers] == [0, 0]
     assert c.get("shared") in wholes
-    assert [p.name for p in folder.iterdir()] == ["shared.report"]  # no temporary file left behind
+    assert [p.name for p in folder.iterdir()] == ["shared.entry"]  # no temporary file left behind
 
 
 # ------------------------------------------------------------------ folder and cap
@@ -197,7 +197,7 @@ def test_the_cap_removes_the_entries_used_longest_ago(tmp_path):
     c = DesignCache(tmp_path, max_bytes=4 * 110_000)
     for k, name in enumerate("abcd"):
         c.put(name, bytes(100_000))
-        os.utime(tmp_path / f"{name}.report", (1_000_000 + k, 1_000_000 + k))
+        os.utime(tmp_path / f"{name}.entry", (1_000_000 + k, 1_000_000 + k))
     c.get("a")  # used again: now the most recent
     c.put("e", bytes(100_000))
     assert sorted(p.stem for p in _entries(tmp_path)) == ["a", "c", "d", "e"]
@@ -220,4 +220,14 @@ def test_the_folder_follows_the_variable_then_the_platform(monkeypatch, tmp_path
     # XDG Base Directory Specification (freedesktop.org): user cache files go under
     # $XDG_CACHE_HOME, default ~/.cache (from memory).
     monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path / "xdg"))
-    assert DesignCache().folder == tmp_path / "xdg" / "sheetgen" / "designs"
+    assert DesignCache().folder == tmp_path / "xdg" / "sheetgen"
+
+
+def test_bypass_neither_reads_nor_writes(tmp_path):
+    c = DesignCache(tmp_path)
+    c.put("kept", 1)
+    cache.bypass()
+    c.put("new", 2)
+    assert c.get("kept") is None and not (tmp_path / "new.entry").exists()
+    cache.bypass(False)
+    assert c.get("kept") == 1
