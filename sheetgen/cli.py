@@ -121,6 +121,7 @@ def cmd_pack(args) -> int:
     from sheetgen.outputs.pdf.cards import Card, render_cards
     from sheetgen.inputs.layout import load_card_layout, load_sheet_layout
     from sheetgen.outputs.pdf.sheet import sheet_date
+    from sheetgen.outputs.parallel import render_all
     from sheetgen.outputs.write import atomic_write_files, check_folder
 
     event = load_event(args.event)
@@ -156,12 +157,13 @@ def cmd_pack(args) -> int:
         on_card = " \u00b7 ".join(x for x in (event.title, event.date.isoformat() if event.date else "") if x)
         cards = [Card(report=d.report, design=d.letter, name=b.name, place=b.place, event=on_card)
                  for d in designs for build in d.builds for b in build.builders]
-        bar.set_description_str("cards")
-        cards_pdf = render_cards(cards, card_layout, title=event.title, on_design=lambda _d: bar.update())
-        bar.set_description_str("booklet")
+        bar.set_description_str("cards and booklet")
         sheets = sum(-(-d.kits // card_layout.per_sheet) for d in designs)
-        booklet = render_booklet(event, designs, kit, sheet_layout, card_layout, card_sheets=sheets)
-        bar.update()
+        cards_pdf, booklet = render_all(
+            [lambda: render_cards(cards, card_layout, title=event.title, on_design=lambda _d: bar.update()),
+             lambda: render_booklet(event, designs, kit, sheet_layout, card_layout, card_sheets=sheets)],
+            jobs=args.jobs or batch.default_jobs(2))
+        bar.update(bar.total - 1 - bar.n)  # the cards' steps, counted where they ran
         bar.set_description_str("writing")
         paths = atomic_write_files(folder, dict(zip(PACK_FILES, (booklet, cards_pdf, kit_csv(kit)))))
         bar.update()
@@ -222,7 +224,7 @@ def parser() -> argparse.ArgumentParser:
     k.add_argument("--cards", metavar="NAME|FILE", help="card layout for the cards (default a6-card; "
                                                         "4x6-card for US Letter)")
     k.add_argument("--jobs", type=int, metavar="N",
-                   help="designs sized at once in separate processes (default: one per core, at most one per "
+                   help="designs sized, and documents rendered, at once in separate processes (default: one per core, at most one per "
                         "design not already in the design cache)")
     k.set_defaults(func=cmd_pack)
 
