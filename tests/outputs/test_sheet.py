@@ -316,8 +316,16 @@ def test_a_built_package_carries_every_module_and_the_top_level_layouts(tmp_path
     import sys
     import zipfile
 
+    import shutil
+
     assert not (ROOT / "sheetgen" / "layouts").exists()
-    subprocess.run([sys.executable, "-m", "pip", "wheel", "-q", "--no-deps", "-w", str(tmp_path), str(ROOT)],
+    tree = tmp_path / "tree"  # a copy, so the build leaves nothing behind in the checkout
+    tree.mkdir()
+    for name in ("pyproject.toml", "README.md"):
+        shutil.copy(ROOT / name, tree / name)
+    for name in ("sheetgen", "layouts"):
+        shutil.copytree(ROOT / name, tree / name, ignore=shutil.ignore_patterns("__pycache__"))
+    subprocess.run([sys.executable, "-m", "pip", "wheel", "-q", "--no-deps", "-w", str(tmp_path), str(tree)],
                    check=True, capture_output=True)
     (wheel,) = tmp_path.glob("sheetgen-*.whl")
     with zipfile.ZipFile(wheel) as archive:
