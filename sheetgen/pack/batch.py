@@ -52,12 +52,22 @@ def distinct(specs: Sequence[Spec]) -> list[Spec]:
 
 
 def default_jobs(designs: int) -> int:
-    """One job per design, no more than the cores this process may use."""
+    """One job per design, no more than the cores this process may use and that other work leaves idle.
+
+    A second process pays only on a core nobody else is using: on a machine
+    whose cores are all busy, two jobs take longer than one.  So this process
+    counts as one job and every core the last minute's load average left idle
+    adds one more.
+    """
     try:
         cores = len(os.sched_getaffinity(0))
     except AttributeError:  # not on Linux
         cores = os.cpu_count() or 1
-    return max(1, min(cores, designs))
+    try:
+        idle = int(max(cores - os.getloadavg()[0], 0.0))
+    except (AttributeError, OSError):  # no load average on this system: assume the cores are free
+        idle = cores
+    return max(1, min(cores, designs, 1 + idle))
 
 
 def _size_and_analyse(spec: Spec) -> Report:

@@ -373,3 +373,18 @@ def test_the_shipped_example_event_reads(sized):
     names = [b.name for build in event.builds for b in build.builders]
     assert "Zoë Fairweather" in names and any("Ødegård" in (n or "") for n in names) and None in names
     assert len({batch.spec_key(b.spec) for b in event.builds}) == len(event.builds) == 3
+
+
+@pytest.mark.parametrize("load, designs, expected", [
+    (0.1, 3, 2),   # an idle two-core machine: both cores
+    (0.9, 3, 2),   # most of one core idle still counts as one
+    (1.2, 3, 1),   # less than a whole core idle: a second process would only wait
+    (7.0, 3, 1),
+    (0.1, 1, 1),   # never more processes than designs
+])
+def test_default_jobs_uses_the_cores_other_work_leaves_idle(monkeypatch, load, designs, expected):
+    import os
+
+    monkeypatch.setattr(os, "sched_getaffinity", lambda _pid: {0, 1}, raising=False)
+    monkeypatch.setattr(os, "getloadavg", lambda: (load, load, load))
+    assert batch.default_jobs(designs) == expected
