@@ -192,22 +192,33 @@ def store_report(spec: Spec, report: Report, cache: DesignCache | None = None) -
 
 
 def report_for(spec: Spec, *, cache: DesignCache | None = None) -> Report:
-    """The Report for ``spec``: stored, or sized and analysed now and stored."""
+    """The Report for ``spec``: stored, or analysed now (from a stored or a fresh Design) and stored."""
     from sheetgen.sizing.analyse import analyse
-    from sheetgen.sizing.size import size
 
     cache = cache or DesignCache()
     found = cached_report(spec, cache)
     if found is not None:
         return found
-    report = analyse(size(spec))
+    report = analyse(design_for(spec, cache=cache))
     store_report(spec, report, cache)
     return report
 
 
-def design_for(spec: Spec) -> Design:
-    """The sized Design for ``spec``: from a stored Report if there is one, else sized now (not analysed)."""
+def design_for(spec: Spec, *, cache: DesignCache | None = None) -> Design:
+    """The sized Design for ``spec``: from a stored Report or Design if there is one, else sized now and stored.
+
+    ``check`` sizes without analysing; keeping its Design means a build after it only analyses.
+    """
     from sheetgen.sizing.size import size
 
-    found = cached_report(spec)
-    return found.design if found is not None else size(spec)
+    cache = cache or DesignCache()
+    found = cached_report(spec, cache)
+    if found is not None:
+        return found.design
+    key = "sized-" + design_key(spec)
+    design = cache.get(key)
+    if isinstance(design, Design):
+        return replace(design, spec=spec)
+    design = size(spec)
+    cache.put(key, design)
+    return design
