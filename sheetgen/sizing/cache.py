@@ -1,8 +1,9 @@
 """Sized and analysed designs kept on disk, so a repeated build or pack does no simulation.
 
 Sizing and analysis cost about a second per design; rendering a sheet from a
-Report costs a fraction of that.  An entry is the pickled Report of one design,
-keyed by a hash of everything that can change it: the spec (not the file it was
+Report costs a fraction of that.  An entry is the pickled Report of one design
+(or, after ``check``, its sized Design alone), keyed by a hash of everything that
+can change it: the spec (not the file it was
 read from), the tolerance draws and seed, the package version, the numpy and
 Python versions, and the bytes of every module and data file of the layers that
 read, size and analyse, so an edit to the catalog or to the engine misses.
@@ -50,7 +51,6 @@ PACKAGE = Path(__file__).resolve().parents[1]
 #: what sizing and analysis read: a change to any file here changes every key
 LAYERS = ("__init__.py", "errors.py", "model", "parts", "inputs", "engine", "circuits", "sizing")
 FINGERPRINTED = (".py", ".yaml", ".ttf")
-
 
 _bypassed = False
 
