@@ -224,8 +224,8 @@ def parser() -> argparse.ArgumentParser:
     k.add_argument("--cards", metavar="NAME|FILE", help="card layout for the cards (default a6-card; "
                                                         "4x6-card for US Letter)")
     k.add_argument("--jobs", type=int, metavar="N",
-                   help="designs sized, and documents rendered, at once in separate processes (default: one, "
-                        "plus one per core left idle by other work, at most one per design not yet cached)")
+                   help="designs sized, and documents rendered, at once in separate processes (default: one per "
+                        "core, at most one per design not yet cached; one when the machine is swamped)")
     k.set_defaults(func=cmd_pack)
 
     d = sub.add_parser("demo", help="write the sheet of a built-in scenario into the current folder",

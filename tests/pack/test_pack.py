@@ -377,12 +377,12 @@ def test_the_shipped_example_event_reads(sized):
 
 @pytest.mark.parametrize("load, designs, expected", [
     (0.1, 3, 2),   # an idle two-core machine: both cores
-    (0.9, 3, 2),   # most of one core idle still counts as one
-    (1.2, 3, 1),   # less than a whole core idle: a second process would only wait
+    (1.5, 3, 2),   # busy, but a second process still gets a share
+    (4.0, 3, 1),   # twice as much work as cores: a second process only waits
     (7.0, 3, 1),
     (0.1, 1, 1),   # never more processes than designs
 ])
-def test_default_jobs_uses_the_cores_other_work_leaves_idle(monkeypatch, load, designs, expected):
+def test_default_jobs_uses_both_cores_unless_the_machine_is_swamped(monkeypatch, load, designs, expected):
     import os
 
     monkeypatch.setattr(os, "sched_getaffinity", lambda _pid: {0, 1}, raising=False)
