@@ -46,7 +46,7 @@ class BlockTable:
 
 #: Blocks of a build sheet (``blocks:`` in a sheet layout).
 SHEET_BLOCKS = BlockTable(("summary", "schematic", "parts", "timing", "heat", "bench", "tuning", "wiring",
-                           "cautions"))
+                           "cautions", "board"))
 
 #: Blocks of a wiring card (``front:`` and ``back:`` in a card layout).
-CARD_BLOCKS = BlockTable(("schematic", "parts", "harness", "steps", "readings", "cautions"))
+CARD_BLOCKS = BlockTable(("schematic", "parts", "harness", "steps", "readings", "cautions", "board"))

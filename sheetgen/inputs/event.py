@@ -6,6 +6,7 @@ The file (YAML; unknown keys are an error, as in a spec)::
     date: 2027-03-20                   # optional, an ISO date
     venue: Community workshop, room 2  # optional, one line
     spares: 10 %                       # optional (default 0 %): extra parts per kit-list line, rounded up
+    board: perfboard                   # optional: the board every build uses tonight, over its spec's board:
     builds:                            # required, one entry per group building one design
       - spec: cabinet.yaml             # a spec file, relative to this file; or
         builders: [Ana, Bo]            #   names printed on their cards exactly as written
@@ -27,7 +28,7 @@ import difflib
 import os
 import re
 import unicodedata
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from decimal import Decimal, InvalidOperation
 from fractions import Fraction
 from pathlib import Path
@@ -35,7 +36,7 @@ from pathlib import Path
 from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
 
 from sheetgen.errors import SpecError
-from sheetgen.inputs.spec import Spec, load_spec, spec_from_node
+from sheetgen.inputs.spec import BOARDS, Spec, load_spec, spec_from_node
 from sheetgen.inputs.yamltree import Problems, compose
 
 __all__ = ["Builder", "Build", "Event", "load_event", "parse_event", "NAME_MAX_CHARS", "COUNT_MAX"]
@@ -44,7 +45,7 @@ NAME_MAX_CHARS = 60  # two lines on the narrowest card at a readable size
 TEXT_MAX_CHARS = 120
 COUNT_MAX = 500  # builders in one build: a big club night, not a production run
 BUILDERS_MAX = 2000  # over the whole event
-_TOP_KEYS = ("title", "date", "venue", "spares", "builds")
+_TOP_KEYS = ("title", "date", "venue", "spares", "board", "builds")
 _BUILD_KEYS = ("spec", "design", "builders", "count")
 _PERCENT_RE = re.compile(r"^\s*(?P<num>\d+(?:\.\d+)?)\s*%\s*$")
 
@@ -139,6 +140,10 @@ def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".")
     date = _date(top["date"][1], problems) if "date" in top else None
     spares, spares_text = (_spares(top["spares"][1], problems) if "spares" in top else (Fraction(0), "0 %"))
     builds = _builds(top["builds"][1], source, Path(folder), problems) if "builds" in top else ()
+    if "board" in top:
+        board = _board(top["board"][1], problems)
+        if board:
+            builds = tuple(replace(b, spec=replace(b.spec, board=board)) for b in builds)
     total = sum(len(b.builders) for b in builds)
     if total > BUILDERS_MAX:
         problems.add(top["builds"][1], "builds", f"{total} builders in all; one pack holds at most {BUILDERS_MAX}")
@@ -229,6 +234,19 @@ def _date(node: Node, problems: Problems) -> _dt.date | None:
     except ValueError:
         problems.add(node, "date", f"'{text}' is not a date; write it as year-month-day, e.g. 2027-03-20")
         return None
+
+
+def _board(node: Node, problems: Problems) -> str | None:
+    """The night's board for every build: stripboard or perfboard."""
+    text = _text(node, "board", problems)
+    if text is None:
+        return None
+    if text.strip().lower() not in BOARDS:
+        hint = difflib.get_close_matches(text.strip().lower(), BOARDS, n=1, cutoff=0.5)
+        problems.add(node, "board", f'"{text}" is not a board; use stripboard or perfboard'
+                                    + (f" (did you mean {hint[0]}?)" if hint else ""))
+        return None
+    return text.strip().lower()
 
 
 def _spares(node: Node, problems: Problems) -> tuple[Fraction, str]:

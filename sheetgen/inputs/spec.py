@@ -105,6 +105,7 @@ class Spec:
     ambient_c: float = 25.0  # worst-case air temperature around the box
     topology: str = "auto"  # "auto" or the name of a topology to force
     install: str = "vehicle"  # where it goes: vehicle | boat | building | bench (chooses the cautions)
+    board: str = "stripboard"  # what the builder solders on: stripboard (copper strips) | perfboard (a pad per hole)
     source: str = ""  # file path or "<built-in>", for messages
 
 
@@ -426,8 +427,9 @@ def _voltage(p: _Problems, value: Any, path: tuple[str, ...]) -> float | None:
     return volts
 
 
-_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install")
+_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install", "board")
 INSTALLS = ("vehicle", "boat", "building", "bench")
+BOARDS = ("stripboard", "perfboard")
 _SUPPLY_KEYS = ("nominal", "min", "max")
 _LED_KEYS = ("kind", "current", "vf", "colour", "color", "per_string", "strings")
 _LAMP_KEYS = ("kind", "power", "current", "rated", "count")
@@ -465,6 +467,7 @@ def _build(data: Any, p: _Problems) -> Spec:
     ambient_c = _ambient(p, data)
     topology = _topology(p, data)
     install = _install(p, data)
+    board = board_kind(p, data.get("board"), ("board",)) if "board" in data else "stripboard"
     p.raise_if_any()
     return Spec(
         title=title,
@@ -476,6 +479,7 @@ def _build(data: Any, p: _Problems) -> Spec:
         ambient_c=ambient_c,
         topology=topology,
         install=install,
+        board=board,
         source=p.source,
     )
 
@@ -753,6 +757,21 @@ def _install(p: _Problems, data: dict) -> str:
         p.add(("install",), f'"{value}" is not a place; use one of {", ".join(INSTALLS)}{hint}')
         return "vehicle"
     return value.lower()
+
+
+def board_kind(p: _Problems, value: Any, path: tuple[str, ...]) -> str:
+    """``board:``: stripboard or perfboard (an event file checks its own key with this too)."""
+    if not isinstance(value, str):
+        p.add(path, f"must be stripboard or perfboard, got {_describe(value)}")
+        return "stripboard"
+    word = value.strip().lower()
+    if word in BOARDS:
+        return word
+    close = difflib.get_close_matches(word, BOARDS, n=1, cutoff=0.5)
+    hint = f"; did you mean `{close[0]}`?" if close else ""
+    p.add(path, f'"{value}" is not a board; use stripboard (copper strips along the rows) or perfboard '
+                f"(a pad per hole){hint}")
+    return "stripboard"
 
 
 def _topology(p: _Problems, data: dict) -> str:

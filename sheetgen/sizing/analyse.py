@@ -11,6 +11,7 @@ from dataclasses import replace
 
 import numpy as np
 
+from sheetgen.board import layout as board_layout
 from sheetgen.parts import catalog
 from sheetgen.engine import devices
 from sheetgen.parts import eseries
@@ -54,12 +55,23 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
     heat = _heat(design, tr, op_on)
     harness = _harness(float(steady[1]))
     sample = tolerance.draw(design, n=draws, seed=seed)
+    board = _board(design, heat)
     return Report(design=design, curves=curves, steady_a=float(steady[0]), heat=heat, harness=harness,
                   bench=_bench(design, sample), spread=tolerance.spread(design, sample),
                   tuning=_tuning(design), standby_a=_standby(design),
                   wiring=instructions.wiring_steps(design, harness),
                   cautions=instructions.cautions(design, heat),
-                  brief=instructions.brief(design, harness, heat))
+                  brief=instructions.brief(design, harness, heat, board), board=board)
+
+
+def _board(design: Design, heat: Heat):
+    """The build board: the load off it, and the switch too when it must sit on a chassis heatsink."""
+    nl = design.netlist
+    off = [p.ref for p in nl.by_role("load")]
+    if heat.heatsink_c_per_w is not None:
+        off += [p.ref for p in nl.by_role("switch")]
+    labels = {net: what.split(" (")[0] for net, what in design.topology.wiring}
+    return board_layout(nl, kind=design.spec.board, off_board=tuple(off), source_labels=labels)
 
 
 def _light(design: Design, tr) -> np.ndarray:

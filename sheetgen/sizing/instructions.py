@@ -14,6 +14,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from sheetgen.board import words
+from sheetgen.board.model import Board
 from sheetgen.parts import catalog
 from sheetgen.model.kinds import KINDS
 from sheetgen.model.netlist import GROUND, Part
@@ -292,10 +294,42 @@ def lead_key(design: Design) -> str:
     return "; ".join(said) + "." if said else ""
 
 
-def brief(design: Design, harness: Harness, heat: Heat) -> Brief:
-    """The card's words: the short steps, the lead key and the short cautions."""
+_PLACING_ORDER = ("resistor", "diode", "capacitor", "npn", "pnp", "nmos", "led", "lamp")
+
+
+def board_steps(design: Design, harness: Harness, board: Board) -> tuple[str, ...]:
+    """A card's steps beside the board view: cut, link, place each part at its holes, land the wires.
+
+    They replace the "join X to Y" steps, which the copper now does.
+    """
+    nl = design.netlist
+    steps = ["Disconnect the battery first: a short can start a fire."]
+    steps += [_card_words(c, design, harness) for c in connection_plan(design) if isinstance(c, Identify)]
+    if board.cuts:
+        steps.append(words.cuts(board) + " on the copper side, as the copper view shows.")
+    steps += [text + "." for text in words.links(board)]
+    placed = dict(zip((p.ref for p in board.placements), words.placing(board, nl)))
+    kinds: dict[str, list[str]] = {}
+    for p in board.placements:
+        kinds.setdefault(nl.part(p.ref).kind, []).append(placed[p.ref])
+    for kind in sorted(kinds, key=lambda k: _PLACING_ORDER.index(k) if k in _PLACING_ORDER else 99):
+        steps.append("Place " + "; ".join(kinds[kind]) + ".")
+    supply_v = format_quantity(design.spec.supply.nominal_v, "V")
+    steps.append(f"Fit the {harness.fuse_a:g} A fuse in the {supply_v} always-on feed near its source. Wires: "
+                 + "; ".join(words.wires(board)) + ".")
+    if board.off_board_parts:
+        joins = "; ".join(words.off_board_joins(board, nl))
+        steps.append("Off the board: " + words.refs_run(board.off_board_parts) + (f"; {joins}" if joins else "")
+                     + ".")
+    steps.append("Check every joint against the board views, reconnect, take the readings: feed off, then on.")
+    return tuple(steps)
+
+
+def brief(design: Design, harness: Harness, heat: Heat, board: Board | None = None) -> Brief:
+    """The card's words: the short steps (and, with a board, the board's steps), the lead key and cautions."""
     return Brief(steps=wiring_steps(design, harness, short=True), leads=lead_key(design),
-                 cautions=cautions(design, heat, short=True))
+                 cautions=cautions(design, heat, short=True),
+                 board_steps=board_steps(design, harness, board) if board is not None else ())
 
 
 def cautions(design: Design, heat: Heat, *, short: bool = False) -> tuple[str, ...]:

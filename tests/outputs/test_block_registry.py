@@ -16,7 +16,7 @@ def test_every_sheet_and_card_block_name_is_registered_by_its_renderer():
 
     assert set(SHEET_BLOCKS.makers) == set(SHEET_BLOCKS.names)
     assert set(CARD_BLOCKS.makers) == set(CARD_BLOCKS.names)
-    assert {n for n, e in SHEET_BLOCKS.makers.items() if e.whole} == {"schematic", "parts", "timing"}
+    assert {n for n, e in SHEET_BLOCKS.makers.items() if e.whole} == {"schematic", "parts", "timing", "board"}
 
 
 def test_a_name_outside_the_table_or_registered_twice_is_refused_at_import():

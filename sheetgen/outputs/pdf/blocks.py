@@ -767,6 +767,14 @@ def wiring_block(report: Report, frame: Frame) -> Block:
     return Block("Wiring", [harness, *steps])
 
 
+@SHEET_BLOCKS.register("board", whole=True)
+def board_block(report: Report, frame: Frame) -> Block:
+    """Where every part goes: the board's two sides and its cut, link and wire lists (``board_view``)."""
+    from sheetgen.outputs.pdf.board_view import board_items
+
+    return Block("Board", board_items(report.board, report.design.netlist, styles().small))
+
+
 @SHEET_BLOCKS.register("cautions")
 def cautions_block(report: Report, frame: Frame) -> Flowable:
     """The safety cautions, boxed under a black bar so they cannot be missed or skimmed past."""

@@ -34,7 +34,7 @@ from __future__ import annotations
 import io
 import re
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import lru_cache
 from typing import Callable, Sequence
 from xml.sax.saxutils import escape
@@ -394,6 +394,16 @@ def _cautions(report: Report, frame: _Frame) -> Flowable:
     return _Framed(items, title=_p("CAUTIONS", st.caution_head), pad_pt=3.5, line_pt=1.6)
 
 
+@CARD_BLOCKS.register("board")
+def _board(report: Report, frame: _Frame) -> Flowable:
+    st = frame.st
+    from sheetgen.outputs.pdf.board_view import BoardViews
+
+    return _Stack([_heading("Board", st.heading), BoardViews(report.board, report.design.netlist,
+                                                             font_pt=st.small.fontSize, max_pitch_pt=11.0)],
+                  gap_pt=st.gap_pt)
+
+
 # ------------------------------------------------------------------ fitting
 @dataclass(frozen=True)
 class _Side:
@@ -494,6 +504,8 @@ def card_sides(report: Report, layout: CardLayout) -> dict[str, _Side]:
     back's first) may cross to the other side, order kept, when that lets the more
     crowded side set larger type; on a tie the layout's own split stands.
     """
+    if "board" in layout.front + layout.back and report.brief.board_steps:
+        report = replace(report, brief=replace(report.brief, steps=report.brief.board_steps))
     w, h = layout.card_pt
     pad = CARD_PAD_MM * PT_PER_MM
     inner_w = w - 2 * pad
