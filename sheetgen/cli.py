@@ -15,29 +15,23 @@ from sheetgen.errors import InfeasibleDesign, SheetgenError, SpecError
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_INFEASIBLE = 0, 1, 2, 3
 
 
-def _design(path: str):
-    from sheetgen.sizing.size import size
-    from sheetgen.inputs.spec import load_spec
-
-    return size(load_spec(path))
-
-
 def cmd_size(args) -> int:
-    from sheetgen.sizing.analyse import analyse
+    from sheetgen.inputs.spec import load_spec
     from sheetgen.outputs.export import report_json
     from sheetgen.outputs.summary import summary_text
+    from sheetgen.sizing.cache import report_for
 
-    report = analyse(_design(args.spec))
+    report = report_for(load_spec(args.spec))
     print(report_json(report) if args.json else summary_text(report))
     return EXIT_OK
 
 
 def cmd_check(args) -> int:
     from sheetgen.inputs.spec import load_spec
-    from sheetgen.sizing.size import size
+    from sheetgen.sizing.cache import design_for
 
     spec = load_spec(args.spec)
-    design = size(spec)
+    design = design_for(spec)
     print(f"{args.spec}: OK: {design.topology.title} with {design.values.transistor.part_number}; "
           f"fade-in {design.fade_in_s:.2f} s (asked {spec.fade_in_s:g} s), "
           f"fade-out {design.fade_out_s:.2f} s (asked {spec.fade_out_s:g} s)")
@@ -45,16 +39,15 @@ def cmd_check(args) -> int:
 
 
 def _sheet(spec, *, layout, out: str) -> int:
-    """Check the output path first, then size, analyse and write the sheet (or a sheet of cards)."""
-    from sheetgen.sizing.analyse import analyse
+    """Check the output path first, then size, analyse (or find the stored design) and write the sheet or cards."""
     from sheetgen.inputs.layout import CardLayout
     from sheetgen.outputs.pdf.sheet import build_sheet, sheet_date
     from sheetgen.outputs.write import atomic_write, check_writable
-    from sheetgen.sizing.size import size
+    from sheetgen.sizing.cache import report_for
 
     check_writable(out)
     sheet_date()  # a malformed SOURCE_DATE_EPOCH is bad input: say so before the slow part
-    report = analyse(size(spec))
+    report = report_for(spec)
     if isinstance(layout, CardLayout):
         from sheetgen.outputs.pdf.cards import render_cards, single_design_cards
 
@@ -131,6 +124,7 @@ def cmd_pack(args) -> int:
     from sheetgen.outputs.pdf.cards import Card, render_cards
     from sheetgen.inputs.layout import load_card_layout, load_sheet_layout
     from sheetgen.outputs.pdf.sheet import sheet_date
+    from sheetgen.outputs.parallel import render_all
     from sheetgen.outputs.write import atomic_write_files, check_folder
 
     event = load_event(args.event)
@@ -148,7 +142,8 @@ def cmd_pack(args) -> int:
     with _progress(2 * len(specs) + 2) as bar:
         bar.set_description_str(f"sizing {len(specs)} design{'s' if len(specs) != 1 else ''}")
         try:
-            reports = batch.analyse_all(specs, jobs=jobs, on_done=lambda _k: bar.update())
+            reports = batch.analyse_all(specs, jobs=jobs, use_cache=not args.no_cache,
+                                        on_done=lambda _k: bar.update())
         except batch.DesignFailed as failed:
             build = next(b for b in event.builds if batch.spec_key(b.spec) == batch.spec_key(specs[failed.index]))
             what = f"{build.where} ({build.spec_label})"
@@ -167,12 +162,13 @@ def cmd_pack(args) -> int:
         on_card = " \u00b7 ".join(x for x in (event.title, event.date.isoformat() if event.date else "") if x)
         cards = [Card(report=d.report, design=d.letter, name=b.name, place=b.place, event=on_card)
                  for d in designs for build in d.builds for b in build.builders]
-        bar.set_description_str("cards")
-        cards_pdf = render_cards(cards, card_layout, title=event.title, on_design=lambda _d: bar.update())
-        bar.set_description_str("booklet")
+        bar.set_description_str("cards and booklet")
         sheets = sum(-(-d.kits // card_layout.per_sheet) for d in designs)
-        booklet = render_booklet(event, designs, kit, sheet_layout, card_layout, card_sheets=sheets)
-        bar.update()
+        cards_pdf, booklet = render_all(
+            [lambda: render_cards(cards, card_layout, title=event.title, on_design=lambda _d: bar.update()),
+             lambda: render_booklet(event, designs, kit, sheet_layout, card_layout, card_sheets=sheets)],
+            jobs=args.jobs or batch.default_jobs(2))
+        bar.update(bar.total - 1 - bar.n)  # the cards' steps, counted where they ran
         bar.set_description_str("writing")
         paths = atomic_write_files(folder, dict(zip(PACK_FILES, (booklet, cards_pdf, kit_csv(kit)))))
         bar.update()
@@ -252,20 +248,27 @@ def parser() -> argparse.ArgumentParser:
     k.add_argument("--cards", metavar="NAME|FILE", help="card layout for the cards (default a6-card; "
                                                         "4x6-card for US Letter)")
     k.add_argument("--jobs", type=int, metavar="N",
-                   help="designs sized at once in separate processes (default: one per core, at most one per "
-                        "design)")
+                   help="designs sized, and documents rendered, at once in separate processes (default: one per "
+                        "core, at most one per design not yet cached; one when the machine is swamped)")
     k.set_defaults(func=cmd_pack)
 
     d = sub.add_parser("demo", help="write the sheet of a built-in scenario into the current folder",
                        description="Size a built-in scenario (a camper van awning light), write its build sheet "
                                    "to sheetgen-demo.pdf in the current folder and print the path.")
     d.set_defaults(func=cmd_demo)
+    for command in (s, c, b, k, d):
+        command.add_argument("--no-cache", action="store_true",
+                             help="size and analyse afresh, neither reading nor writing the design cache "
+                                  "(kept in the user's cache folder, or in $SHEETGEN_CACHE_DIR)")
     return p
 
 
 def main(argv: list[str] | None = None) -> int:
     args = parser().parse_args(argv)
     try:
+        from sheetgen.sizing.cache import bypass
+
+        bypass(args.no_cache)
         return args.func(args)
     except SpecError as exc:
         for line in exc.problems:

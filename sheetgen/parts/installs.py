@@ -7,6 +7,7 @@ an edit to that file alone.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, replace
 from functools import lru_cache
 
@@ -118,7 +119,7 @@ def system(name: str) -> System:
 
 
 def supply_for(place: Install, nominal_v: float, *, named: str | None = None) -> System:
-    """The system a supply of ``nominal_v`` is at this install, its span scaled if none is that voltage.
+    """The system a supply of ``nominal_v`` is at this install; with none at that voltage, the nearest scaled.
 
     ``named`` forces one system (a spec's ``supply: {system: ...}``); it is
     scaled the same way when its nominal voltage differs from the spec's.
@@ -127,7 +128,9 @@ def supply_for(place: Install, nominal_v: float, *, named: str | None = None) ->
         base = system(named)
     else:
         candidates = [system(n) for n in place.supplies]
-        base = next((s for s in candidates if abs(s.nominal_v - nominal_v) < 1e-9), candidates[0])
+        # the first of the install's systems at that voltage, else the nearest in ratio, scaled
+        base = next((s for s in candidates if abs(s.nominal_v - nominal_v) < 1e-9), None) or min(
+            candidates, key=lambda s: abs(math.log(s.nominal_v / nominal_v)))
     if abs(base.nominal_v - nominal_v) < 1e-9:
         return base
     k = nominal_v / base.nominal_v

@@ -82,8 +82,8 @@ def _series_diode(spec: Spec) -> Diode:
     d = _pick("reverse_polarity", lambda d: d.if_avg_a * IF_DERATE >= need and d.vrrm_v >= spec.supply.max_v * 1.25)
     if d is None:
         raise InfeasibleDesign(f"a load of {need:.2f} A is more than a series Schottky in the catalog carries with "
-                               f"{IF_DERATE:.0%} derating; reverse-battery protection for it needs a reverse-blocking "
-                               "MOSFET, or set protection: false and fit the protection yourself")
+                               f"{IF_DERATE:.0%} derating.\nWhat would work: a lighter load, or protection: false and "
+                               "a reverse-blocking MOSFET of your own")
     return d
 
 
@@ -101,8 +101,9 @@ def _parts_for(spec: Spec) -> tuple[Diode, Diode]:
     dump, jump = _dump_jump(spec)
     tvs = _pick("surge", lambda d: d.vz_min_v >= TVS_MARGIN * dump and d.vrrm_v >= jump)
     if tvs is None:
-        raise InfeasibleDesign(f"no catalog TVS suits a {spec.supply.nominal_v:g} V system (load dump {dump:g} V, "
-                               f"jump start {jump:g} V); set protection: false to leave the protection out")
+        raise InfeasibleDesign(f"no catalog TVS suits a {spec.supply.nominal_v:g} V system (load dump {dump:.0f} V, "
+                               f"jump start {jump:.0f} V).\nWhat would work: a 12 V or 24 V system, or "
+                               "protection: false and a guard of your own")
     return _series_diode(spec), tvs
 
 

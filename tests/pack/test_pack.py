@@ -401,7 +401,7 @@ def test_designs_sized_side_by_side_come_back_in_order(camper_report, railway_re
     monkeypatch.setattr(batch, "_size_and_analyse", lambda spec: (_ for _ in ()).throw(
         InfeasibleDesign(f"no {spec.title}")))
     with pytest.raises(batch.DesignFailed) as failed:
-        batch.analyse_all(specs, jobs=2)
+        batch.analyse_all(specs, jobs=2, use_cache=False)  # the first call stored both
     assert isinstance(failed.value.error, InfeasibleDesign) and failed.value.index in (0, 1)
 
 
@@ -418,3 +418,18 @@ def test_the_shipped_example_event_reads(sized):
     names = [b.name for build in event.builds for b in build.builders]
     assert "Zoë Fairweather" in names and any("Ødegård" in (n or "") for n in names) and None in names
     assert len({batch.spec_key(b.spec) for b in event.builds}) == len(event.builds) == 3
+
+
+@pytest.mark.parametrize("load, designs, expected", [
+    (0.1, 3, 2),   # an idle two-core machine: both cores
+    (1.5, 3, 2),   # busy, but a second process still gets a share
+    (4.0, 3, 1),   # twice as much work as cores: a second process only waits
+    (7.0, 3, 1),
+    (0.1, 1, 1),   # never more processes than designs
+])
+def test_default_jobs_uses_both_cores_unless_the_machine_is_swamped(monkeypatch, load, designs, expected):
+    import os
+
+    monkeypatch.setattr(os, "sched_getaffinity", lambda _pid: {0, 1}, raising=False)
+    monkeypatch.setattr(os, "getloadavg", lambda: (load, load, load))
+    assert batch.default_jobs(designs) == expected

@@ -20,6 +20,7 @@ them, so importing this module costs nothing.
 
 from __future__ import annotations
 
+import hashlib
 import io
 import math
 from typing import TYPE_CHECKING, Any, Sequence
@@ -533,6 +534,26 @@ def _for_svglib(svg: bytes) -> bytes:
     return ET.tostring(root, encoding="utf-8")
 
 
+def _art_cache_key(netlist: Netlist, topology: Topology, *, compact: bool):
+    """Where svglib's reading of this schematic is kept: it depends on the circuit, this code and the libraries.
+
+    Drawing the SVG and reading it back cost most of a sheet's rendering, and
+    neither depends on anything but the netlist and its drawing recipe.
+    """
+    import pickle
+
+    import reportlab
+    import schemdraw
+    import svglib
+
+    from sheetgen.sizing.cache import PACKAGE, DesignCache, code_fingerprint
+
+    code = code_fingerprint(PACKAGE, ("model", "circuits", "inputs/units.py", "outputs/pdf", "fonts"))
+    versions = f"{reportlab.Version} {schemdraw.__version__} {getattr(svglib, '__version__', '')}"
+    blob = pickle.dumps((netlist, topology, compact), protocol=4) + f"\n{code}\n{versions}".encode()
+    return DesignCache(), "schematic-" + hashlib.sha256(blob).hexdigest()
+
+
 def schematic_drawing(netlist: Netlist, topology: Topology, *, max_width_pt: float,
                       max_height_pt: float, compact: bool = False) -> Drawing:
     """The schematic as a reportlab vector ``Drawing`` no larger than the box given.
@@ -553,10 +574,14 @@ def schematic_drawing(netlist: Netlist, topology: Topology, *, max_width_pt: flo
     if max_width_pt <= 0 or max_height_pt <= 0:
         raise ValueError(f"the box must have room: {max_width_pt} × {max_height_pt} pt")
     register_fonts()
-    art = svg2rlg(io.BytesIO(_for_svglib(schematic_svg(netlist, topology, compact=compact))),
-                  font_map=_SheetFont())
+    cache, key = _art_cache_key(netlist, topology, compact=compact)
+    art = cache.get(key)
     if art is None:
-        raise ValueError("svglib could not read the schematic SVG")
+        art = svg2rlg(io.BytesIO(_for_svglib(schematic_svg(netlist, topology, compact=compact))),
+                      font_map=_SheetFont())
+        if art is None:
+            raise ValueError("svglib could not read the schematic SVG")
+        cache.put(key, art)
     body = Group(*art.contents)
     x0, y0, x1, y1 = body.getBounds()
     pad = LINE_PT  # strokes reach half a line beyond the geometry, round caps included
