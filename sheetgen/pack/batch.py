@@ -66,8 +66,25 @@ def _size_and_analyse(spec: Spec) -> Report:
 
 
 def _worker_start() -> None:
-    """Ctrl-C is the parent's to handle: it stops the workers itself, so they never print a traceback."""
+    """Ctrl-C is the parent's to handle: it stops the workers itself, so they never print a traceback.
+
+    SIGTERM (how the parent stops them) ends a worker at once, and on Linux a
+    worker is killed with its parent, so none is left writing to a closed pipe.
+    """
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    _die_with_parent()
+
+
+def _die_with_parent() -> None:
+    """Ask the kernel to kill this process when its parent goes (Linux prctl PR_SET_PDEATHSIG)."""
+    try:
+        import ctypes
+
+        libc = ctypes.CDLL(None, use_errno=True)
+        libc.prctl(1, int(signal.SIGKILL), 0, 0, 0)  # 1 = PR_SET_PDEATHSIG
+    except (OSError, AttributeError):  # not Linux: the pool's own checks remain
+        pass
 
 
 def _job(item: tuple[int, Spec]) -> tuple[int, str, object]:

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import hashlib
 import os
-from dataclasses import dataclass, replace
+from dataclasses import replace
 from pathlib import Path
 from typing import Sequence
 
@@ -21,6 +21,7 @@ from reportlab.platypus import Spacer, TableStyle
 
 from sheetgen.inputs.event import Build, Event
 from sheetgen.pack.kit import KitLine, WIRE_M_PER_RUN
+from sheetgen.pack.plan import PackDesign
 from sheetgen.sizing.report import Report
 
 from sheetgen.outputs.pdf.blocks import Block, SizedToWidth, markup_paragraph, plain_paragraph, ruled_table, styles, width_shares
@@ -29,19 +30,6 @@ from sheetgen.inputs.layout import CardLayout, Layout
 from sheetgen.outputs.pdf.sheet import Section, SheetInfo, design_digest, frame_box, render_sections, sheet_date, sheet_section
 
 __all__ = ["PackDesign", "render_booklet", "pack_digest"]
-
-
-@dataclass(frozen=True)
-class PackDesign:
-    """A distinct design of the event: its letter, its report and the builds that use it."""
-
-    letter: str
-    report: Report
-    builds: tuple[Build, ...]
-
-    @property
-    def kits(self) -> int:
-        return sum(len(b.builders) for b in self.builds)
 
 
 def pack_digest(event: Event, designs: Sequence[PackDesign]) -> str:
