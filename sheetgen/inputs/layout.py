@@ -72,6 +72,9 @@ CARD_RANGE_MM = (60.0, 200.0)  # smaller holds nothing readable; larger is a she
 CARD_GAP_RANGE_MM = (6.0, 30.0)  # the cut marks of two neighbours sit in the gap without touching
 MARGIN_RANGE_MM = (5.0, 40.0)  # below 5 mm most printers clip; above 40 mm nothing fits
 GUTTER_RANGE_MM = (0.0, 25.0)
+#: The narrowest column: a five-column table of 6.5 pt type still sets its header words whole
+#: (common practice, no source).
+COLUMN_MIN_MM = 40.0
 
 _MM_PER = {"mm": 1.0, "cm": 10.0, "in": 25.4, "pt": 25.4 / 72.0}
 _LENGTH_RE = re.compile(r"^\s*(?P<num>\d+(?:\.\d*)?|\.\d+)\s*(?P<unit>mm|cm|in|pt)\s*$")
@@ -377,9 +380,25 @@ def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
         gutter = got_gutter if got_gutter is not None else gutter
 
     blocks = _blocks(top["blocks"][1], {c.name for c in columns}, problems) if "blocks" in top else ()
+    if page is not None and columns and "columns" in top:
+        _check_column_widths(top["columns"][1], page, margins, gutter, columns, problems)
     problems.raise_if_any()
     return Layout(name=name, source=source, page_size=page, margins_mm=margins, columns=tuple(columns),
                   gutter_mm=gutter, blocks=blocks)
+
+
+def _check_column_widths(node: Node, page: str, margins, gutter: float, columns: list[Column],
+                         problems: Problems) -> None:
+    """Every column wide enough for its blocks' tables at the sheet's type size (6.5 pt at the least)."""
+    frame_mm = PAGE_SIZES_PT[page][0] / _PT_PER_MM - margins[1] - margins[3]
+    usable = frame_mm - gutter * (len(columns) - 1)
+    total = sum(c.share for c in columns)
+    for c in columns:
+        width = usable * c.share / total
+        if width < COLUMN_MIN_MM:
+            problems.add(node, f"columns.{c.name}", f"would be {max(width, 0):.0f} mm wide, too narrow: each column "
+                                                  f"needs at least {COLUMN_MIN_MM:g} mm for its tables at a readable "
+                                                  "size; give it a larger share or use fewer columns")
 
 
 def _blocks(node: Node, column_names: set[str], problems: Problems) -> tuple[BlockPlacement, ...]:

@@ -25,6 +25,7 @@ import yaml
 from sheetgen.errors import SpecError
 from sheetgen.inputs.units import format_quantity, parse_quantity
 from sheetgen.reader.files import read_text
+from sheetgen.reader.text import line_problem
 from sheetgen.reader.yamltree import Converter, compose, excerpt, suggest, unknown_key
 
 __all__ = [
@@ -398,6 +399,9 @@ def _title(p: _Problems, data: dict) -> str:
         p.add(("title",), "is empty; leave the key out or write a title")
     elif "\n" in title or "\r" in title:
         p.add(("title",), "must be one line")
+    elif line_problem(title):
+        p.add(("title",), line_problem(title))
+        return DEFAULT_TITLE
     elif len(title) > TITLE_MAX_CHARS:
         p.add(("title",), f"is {len(title)} characters long; keep it to {TITLE_MAX_CHARS}")
     return title
