@@ -57,11 +57,17 @@ def _event_line(event: Event) -> str:
     return " \u00b7 ".join(x for x in (event.date.isoformat() if event.date else "", event.venue or "") if x)
 
 
-def _builders_text(build: Build) -> str:
+#: Names in one row of the builds table: a row never splits, so a long list takes several rows.
+NAMES_PER_ROW = 12
+
+
+def _builders_texts(build: Build) -> list[str]:
+    """The builders as the table's rows hold them: names a dozen to a row, or one line for unnamed ones."""
     if build.named:
-        return ", ".join(b.name for b in build.builders)
+        names = [b.name for b in build.builders]
+        return [", ".join(names[k:k + NAMES_PER_ROW]) for k in range(0, len(names), NAMES_PER_ROW)]
     n = len(build.builders)
-    return f"{n} unnamed (cards say Builder 1 of {n} \u2026 {n} of {n})" if n > 1 else "1 unnamed"
+    return [f"{n} unnamed (cards say Builder 1 of {n} \u2026 {n} of {n})" if n > 1 else "1 unnamed"]
 
 
 def _builds_block(event: Event, designs: Sequence[PackDesign]) -> Block:
@@ -72,12 +78,14 @@ def _builds_block(event: Event, designs: Sequence[PackDesign]) -> Block:
     rows = [[plain_paragraph(h, s.cell_bold) for h in head]]
     for b in event.builds:
         d = report_of[id(b)].design
+        first, *more = _builders_texts(b)
         rows.append([plain_paragraph(letter_of[id(b)], _cover_styles()["kit"]),
                      markup_paragraph(f"<b>{_esc(d.spec.title)}</b><br/>{_esc(d.topology.title)}", s.cell),
                      plain_paragraph(Path(b.spec_label).name if b.spec_label != "inline design" else b.spec_label,
                                      s.cell),
-                     plain_paragraph(_builders_text(b), s.cell),
+                     plain_paragraph(first, s.cell),
                      plain_paragraph(str(len(b.builders)), s.cell)])
+        rows += [["", "", "", plain_paragraph(text, s.cell), ""] for text in more]
 
     def build(aw):
         return ruled_table(rows, width_shares(aw, (0.4, 2.2, 1.75, 2.7, 0.45)))
