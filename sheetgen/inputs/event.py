@@ -117,7 +117,7 @@ def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".",
     problems = Problems(source)
     root = compose(text, source=source)
     if root is None:
-        raise SpecError(f"{source}: is empty; an event needs at least title: and builds:")
+        raise SpecError(f"{source}:1: is empty; an event needs at least title: and builds:")
     top = mapping(root, "", _TOP_KEYS, problems)
     for needed in ("title", "builds"):
         if needed not in top and isinstance(root, MappingNode):

@@ -319,7 +319,7 @@ def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
     problems = Problems(source)
     root = compose(text, source=source)
     if root is None:
-        raise SpecError(f"{source}: is empty; a layout needs at least page and blocks")
+        raise SpecError(f"{source}:1: is empty; a layout needs at least page and blocks")
     if isinstance(root, MappingNode) and any(isinstance(k, ScalarNode) and k.value == "card" for k, _ in root.value):
         return _card_layout(root, source, problems)
     top = mapping(root, "", _TOP_KEYS, problems)
@@ -473,8 +473,8 @@ def _card_layout(root: MappingNode, source: str, problems: Problems) -> CardLayo
     layout = CardLayout(name=name, source=source, page_size=page, card_mm=card, margins_mm=margins, gap_mm=gap,
                         front=front, back=back, balance=balance)
     if layout.per_sheet == 0:
-        w, h = card
-        raise SpecError(f"{source}: card: {w:g} × {h:g} mm does not fit on {page} paper with {margins:g} mm "
+        (w, h), line = card, top["card"][0].start_mark.line + 1
+        raise SpecError(f"{source}:{line}: card: {w:g} × {h:g} mm does not fit on {page} paper with {margins:g} mm "
                         "margins; make the card or the margins smaller")
     return layout
 

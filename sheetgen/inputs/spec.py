@@ -359,6 +359,7 @@ _KIND_HINTS = {"bulb": "lamp", "incandescent": "lamp", "filament": "lamp", "halo
 def _build(data: Any, p: _Problems) -> Spec:
     """Check plain data (from YAML or a caller) and return the Spec, or raise every problem."""
     if data is None:
+        p.lines.setdefault((), 1)
         p.add((), "the spec is empty; it needs at least supply:, load: and fade:")
         p.raise_if_any()
     if not isinstance(data, dict):
