@@ -30,7 +30,7 @@ from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
 from sheetgen.errors import SpecError
 from sheetgen.reader.files import read_text
 from sheetgen.reader.text import line_problem
-from sheetgen.reader.yamltree import Problems, compose, excerpt, mapping, suggest
+from sheetgen.reader.yamltree import Problems, compose, excerpt, given_twice, mapping, suggest
 
 __all__ = [
     "BLOCK_NAMES",
@@ -353,7 +353,7 @@ def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
         if not isinstance(node, MappingNode) or not node.value:
             problems.add(node, "columns", "should map column names to relative widths, e.g. {left: 1, right: 1}")
         else:
-            seen: set[str] = set()
+            seen: dict[str, int] = {}
             for k_node, v_node in node.value:
                 col = k_node.value if isinstance(k_node, ScalarNode) else ""
                 key = f"columns.{col}"
@@ -361,9 +361,9 @@ def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
                     problems.add(k_node, key, "a column name is a lower-case word other than 'full'")
                     continue
                 if col in seen:
-                    problems.add(k_node, key, "is given twice; keep one")
+                    problems.add(k_node, key, given_twice(seen[col]))
                     continue
-                seen.add(col)
+                seen[col] = k_node.start_mark.line + 1
                 share_text = _scalar(v_node, key, problems)
                 try:
                     share = float(share_text) if share_text is not None else None
