@@ -154,7 +154,7 @@ class Stage:
 
 
 SINGLE_NPN = Stage(kind="bjt", darlington=False, vce_sat_v=0.2, v_drive_v=0.75, cost_rank=0)
-# Darlington Vce(sat) about 1 V at moderate currents, VBE(on) 1.2-1.5 V (TIP120: 2 V max at 3 A; check-values §8)
+# Darlington Vce(sat) about 1 V at moderate currents, VBE(on) 1.2-1.5 V (TIP120: 2 V max at 3 A, onsemi TIP120 data sheet; read in the source)
 DARLINGTON = Stage(kind="bjt", darlington=True, vce_sat_v=1.0, v_drive_v=1.4, cost_rank=1)
 # A logic-level MOSFET fully on drops only I·RDS(on): tens of millivolts at an amp (IRLZ44N, 25 mΩ at 5 V)
 LOGIC_MOSFET = Stage(kind="mosfet", darlington=False, vce_sat_v=0.05, v_drive_v=0.0, cost_rank=2,

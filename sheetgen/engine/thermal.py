@@ -14,7 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 
 #: Thermal time constants by package, seconds: (junction to case, case to ambient).
-#: From memory, status b: a small die settles on its case within tens of
+#: From memory: a small die settles on its case within tens of
 #: milliseconds to a second; a free-air package warms over a minute (TO-92)
 #: to several minutes (TO-220).  They shape the curve through a fade, never
 #: the steady figure, which follows the datasheet resistances alone.

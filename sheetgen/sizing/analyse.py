@@ -26,9 +26,9 @@ from sheetgen.inputs.spec import LampLoad
 
 #: Blade-fuse ratings in amperes (ISO 8820-3 sizes; from memory).
 FUSES_A = (1, 2, 3, 5, 7.5, 10, 15, 20, 25, 30)
-FUSE_FACTOR = 1.5  # fuse ≈ 1.25-1.5 × load, so it does not blow on warm-up (check-values §7, common practice)
+FUSE_FACTOR = 1.5  # fuse ≈ 1.25-1.5 × load, so it does not blow on warm-up (visualfoodie.com; tagoverland.co: 1.5×; common practice, no single source)
 #: (mm², AWG of at least that copper area, continuous amperes): rule-of-thumb ratings
-#: for single cores in free air (type2.com/~keen/west/wire2, check-values §7, a*);
+#: for single cores in free air (type2.com/~keen/west/wire2, read in a secondary source);
 #: AWG areas from the Handbook of Electronic Tables (18 AWG 0.823, 20 AWG 0.518 mm²)
 #: and, for 16 and 14 AWG (1.31, 2.08 mm²), from memory.
 METER_INPUT_OHM = 10e6

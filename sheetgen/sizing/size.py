@@ -36,7 +36,7 @@ from sheetgen.circuits.topologies import INPUT_PNP, TOPOLOGIES, Stage, Topology,
 from sheetgen.inputs.units import format_quantity
 
 ACCURACY = 0.10  # achieved fade times within ±10 % of the request
-OVERDRIVE_MIN = 1.5  # Ib ≥ 1.5 · Ic / hFE_min at minimum supply (the rule)
+OVERDRIVE_MIN = 1.5  # Ib ≥ 1.5 · Ic / hFE_min at minimum supply (margin: common practice, no source)
 OVERDRIVE_MAX = 2.0
 C_MIN_F, C_MAX_F = 1e-6, 10_000e-6
 C_MAX_AUTO_F = 4_700e-6  # automatic choice moves to a stronger stage before using a bigger can
@@ -325,7 +325,7 @@ def _load_scale(spec: Spec, supply_v: float, stage: Stage) -> float:
     if isinstance(load, LedLoad):
         drop = load.per_string * load.vf_v + stage.vce_sat_v
         return max(supply_v - drop, 0.0) / max(spec.supply.nominal_v - drop, 1e-9)
-    # A filament's current rises roughly as V^0.57 (check-values §3, zetatalk8 derived exponents).
+    # A filament's current rises roughly as V^0.57 (derived from zetatalk8.com/energy/tengx100.htm: −12 % V gives −7 % I; read in the source).
     return (supply_v / spec.supply.nominal_v) ** 0.57
 
 
@@ -546,8 +546,8 @@ def _infeasible_message(spec: Spec, refusals: list[str], c_max: float) -> str:
 
 # ---------------------------------------------------------------- ratings
 POWER_RATINGS_W = (0.25, 0.5, 1.0, 2.0, 3.0)
-DERATE = 2.0  # resistors run at no more than half their rating (the 2× derating)
-CAP_DERATE = 0.8  # capacitor working voltage ≤ 80 % of rating (check-values §10, common practice)
+DERATE = 2.0  # resistors run at no more than half their rating (common practice, no source)
+CAP_DERATE = 0.8  # capacitor working voltage ≤ 80 % of rating (common practice, no source)
 
 
 def _power_rating(ref: str, p_w: float) -> float:

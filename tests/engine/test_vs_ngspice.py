@@ -2,7 +2,7 @@
 
 The reference is ngspice running the deck that sheetgen exports: same model
 cards, same values.  Agreement required: fade times within 2 %, steady load
-current within 1 % (the engine issue's acceptance figures).
+current within 1 %.
 """
 
 from __future__ import annotations
@@ -106,4 +106,4 @@ def test_lamp_inrush_matches_ngspice():
     tr, ir = _ngspice(nl)
     assert i.max() == pytest.approx(ir.max(), rel=0.02)
     steady = np.interp(nl.release_s * 0.999, t, i)
-    assert i.max() > 2.0 * steady  # a cold filament surges (check-values §3: inrush 10-14× into a bare lamp)
+    assert i.max() > 2.0 * steady  # a cold filament surges (lamptech.co.uk "Starting Characteristics": inrush 10-14× into a bare lamp; read in the source)

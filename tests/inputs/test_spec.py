@@ -1,8 +1,7 @@
 """Spec files: good ones give the right numbers, bad ones name the key and the line.
 
-Sources are named beside each check, with the status used in
-shared/reference/check-values.md (a = read in the source, b = from memory,
-c = common practice with no single source).
+Sources are named beside each check, with its status: read in the source,
+from memory, or common practice with no single source.
 """
 
 from __future__ import annotations
@@ -52,7 +51,7 @@ def problems_of(text: str) -> list[str]:
 
 
 def test_contract_example_parses():
-    # The example in DESIGN.md "contract — spec file".
+    # A small complete spec parses to these values.
     spec = parse_spec(GOOD, source="good.yaml")
     assert spec == Spec(
         title="Rear hatch courtesy light",
@@ -69,7 +68,7 @@ def test_contract_example_parses():
 
 def test_12_v_default_span_lies_inside_iso_16750_2_operating_codes():
     # ISO 16750-2 Table 1: code D 10.5–16 V, code B 8–16 V (360docs.net copy of
-    # BS ISO 16750-2:2010; atecorp.com), check-values §6, status a. The span
+    # BS ISO 16750-2:2010; atecorp.com/compliance-standards/iso/iso-16750-2), read in the source. The span
     # 11.0–14.6 V sits inside code D, hence inside B.
     spec = parse_spec(GOOD, source="good.yaml")
     assert (spec.supply.min_v, spec.supply.max_v) == pytest.approx((11.0, 14.6))
@@ -77,7 +76,7 @@ def test_12_v_default_span_lies_inside_iso_16750_2_operating_codes():
 
 
 def test_24_v_default_span():
-    # 22.0–29.2 V for a 24 V system: the project's issue (the 12 V span scaled by 2).
+    # 22.0–29.2 V for a 24 V system: the 12 V span scaled by 2 (common practice, no source).
     spec = parse_spec(GOOD.replace("supply: 12 V", "supply: 24 V"), source="good.yaml")
     assert spec.supply == Supply(nominal_v=24.0, min_v=pytest.approx(22.0), max_v=pytest.approx(29.2))
 
@@ -118,7 +117,7 @@ def test_defaults():
 
 def test_three_white_leds_fit_a_12_v_string():
     # 12 V, 20 mA, 3 white at 3.2 V → 120 Ω: andromeda.df.lu.lv "LED notes",
-    # check-values §9, status a. 9.6 V < 11.0 V − 1.0 V headroom.
+    # read in the source. 9.6 V < 11.0 V − 1.0 V headroom.
     spec = parse_spec(GOOD.replace("vf: 3.1 V", "vf: 3.2 V"), source="g")
     assert spec.load.per_string == 3
 
@@ -201,7 +200,7 @@ def test_colour_gives_the_catalog_forward_voltage():
     assert spec.load.colour == "white"
     assert spec.load.vf_v == catalog.led_colour("white").vf_typ_v
     # White 5 mm LEDs: 3.0–3.6 V (robot.lk "5mm LED typical technical data"),
-    # check-values §9, status a*.
+    # read in a secondary source.
     assert 3.0 <= spec.load.vf_v <= 3.6
 
 
@@ -328,7 +327,7 @@ def test_bad_spec_names_key_and_line(name, text, line, key, words):
 
 
 def test_corpus_is_big_enough():
-    # The brief asks for at least 15 bad specs.
+    # At least 15 bad specs, so that every kind of mistake is covered.
     assert len(BAD_SPECS) >= 15
 
 
@@ -338,7 +337,7 @@ def test_problems_are_collected_and_sorted_by_line():
     assert [p.split(":")[1] for p in problems] == ["6", "11", "13"]
 
 
-def test_message_format_matches_the_brief():
+def test_message_format_is_file_line_key_words():
     (problem,) = problems_of(GOOD.replace("20 mA", "20 mV"))
     assert problem == 'bad.yaml:6: load.current: "20 mV" is not a current; write it in A or mA (e.g. 20 mA)'
 

@@ -1,8 +1,7 @@
 """Quantities in and out: SI prefixes and the IEC 60062 letter code.
 
-Sources are named beside each check, with the status used in
-shared/reference/check-values.md (a = read in the source, b = from memory,
-c = common practice with no single source).
+Sources are named beside each check, with its status: read in the source,
+from memory, or common practice with no single source.
 """
 
 from __future__ import annotations
@@ -22,7 +21,7 @@ def parse(text, unit):
 # --- IEC 60062 letter code ---------------------------------------------------
 
 # RKM code article (Wikipedia mirror, wonilvalve.com), "Examples of resistance
-# values"; check-values §2, status a.
+# values"; read in the source.
 RKM_RESISTANCE_EXAMPLES = [
     ("R47", 0.47),
     ("4R7", 4.7),
@@ -37,30 +36,30 @@ RKM_RESISTANCE_EXAMPLES = [
 
 @pytest.mark.parametrize(("code", "ohms"), RKM_RESISTANCE_EXAMPLES)
 def test_rkm_resistance_examples_parse(code, ohms):
-    # RKM code article (wonilvalve.com mirror); check-values §2, status a.
+    # RKM code article (wonilvalve.com mirror); read in the source.
     assert parse(code, "ohm") == pytest.approx(ohms, rel=1e-12)
 
 
 @pytest.mark.parametrize(("code", "ohms"), RKM_RESISTANCE_EXAMPLES)
 def test_rkm_resistance_examples_written(code, ohms):
-    # RKM code article (wonilvalve.com mirror); check-values §2, status a.
+    # RKM code article (wonilvalve.com mirror); read in the source.
     assert rkm_code(ohms) == code
 
 
 def test_rkm_1r8_is_1_8_ohm():
     # probsee.com/p/RKM_code and electrostudy.com/2011/09: 1R8J = 1.8 Ω ±5 %;
-    # check-values §2, status a (the tolerance letter is not part of a value here).
+    # read in the source (the tolerance letter is not part of a value here).
     assert parse("1R8", "ohm") == pytest.approx(1.8)
     assert rkm_code(1.8) == "1R8"
 
 
 def test_rkm_letter_l_is_milliohm():
-    # probsee.com/p/RKM_code: L = ×10⁻³; check-values §2, status a.
+    # probsee.com/p/RKM_code: L = ×10⁻³; read in the source.
     assert parse("4L7", "ohm") == pytest.approx(4.7e-3)
 
 
 def test_rkm_lower_case_k_and_r_are_read():
-    # Lower-case k is the SI kilo; "4k7" is how the brief and most schematics
+    # Lower-case k is the SI kilo; "4k7" is how most schematics
     # write it (common practice, no source).
     assert parse("4k7", "ohm") == pytest.approx(4700.0)
     assert parse("4r7", "ohm") == pytest.approx(4.7)
@@ -69,7 +68,7 @@ def test_rkm_lower_case_k_and_r_are_read():
 def test_rkm_lone_digit_gets_a_zero():
     # 1M0 / 1K0 / 1R0 for round values of one digit: common practice on parts
     # lists, no source; two or more digits go without (10K, 470R; RKM code
-    # article's "47K" and "470K", check-values §2, status a).
+    # article's "47K" and "470K", read in the source).
     assert rkm_code(1e6) == "1M0"
     assert rkm_code(1e3) == "1K0"
     assert rkm_code(1.0) == "1R0"
@@ -87,7 +86,7 @@ def test_rkm_rounds_to_significant_digits_and_carries_the_letter():
 
 def test_rkm_capacitance_nanofarad():
     # eestudenthelp.blogspot.com/2009/09/capacitor-markings.html: "2n2 is 2.2
-    # Nanofarads" (read here, status a).
+    # Nanofarads" (read in the source).
     assert parse("2n2", "F") == pytest.approx(2.2e-9)
     assert rkm_code_farad(2.2e-9) == "2n2"
 
@@ -98,14 +97,14 @@ def test_rkm_capacitance_nanofarad():
 )
 def test_rkm_capacitance_letters(code, farads):
     # IEC 60062 capacitance letters p n µ m F in place of the decimal point;
-    # the RKM code article lists 6m8 as 6800 µF. From memory (status b): the
+    # the RKM code article lists 6m8 as 6800 µF. From memory: the
     # stored copy of the article did not show its capacitance table.
     assert parse(code, "F") == pytest.approx(farads, rel=1e-12)
     assert rkm_code_farad(farads) == code
 
 
 def test_rkm_capacitance_micro_sign_option():
-    # Same rule with the typeset micro sign; from memory (status b).
+    # Same rule with the typeset micro sign; from memory.
     assert rkm_code_farad(2.2e-6, micro="µ") == "2µ2"
     assert parse("2µ2", "F") == pytest.approx(2.2e-6)
 
@@ -120,7 +119,7 @@ def test_rkm_rejects_non_positive_values():
 
 def test_lower_case_m_in_a_resistor_code_is_refused():
     # Upper case for resistor letters (RKM code article, "the case used";
-    # check-values §2, status a): 4m7 could mean 4.7 MΩ or 4.7 mΩ.
+    # read in the source): 4m7 could mean 4.7 MΩ or 4.7 mΩ.
     with pytest.raises(SpecError, match="ambiguous"):
         parse("4m7", "ohm")
 
@@ -163,7 +162,7 @@ def test_lower_case_m_in_a_resistor_code_is_refused():
 )
 def test_si_prefixes_and_spellings(text, unit, value):
     # SI prefixes p n µ m k M G (BIPM SI Brochure, 9th ed., Table 7; from
-    # memory, status b); the spellings are the ones the brief lists.
+    # memory); the spellings are the ones a spec file accepts.
     assert parse(text, unit) == pytest.approx(value, rel=1e-12)
 
 
@@ -175,7 +174,7 @@ def test_decimal_prefix_gives_the_nearest_float():
 
 
 def test_negative_values_pass_through():
-    # Range checks belong to the spec reader (brief).
+    # Range checks belong to the spec reader.
     assert parse("-1 s", "s") == -1.0
 
 
@@ -257,10 +256,10 @@ def test_unknown_base_unit_is_a_programming_error():
 )
 def test_format_quantity(value, unit, text):
     # Space between number and unit, prefix joined to the symbol: BIPM SI
-    # Brochure 9th ed. §5.4.3 (from memory, status b). Capacitors in µF from
+    # Brochure 9th ed. §5.4.3 (from memory). Capacitors in µF from
     # 1 µF to 10 000 µF and more, volts/watts/ohms plain down to 0.1: the trade's
     # habit (common practice, no source). Groups of three digits separated by a
-    # space for five or more digits: SI Brochure §5.4.4 (from memory, status b).
+    # space for five or more digits: SI Brochure §5.4.4 (from memory).
     assert format_quantity(value, unit) == text
 
 

@@ -23,7 +23,7 @@ VT_27C = 1.380649e-23 * 300.15 / 1.602176634e-19
 
 # A 12 V / 5 W lamp, hot at 2700 K: R_hot = V^2/P = 28.8 ohm, R = R0 (T/300)^1.2,
 # K from the rated power at the hot temperature.  (R ∝ T^1.2 for tungsten:
-# check-values §3, status b.)
+# from memory.)
 R_HOT = 12.0**2 / 5.0
 LAMP_5W = Model(
     "12V 5W",
@@ -37,7 +37,7 @@ LAMP_5W = Model(
         ("CTH", 4e-4),
     ),
 )
-D_PLAIN = Model("DTEST", "D", (("IS", 1e-14), ("N", 1.0)))  # ngspice defaults: check-values §11
+D_PLAIN = Model("DTEST", "D", (("IS", 1e-14), ("N", 1.0)))  # ngspice defaults (ngspice manual, Diode Model (D); read in the source)
 LED_RED = Model("red 5mm", "D", (("IS", 1e-20), ("N", 2.0)))
 NPN_SW = Model("BC337-40", "NPN", (("IS", 1e-14), ("BF", 150.0)))
 PNP_80 = Model("PNPTEST", "PNP", (("IS", 1e-14), ("BF", 80.0)))
@@ -277,7 +277,7 @@ def test_lamp_settles_at_rating_with_inrush():
     assert temp[0] == pytest.approx(300.0, abs=1.0)  # .ic on the hierarchical node took hold
     assert 12.0 * i[-1] == pytest.approx(5.0, rel=0.01)  # settles at the rated 5 W
     assert temp[-1] == pytest.approx(2700.0, rel=0.01)
-    # Inrush: check-values §3 (lamptech "Starting Characteristics": 10-14x), status a.
+    # Inrush: lamptech.co.uk "Starting Characteristics": 10-14x (read in the source).
     assert i.max() >= 8.0 * i[-1]
     assert i.max() == pytest.approx(12.0 / LAMP_5W["R0"], rel=0.01)  # the cold filament
 

@@ -82,7 +82,7 @@ def test_every_part_names_its_sources():
 
 
 def test_datasheet_figures_as_cited():
-    # check-values §5 and §8 (status a), sources named in transistors.yaml
+    # data sheets named in transistors.yaml (read in the source)
     pn = catalog.transistor("PN2222A")
     assert (pn.vmax_v, pn.imax_a, pn.pd_free_air_w) == (40, 0.6, 0.625)       # onsemi P2N2222A/D
     assert (pn.rth_ja_c_per_w, pn.rth_jc_c_per_w, pn.tj_max_c) == (200, 83.3, 150)
@@ -164,12 +164,12 @@ def test_capacitor_values_and_ratings():
     assert caps.values_f[0] == 1e-6 and caps.values_f[-1] == 1e-2
     assert 4.7e-6 in caps.values_f and 2.2e-3 in caps.values_f
     assert caps.ratings_v == (6.3, 10, 16, 25, 35, 50, 63)      # Nichicon VR series table
-    assert caps.tolerance == 0.20                                # Nichicon, check-values §10
+    assert caps.tolerance == 0.20                                # Nichicon VR series catalogue (read in the source)
 
 
 def test_leakage_rule_worked_example():
     caps = catalog.capacitors()
-    # Nippon Chemi-Con FAQ: 2200 µF 35 V -> 770 µA (check-values §10, status a)
+    # Nippon Chemi-Con FAQ: 2200 µF 35 V -> 770 µA (read in the source)
     assert caps.leakage_a(2200e-6, 35) == pytest.approx(770e-6)
     # itecnotes quoting Panasonic/Nichicon/Rubycon: never below 3 µA
     assert caps.leakage_a(1e-6, 6.3) == pytest.approx(3e-6)
@@ -178,7 +178,7 @@ def test_leakage_rule_worked_example():
 
 def test_capacitor_rating_for_working_voltage():
     caps = catalog.capacitors()
-    # 80 % working-voltage margin (check-values §10, common practice c)
+    # 80 % working-voltage margin (common practice, no source)
     assert caps.rating_for(14.6) == 25
     assert caps.rating_for(29.2) == 50
     with pytest.raises(ValueError):
@@ -206,7 +206,7 @@ def test_filament_cold_fraction_and_inrush():
     f = catalog.filament()
     assert f.cold_fraction == pytest.approx((300 / 2700) ** 1.2)
     inrush = 1 / f.cold_fraction
-    # nncyjs lamp-driver note: 10–12×; lamptech: about 14× (check-values §3, status a)
+    # nncyjs lamp-driver note: 10–12×; lamptech.co.uk: about 14× (read in the source)
     assert 10 <= inrush <= 15
 
 
@@ -229,7 +229,7 @@ def test_filament_tau_gives_2x_after_3_to_5_ms():
     t, temps = _warm_up(f)
     ratio = (f.t_hot_k / temps) ** f.alpha            # current / hot current at fixed voltage
     t_2x = t[np.argmax(ratio <= 2.0)]
-    # nncyjs lamp-driver note: about 2× after 3–5 ms (check-values §3, status a)
+    # nncyjs lamp-driver note: about 2× after 3–5 ms (read in the source)
     assert 3e-3 <= t_2x <= 5e-3
     assert temps[-1] == pytest.approx(f.t_hot_k, rel=1e-3)
 
@@ -357,7 +357,7 @@ def test_card_vbe(tmp_path, part):
                else _bjt_sat(tmp_path, t, ic, x)[1])
         assert (lo is None or vbe >= lo) and vbe <= hi, (part, kind, ic, vbe)
     # Vbe(on) at a tenth of the rated current: about 0.65–0.8 V for one junction
-    # (check-values §8, a*/b), twice that for a Darlington (two junctions).
+    # (industrialmonitordirect.com, read in a secondary source; partly from memory), twice that for a Darlington (two junctions).
     _, vbe = _bjt_gain(tmp_path, t, 0.1 * t.imax_a, 2.0 if not t.darlington else 3.0)
     band = (1.1, 1.6) if t.darlington else (0.6, 0.85)
     assert band[0] <= vbe <= band[1], (part, vbe)
@@ -406,6 +406,6 @@ def test_diode_card_forward_voltage(tmp_path, part):
 def test_led_card_gives_typical_vf(tmp_path, name):
     c = catalog.led_colour(name)
     vf = _diode_vf(tmp_path, c.model, c.at_a)
-    # sources per colour in leds.yaml (robot.lk / sunkistenterprise via check-values §9, ...)
+    # sources per colour in leds.yaml (robot.lk / sunkistenterprise.com, read in secondary sources, ...)
     assert vf == pytest.approx(c.vf_typ_v, abs=0.02)
     assert vf <= c.vf_max_v

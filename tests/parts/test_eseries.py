@@ -1,8 +1,8 @@
 """IEC 60063 tables and snapping, checked against published lists and the eseries package.
 
-Sources (reference/check-values.md §1):
-  [g4usp]   qsl.net/g4usp "Component preferred values" — E6/E12/E24 lists (status a)
-  [eseries] eseries 1.2.1 on PyPI, installed and run here (status a); it rounds by
+Sources:
+  [g4usp]   qsl.net/g4usp "Component preferred values" — E6/E12/E24 lists (read in the source)
+  [eseries] eseries 1.2.1 on PyPI, installed and run here; it rounds by
             linear distance, so nearest() is compared only where both rules agree.
 """
 
@@ -58,13 +58,13 @@ def test_decade_matches_eseries_package(name):
 
 
 def test_e24_holds_43_not_42():
-    # [g4usp]; statemaster.com prints 4.2, a typo (check-values §1)
+    # [g4usp]; statemaster.com prints 4.2, a typo
     vals = es.values("E24", 1, 10)
     assert 4.3 in vals and 4.2 not in vals
 
 
 def test_table_is_stored_not_computed():
-    # IEC 60063 (check-values §1, status b): these members differ from round(10**(k/24), 1).
+    # IEC 60063 (from memory): these members differ from round(10**(k/24), 1).
     computed = {round(10 ** (k / 24), 1) for k in range(24)}
     stored = set(es.values("E24", 1, 9.99))
     for v in (2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 8.2):
@@ -105,7 +105,7 @@ def test_above_below_match_eseries(name):
 
 
 def test_documented_eseries_examples():
-    # [eseries] documented examples (check-values §1)
+    # [eseries] documented examples (pypi.org/project/eseries; read in the source and reproduced)
     assert es.above("E96", 184) == find_greater_than_or_equal(E96, 184) == 187.0
     assert es.nearest("E24", 319) == find_nearest(E24, 319) == 330.0
 
@@ -134,7 +134,7 @@ def test_nearest_agrees_with_eseries_where_rules_agree(name):
 
 
 def test_nearest_is_geometric_at_3590_and_3610():
-    # check-values §1 note: eseries switches at 3600 (linear), geometric mean is 3587.5.
+    # [eseries] switches at 3600 (linear distance; run here), the geometric mean is 3587.5.
     assert find_nearest(E12, 3590) == 3300.0       # [eseries], linear
     assert es.nearest("E12", 3590) == 3900.0       # ratio 3590/3300 = 1.088 > 3900/3590 = 1.086
     assert find_nearest(E12, 3610) == 3900.0       # [eseries]

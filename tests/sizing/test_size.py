@@ -52,7 +52,7 @@ def test_reported_fades_are_what_the_simulator_says(load, fade_in, fade_out, sup
 
 
 def test_saturates_at_minimum_gain_and_minimum_supply():
-    # The rule: Ib ≥ 1.5 · Ic / hFE_min at the minimum supply.
+    # Ib ≥ 1.5 · Ic / hFE_min at the minimum supply (overdrive margin: common practice, no source).
     spec = _spec(LED2X3, 1.5, 4)
     d = size(spec)
     q = d.values.transistor
@@ -72,7 +72,7 @@ def test_saturates_at_minimum_gain_and_minimum_supply():
 
 
 def test_led_series_resistor_follows_the_standard_formula():
-    # R = (Vs - n·Vf - Vce(sat)) / I (components101 "5mm round LED"; check-values §9),
+    # R = (Vs - n·Vf - Vce(sat)) / I (components101.com "5mm round LED"; read in the source),
     # with Vce(sat) taken as 0.2 V, then the next E24 value up.
     d = size(_spec(LED2X3, 1.5, 4))
     r = (12.0 - 3 * 3.1 - 0.2) / 0.020
@@ -82,7 +82,7 @@ def test_led_series_resistor_follows_the_standard_formula():
 
 def test_a_12v_led_at_20ma_takes_about_470_to_510_ohm():
     # One red LED (2.0 V) at 20 mA on 12 V takes a resistor near 470-510 Ω (common practice, no source;
-    # andromeda.df.lu.lv "LED notes" lists 510 Ω for 2.1 V, check-values §9).
+    # andromeda.df.lu.lv "LED notes" lists 510 Ω for 2.1 V, read in the source).
     d = size(_spec(LED1, 1.5, 4))
     assert 470.0 <= d.values.r_led_ohm <= 510.0
 
@@ -124,7 +124,7 @@ def test_a_lower_bleed_resistor_shortens_the_fade_out():
 def test_ratings_cover_the_maximum_supply():
     d = size(_spec(LED2X3, 1.5, 4))
     c1 = d.netlist.part("C1")
-    assert c1.rating_v * 0.8 >= 14.6  # working voltage ≤ 80 % of rating (check-values §10, common practice)
+    assert c1.rating_v * 0.8 >= 14.6  # working voltage ≤ 80 % of rating (common practice, no source)
     for p in d.netlist.parts:
         if p.kind == "resistor":
             assert p.rating_w in (0.25, 0.5, 1.0, 2.0, 3.0)
@@ -149,5 +149,5 @@ def test_unknown_topology_is_bad_input():
 
 
 def test_catalog_minimum_gain_is_what_the_sizer_uses():
-    # BC337-40 hFE 250-630 at 100 mA / 1 V (onsemi BC337/D, check-values §8).
+    # BC337-40 hFE 250-630 at 100 mA / 1 V (onsemi BC337/D data sheet; read in the source).
     assert catalog.transistor("BC337-40").hfe_min_at(0.1) == pytest.approx(250)

@@ -79,7 +79,7 @@ def test_a_starved_base_loses_yield(design):
 
 
 def test_thermal_steady_state_is_ta_plus_p_times_rthja():
-    # Tj = Ta + P·RθJA; BC337 TO-92: RθJA 200 °C/W, RθJC 83.3 °C/W (onsemi BC337/D, check-values §5).
+    # Tj = Ta + P·RθJA; BC337 TO-92: RθJA 200 °C/W, RθJC 83.3 °C/W (onsemi BC337/D data sheet; read in the source).
     q = catalog.transistor("BC337-40")
     net = thermal.network(package=q.package, rth_jc_c_per_w=q.rth_jc_c_per_w, rth_ja_c_per_w=q.rth_ja_c_per_w)
     assert q.rth_ja_c_per_w == 200.0

@@ -45,7 +45,7 @@ __all__ = [
 
 #: Where a datasheet states no maximum hFE, the maximum is taken as this many times the
 #: minimum (or the largest maximum stated anywhere on the sheet, whichever is greater).
-#: Common practice, not a datasheet figure (check-values status c).
+#: Common practice, no source; not a datasheet figure.
 HFE_MAX_FACTOR = 3.0
 
 
@@ -267,7 +267,7 @@ class CapacitorSeries:
     def rating_for(self, working_v: float, *, derating: float = 0.8) -> float:
         """Smallest stocked rating with ``working_v`` ≤ ``derating`` × rating.
 
-        The 80 % working-voltage margin is common practice (check-values §10, c).
+        The 80 % working-voltage margin is common practice, no source.
         """
         for v in self.ratings_v:
             if working_v <= derating * v * (1 + 1e-12):
