@@ -32,7 +32,15 @@ from sheetgen.cli import main  # noqa: E402
 LINE_RE = re.compile(r"^error: (?P<file>.+?):\d+: \S")
 
 
-def run(kind: str, strategy, argv_for, cases: int) -> None:
+def reference_s() -> float:
+    """Seconds for `check` of a shipped example, measured in this run: the yardstick for the slowest case."""
+    start = time.perf_counter()
+    with contextlib.redirect_stderr(io.StringIO()), contextlib.redirect_stdout(io.StringIO()):
+        main(["check", str(ROOT / "examples" / "camper-van-step-light.yaml")])
+    return time.perf_counter() - start
+
+
+def run(kind: str, strategy, argv_for, cases: int, reference: float) -> None:
     exits: Counter[int] = Counter()
     slowest = (0.0, "")
     broken: list[tuple[str, str]] = []
@@ -70,7 +78,7 @@ def run(kind: str, strategy, argv_for, cases: int) -> None:
 
     case()
     print(f"{kind}: {sum(exits.values())} cases; exits {dict(sorted(exits.items()))}; "
-          f"slowest {slowest[0]:.2f} s")
+          f"slowest {slowest[0]:.2f} s ({slowest[0] / reference:.1f} x the example's check)")
     (work / "slowest.yaml").write_text(slowest[1], encoding="utf-8", errors="surrogatepass")
     for path, message in broken:
         print(f"  broken: {path}: {message}")
@@ -78,12 +86,15 @@ def run(kind: str, strategy, argv_for, cases: int) -> None:
 
 def main_() -> None:
     cases = int(sys.argv[1]) if len(sys.argv) > 1 else 1000
-    run("spec", specs, {"file": "spec.yaml", "argv": lambda w, p: ["check", str(p)]}, cases)
+    reference = reference_s()
+    print(f"reference: check of camper-van-step-light.yaml {reference:.2f} s")
+    run("spec", specs, {"file": "spec.yaml", "argv": lambda w, p: ["check", str(p)]}, cases, reference)
     run("event", events, {"file": "night.yaml",
-                          "argv": lambda w, p: ["pack", str(p), "-o", str(w / "out"), "--jobs", "1"]}, cases)
+                          "argv": lambda w, p: ["pack", str(p), "-o", str(w / "out"), "--jobs", "1"]}, cases,
+        reference)
     run("layout", layouts, {"file": "mine.yaml",
                             "argv": lambda w, p: ["build", str(w / "van.yaml"), "--layout", str(p),
-                                                  "-o", str(w / "out.pdf")]}, cases)
+                                                  "-o", str(w / "out.pdf")]}, cases, reference)
 
 
 if __name__ == "__main__":

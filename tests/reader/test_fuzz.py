@@ -58,13 +58,18 @@ def test_any_spec_file_gives_a_clean_outcome(tmp_path_factory, capsys, no_sizing
     _outcome(capsys, ["check", str(path)], "van.yaml")
 
 
+def _beside_a_spec(tmp_path_factory, kind: str, name: str, text: str):
+    """A fresh folder holding a valid spec (van.yaml) and the fuzzed file ``name``."""
+    folder = tmp_path_factory.mktemp(kind)
+    (folder / "van.yaml").write_text(SPEC_SEEDS[0], encoding="utf-8")
+    (folder / name).write_text(text, encoding="utf-8", errors="surrogatepass")
+    return folder, folder / name
+
+
 @FUZZ
 @given(text=events)
 def test_any_event_file_gives_a_clean_outcome(tmp_path_factory, capsys, no_sizing, text):
-    folder = tmp_path_factory.mktemp("event")
-    (folder / "van.yaml").write_text(SPEC_SEEDS[0], encoding="utf-8")
-    path = folder / "night.yaml"
-    path.write_text(text, encoding="utf-8", errors="surrogatepass")
+    folder, path = _beside_a_spec(tmp_path_factory, "event", "night.yaml", text)
     _outcome(capsys, ["pack", str(path), "-o", str(folder / "out"), "--jobs", "1"], "night.yaml")
     assert not (folder / "out").exists()
 
@@ -72,10 +77,7 @@ def test_any_event_file_gives_a_clean_outcome(tmp_path_factory, capsys, no_sizin
 @FUZZ
 @given(text=layouts)
 def test_any_layout_file_gives_a_clean_outcome(tmp_path_factory, capsys, no_sizing, text):
-    folder = tmp_path_factory.mktemp("layout")
-    (folder / "van.yaml").write_text(SPEC_SEEDS[0], encoding="utf-8")
-    path = folder / "mine.yaml"
-    path.write_text(text, encoding="utf-8", errors="surrogatepass")
+    folder, path = _beside_a_spec(tmp_path_factory, "layout", "mine.yaml", text)
     _outcome(capsys, ["build", str(folder / "van.yaml"), "--layout", str(path), "-o", str(folder / "x.pdf")],
              "mine.yaml")
     assert not (folder / "x.pdf").exists()
