@@ -7,11 +7,12 @@ progress bar on a terminal.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import sys
 from pathlib import Path
 
-from sheetgen.errors import SpecError
+from sheetgen.errors import SheetgenError, SpecError
 from sheetgen.inputs.event import Event
 from sheetgen.pack import batch
 from sheetgen.pack.plan import PACK_FILES, design_failure, plan_pack
@@ -50,6 +51,30 @@ def _progress(total: int):
                 leave=False, dynamic_ncols=True)
 
 
+@contextlib.contextmanager
+def _naming_the_design(plan, layout, render_one):
+    """A page that cannot be laid out is bad input for that layout: find the design it fails on and name it.
+
+    Only on failure is each design rendered alone (``render_one``) to find the one at fault.
+    """
+    try:
+        yield
+    except SheetgenError:
+        raise
+    except Exception as exc:
+        culprit = None
+        for design in plan.designs:
+            try:
+                render_one(design)
+            except Exception:
+                culprit = design
+                break
+        build = culprit.builds[0] if culprit is not None else None
+        who = f"{build.where} ({build.spec_label}): kit {culprit.letter}: " if build is not None else ""
+        raise SpecError(f"{who}{layout.source}: this layout cannot set the design's pages "
+                        f"({excerpt(f'{type(exc).__name__}: {exc}', 120)[1:-1]}); try a shipped layout") from None
+
+
 def make_pack(event: Event, *, sheet_layout, card_layout, output: str | os.PathLike[str],
               jobs: int | None) -> list[Path]:
     """Size, render and write the pack of a checked ``event``; the three paths written."""
@@ -77,10 +102,15 @@ def make_pack(event: Event, *, sheet_layout, card_layout, output: str | os.PathL
         cards = [Card(report=c.report, design=c.design, name=c.name, place=c.place, event=c.event)
                  for c in plan.cards]
         bar.set_description_str("cards")
-        cards_pdf = render_cards(cards, card_layout, title=event.title, on_design=lambda _d: bar.update())
+        with _naming_the_design(plan, card_layout,
+                                lambda d: render_cards([c for c in cards if c.design == d.letter], card_layout,
+                                                       title=event.title)):
+            cards_pdf = render_cards(cards, card_layout, title=event.title, on_design=lambda _d: bar.update())
         bar.set_description_str("booklet")
         sheets = sum(-(-d.kits // card_layout.per_sheet) for d in plan.designs)
-        booklet = render_booklet(event, list(plan.designs), kit, sheet_layout, card_layout, card_sheets=sheets)
+        with _naming_the_design(plan, sheet_layout,
+                                lambda d: render_booklet(event, [d], kit, sheet_layout, card_layout, card_sheets=1)):
+            booklet = render_booklet(event, list(plan.designs), kit, sheet_layout, card_layout, card_sheets=sheets)
         bar.update()
         bar.set_description_str("writing")
         paths = atomic_write_files(folder, dict(zip(PACK_FILES, (booklet, cards_pdf, kit_csv(kit)))))

@@ -135,3 +135,23 @@ def test_workers_go_quietly_with_their_parent(tmp_path):
     child.kill()
     out, err = child.communicate(timeout=60)  # the pipe closes only once every worker is gone as well
     assert "Traceback" not in err and "BrokenPipe" not in err, err
+
+
+def test_a_layout_failure_on_one_design_names_it_and_exits_2(tmp_path, sized, monkeypatch, capsys):
+    from sheetgen.outputs.pdf import cards as cards_module
+
+    real = cards_module.render_cards
+
+    def fussy(cards, layout, **kw):  # a renderer that cannot set the railway design on this layout
+        if any(c.report.design.spec.title == "Model railway station lamp" or "railway" in
+               c.report.design.spec.title.lower() for c in cards):
+            raise ValueError("flowable given negative availWidth")
+        return real(cards, layout, **kw)
+
+    monkeypatch.setattr(cards_module, "render_cards", fussy)
+    event = _event(tmp_path, "  - spec: camper-van-step-light.yaml\n    count: 1\n"
+                             "  - spec: model-railway-station.yaml\n    count: 2\n")
+    assert main(["pack", str(event), "-o", str(tmp_path / "out"), "--jobs", "1"]) == 2
+    err = capsys.readouterr().err
+    assert "night.yaml:5: builds[1] (model-railway-station.yaml): kit B: layouts/a6-card.yaml" in err, err
+    assert not (tmp_path / "out").exists()
