@@ -3,7 +3,8 @@
     python benchmarks/bench_tolerance.py [SPEC] [--ngspice-sample K]
 
 ngspice runs K of the decks (default 25) and its time is scaled to 1,000; the
-target is under 1 s for our batch and at least 20× faster than ngspice.
+target is under 1 s for our batch and at least 100× faster than ngspice (the draws only:
+the corner cases are not in this batch yet).
 """
 
 from __future__ import annotations
@@ -52,7 +53,7 @@ def main() -> None:
             subprocess.run(["ngspice", "-b", str(path)], capture_output=True, check=True)
         ng = (time.perf_counter() - t0) / k * DRAWS
     print(f"ngspice, {k} decks run, scaled to {DRAWS}: {ng:.1f} s")
-    print(f"speed-up: {ng / ours:.0f}×  (target ≥ 20×)")
+    print(f"speed-up: {ng / ours:.0f}×  (target ≥ 100×: {'met' if ng / ours >= 100 else 'NOT met'})")
 
 
 if __name__ == "__main__":

@@ -27,27 +27,21 @@ def _spec(path: str):
     return load_spec(path, topologies=_topologies())
 
 
-def _design(path: str):
-    from sheetgen.sizing.size import size
-
-    return size(_spec(path))
-
-
 def cmd_size(args) -> int:
-    from sheetgen.sizing.analyse import analyse
     from sheetgen.outputs.export import report_json
     from sheetgen.outputs.summary import summary_text
+    from sheetgen.sizing.cache import report_for
 
-    report = analyse(_design(args.spec))
+    report = report_for(_spec(args.spec))
     print(report_json(report) if args.json else summary_text(report))
     return EXIT_OK
 
 
 def cmd_check(args) -> int:
-    from sheetgen.sizing.size import size
+    from sheetgen.sizing.cache import design_for
 
     spec = _spec(args.spec)
-    design = size(spec)
+    design = design_for(spec)
     print(f"{args.spec}: OK: {design.topology.title} with {design.values.transistor.part_number}; "
           f"fade-in {design.fade_in_s:.2f} s (asked {spec.fade_in_s:g} s), "
           f"fade-out {design.fade_out_s:.2f} s (asked {spec.fade_out_s:g} s)")
@@ -55,16 +49,15 @@ def cmd_check(args) -> int:
 
 
 def _sheet(spec, *, layout, out: str) -> int:
-    """Check the output path first, then size, analyse and write the sheet (or a sheet of cards)."""
-    from sheetgen.sizing.analyse import analyse
+    """Check the output path first, then size, analyse (or find the stored design) and write the sheet or cards."""
     from sheetgen.inputs.layout import CardLayout
     from sheetgen.outputs.pdf.sheet import build_sheet, sheet_date
     from sheetgen.outputs.write import atomic_write, check_writable
-    from sheetgen.sizing.size import size
+    from sheetgen.sizing.cache import report_for
 
     check_writable(out)
     sheet_date()  # a malformed SOURCE_DATE_EPOCH is bad input: say so before the slow part
-    report = analyse(size(spec))
+    report = report_for(spec)
     if isinstance(layout, CardLayout):
         from sheetgen.outputs.pdf.cards import render_cards, single_design_cards
 
@@ -84,6 +77,9 @@ def cmd_build(args) -> int:
     layout = load_layout(args.layout)
     suffix = "-cards.pdf" if isinstance(layout, CardLayout) else ".pdf"
     out = args.output or f"{Path(args.spec).stem}{suffix}"
+    if Path(out).suffix.lower() != ".pdf":
+        raise SpecError(f"-o {out}: the sheet is a PDF; give a name ending in .pdf "
+                        f"(e.g. {Path(out).with_suffix('.pdf').name})")
     if Path(out).resolve() == Path(args.spec).resolve():
         raise SpecError(f"-o {out}: would overwrite the spec itself; give a .pdf name")
     return _sheet(spec, layout=layout, out=out)
@@ -103,10 +99,13 @@ def cmd_pack(args) -> int:
     from sheetgen.outputs.pack import make_pack
 
     event = load_event(args.event, topologies=_topologies())
-    paths = make_pack(event, sheet_layout=load_sheet_layout(args.layout), card_layout=load_card_layout(args.cards),
-                      output=args.output, jobs=args.jobs)
-    for path in paths:
+    for warning in event.warnings:
+        print(f"warning: {warning}", file=sys.stderr)
+    made = make_pack(event, sheet_layout=load_sheet_layout(args.layout), card_layout=load_card_layout(args.cards),
+                     output=args.output, jobs=args.jobs, use_cache=not args.no_cache)
+    for path in made.paths:
         print(path)
+    print(made.line)
     return EXIT_OK
 
 
@@ -150,14 +149,18 @@ def parser() -> argparse.ArgumentParser:
     k.add_argument("--cards", metavar="NAME|FILE", help="card layout for the cards (default a6-card; "
                                                         "4x6-card for US Letter)")
     k.add_argument("--jobs", type=int, metavar="N",
-                   help="designs sized at once in separate processes (default: one per core, at most one per "
-                        "design)")
+                   help="designs sized, and documents rendered, at once in separate processes (default: one per "
+                        "core, at most one per design not yet cached; one when the machine is swamped)")
     k.set_defaults(func=cmd_pack)
 
     d = sub.add_parser("demo", help="write the sheet of a built-in scenario into the current folder",
                        description="Size a built-in scenario (a camper van awning light), write its build sheet "
                                    "to sheetgen-demo.pdf in the current folder and print the path.")
     d.set_defaults(func=cmd_demo)
+    for command in (s, c, b, k, d):
+        command.add_argument("--no-cache", action="store_true",
+                             help="size and analyse afresh, neither reading nor writing the design cache "
+                                  "(kept in the user's cache folder, or in $SHEETGEN_CACHE_DIR)")
     return p
 
 
@@ -192,6 +195,9 @@ def main(argv: list[str] | None = None) -> int:
     args = parser().parse_args(argv)
     previous = _catch_signals()
     try:
+        from sheetgen.sizing.cache import bypass
+
+        bypass(args.no_cache)
         return args.func(args)
     except SpecError as exc:
         for line in exc.problems:

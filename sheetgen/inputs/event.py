@@ -6,11 +6,13 @@ The file (YAML; unknown keys are an error, as in a spec)::
     date: 2027-03-20                   # optional, an ISO date
     venue: Community workshop, room 2  # optional, one line
     spares: 10 %                       # optional (default 0 %): extra parts per kit-list line, rounded up
+    board: perfboard                   # optional: the board every build uses tonight, over its spec's board:
     builds:                            # required, one entry per group building one design
       - spec: cabinet.yaml             # a spec file, relative to this file; or
         builders: [Ana, Bo]            #   names printed on their cards exactly as written
       - design: {supply: 12 V, ...}    # an inline spec (the spec file's keys), instead of spec:
-        count: 7                       #   or this many unnamed builders ("Builder 3 of 7")
+        count: 7                       #   or this many unnamed builders ("Builder 3 of 7");
+                                       #   beside builders:, that many unnamed places after the names
 
 Every problem is reported at once, one a line, as ``file:line: key.path: what``
 with the build named by its place in the list (``builds[1].count``, from 0),
@@ -24,7 +26,8 @@ from __future__ import annotations
 import datetime as _dt
 import os
 import re
-from dataclasses import dataclass
+import unicodedata
+from dataclasses import dataclass, replace
 from decimal import Decimal, InvalidOperation
 from fractions import Fraction
 from pathlib import Path
@@ -32,10 +35,10 @@ from pathlib import Path
 from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
 
 from sheetgen.errors import SpecError
-from sheetgen.inputs.spec import Spec, load_spec, spec_from_node
+from sheetgen.inputs.spec import BOARDS, Spec, load_spec, spec_from_node
 from sheetgen.reader.files import read_text
 from sheetgen.reader.text import line_problem
-from sheetgen.reader.yamltree import Problems, compose, excerpt, mapping
+from sheetgen.reader.yamltree import Problems, compose, excerpt, mapping, suggest
 
 __all__ = ["Builder", "Build", "Event", "load_event", "parse_event", "NAME_MAX_CHARS", "COUNT_MAX"]
 
@@ -43,7 +46,7 @@ NAME_MAX_CHARS = 60  # two lines on the narrowest card at a readable size
 TEXT_MAX_CHARS = 120
 COUNT_MAX = 500  # builders in one build: a big club night, not a production run
 BUILDERS_MAX = 2000  # over the whole event
-_TOP_KEYS = ("title", "date", "venue", "spares", "builds")
+_TOP_KEYS = ("title", "date", "venue", "spares", "board", "builds")
 _BUILD_KEYS = ("spec", "design", "builders", "count")
 _PERCENT_RE = re.compile(r"\s*(?P<num>\d{1,3}(?:\.\d{1,3})?)\s*%\s*")
 
@@ -95,6 +98,7 @@ class Event:
     spares: Fraction  # 0.1 for "10 %"
     spares_text: str  # as written, for printing
     builds: tuple[Build, ...]
+    warnings: tuple[str, ...] = ()  # not errors, but worth a look before printing (a name given twice)
 
     @property
     def builder_count(self) -> int:
@@ -130,12 +134,35 @@ def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".",
     spares, spares_text = (_spares(top["spares"][1], problems) if "spares" in top else (Fraction(0), "0 %"))
     reader = _SpecReader(source, Path(folder), topologies)
     builds = _builds(top["builds"][1], reader, problems) if "builds" in top else ()
+    if "board" in top:
+        board = _board(top["board"][1], problems)
+        if board:
+            builds = tuple(replace(b, spec=replace(b.spec, board=board)) for b in builds)
     total = sum(len(b.builders) for b in builds)
     if total > BUILDERS_MAX:
         problems.add(top["builds"][1], "builds", f"{total} builders in all; one pack holds at most {BUILDERS_MAX}")
     problems.raise_if_any()
     return Event(source=source, title=title, date=date, venue=venue, spares=spares, spares_text=spares_text,
-                 builds=builds)
+                 builds=builds, warnings=_repeated_names(builds))
+
+
+def _repeated_names(builds: tuple[Build, ...]) -> tuple[str, ...]:
+    """A name given twice (ignoring case and Unicode spelling) makes two cards nobody can tell apart."""
+    first: dict[str, tuple[Build, Builder]] = {}
+    out = []
+    for build in builds:
+        for b in build.builders:
+            if b.name is None:
+                continue
+            key = unicodedata.normalize("NFC", b.name).casefold().strip()
+            if key in first:
+                was_build, was = first[key]
+                out.append(f"{build.source}:{b.line}: builds[{build.index}].builders[{b.number - 1}]: "
+                           f"{excerpt(b.name)} is named already (builds[{was_build.index}].builders[{was.number - 1}], "
+                           f"line {was.line}); two cards will carry the same name")
+            else:
+                first[key] = (build, b)
+    return tuple(out)
 
 
 # ----------------------------------------------------------------- checking
@@ -177,6 +204,19 @@ def _date(node: Node, problems: Problems) -> _dt.date | None:
     except ValueError:
         problems.add(node, "date", f"{excerpt(text)} is not a date; write it as year-month-day, e.g. 2027-03-20")
         return None
+
+
+def _board(node: Node, problems: Problems) -> str | None:
+    """The night's board for every build: stripboard or perfboard."""
+    text = _text(node, "board", problems)
+    if text is None:
+        return None
+    if text.strip().lower() not in BOARDS:
+        hint = suggest(text.strip().lower(), BOARDS)
+        problems.add(node, "board", f"{excerpt(text)} is not a board; use stripboard or perfboard"
+                                    + (f" (did you mean `{hint}`?)" if hint else ""))
+        return None
+    return text.strip().lower()
 
 
 def _spares(node: Node, problems: Problems) -> tuple[Fraction, str]:
@@ -253,8 +293,13 @@ def _build(node: Node, i: int, reader: _SpecReader, problems: Problems) -> Build
     else:
         problems.add(node, key, "needs spec: (a spec file, relative to this file) or design: (an inline spec)")
     builders: tuple[Builder, ...] = ()
-    if "builders" in fields and "count" in fields:
-        problems.add(fields["count"][0], f"{key}.count", "give builders: (names) or count: (unnamed), not both")
+    if "builders" in fields and "count" in fields:  # the names, then that many unnamed places
+        named = _names(fields["builders"][1], key, problems)
+        extra = _count(fields["count"][1], key, problems)
+        if named and extra:
+            total = len(named) + len(extra)
+            builders = tuple(Builder(name=b.name, line=b.line, number=k + 1, of=total)
+                             for k, b in enumerate((*named, *extra)))
     elif "builders" in fields:
         builders = _names(fields["builders"][1], key, problems)
     elif "count" in fields:

@@ -28,6 +28,7 @@ from pathlib import Path
 from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
 
 from sheetgen.errors import SpecError
+from sheetgen.inputs.blocknames import CARD_BLOCKS, SHEET_BLOCKS
 from sheetgen.reader.files import read_text
 from sheetgen.reader.text import line_problem
 from sheetgen.reader.yamltree import Problems, compose, excerpt, given_twice, mapping, suggest
@@ -49,14 +50,14 @@ __all__ = [
     "parse_layout",
 ]
 
-#: Every block a layout may place; the renderer has one flowable for each.
-BLOCK_NAMES = ("summary", "schematic", "parts", "timing", "heat", "bench", "tuning", "wiring", "cautions")
+#: Every block a layout may place; the renderer registers one flowable for each.
+BLOCK_NAMES = SHEET_BLOCKS.names
 
 #: Blocks every sheet must carry, whatever the layout says.
 REQUIRED_BLOCKS = ("cautions",)
 
 #: Every block a card layout may place, on its front or back.
-CARD_BLOCK_NAMES = ("schematic", "parts", "harness", "steps", "readings", "cautions")
+CARD_BLOCK_NAMES = CARD_BLOCKS.names
 
 #: Paper sizes (width, height) in points, portrait.
 PAGE_SIZES_PT = {"A4": (595.2756, 841.8898), "letter": (612.0, 792.0)}

@@ -106,6 +106,7 @@ class Spec:
     ambient_c: float = 25.0  # worst-case air temperature around the box
     topology: str = "auto"  # "auto" or the name of a topology to force
     install: str = "vehicle"  # where it goes: vehicle | boat | building | bench (chooses the cautions)
+    board: str = "stripboard"  # what the builder solders on: stripboard (copper strips) | perfboard (a pad per hole)
     source: str = ""  # file path or "<built-in>", for messages
 
 
@@ -270,9 +271,10 @@ def _check_keys(
             p.add(key_path, unknown_key(name, known))
 
 
-def _quantity(p: _Problems, value: Any, path: tuple[str, ...], unit: str) -> float | None:
+def _quantity(p: _Problems, value: Any, path: tuple[str, ...], unit: str, *,
+              typical: float | None = None) -> float | None:
     try:
-        return parse_quantity(value, unit, key=p.key(path))
+        return parse_quantity(value, unit, key=p.key(path), typical=typical)
     except SpecError as exc:
         for problem in exc.problems:
             p.add_keyed(path, problem)
@@ -335,10 +337,11 @@ def _voltage(p: _Problems, value: Any, path: tuple[str, ...]) -> float | None:
     return volts
 
 
-_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install")
+_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install", "board")
 INSTALLS = ("vehicle", "boat", "building", "bench")
+BOARDS = ("stripboard", "perfboard")
 _SUPPLY_KEYS = ("nominal", "min", "max")
-_LED_KEYS = ("kind", "current", "vf", "colour", "per_string", "strings")
+_LED_KEYS = ("kind", "current", "vf", "colour", "color", "per_string", "strings")
 _LAMP_KEYS = ("kind", "power", "current", "rated", "count")
 _FADE_KEYS = ("in", "out")
 _TRIGGERS = ("positive", "ground")
@@ -375,6 +378,7 @@ def _build(data: Any, p: _Problems) -> Spec:
     ambient_c = _ambient(p, data)
     topology = _topology(p, data)
     install = _install(p, data)
+    board = board_kind(p, data.get("board"), ("board",)) if "board" in data else "stripboard"
     p.raise_if_any()
     return Spec(
         title=title,
@@ -386,6 +390,7 @@ def _build(data: Any, p: _Problems) -> Spec:
         ambient_c=ambient_c,
         topology=topology,
         install=install,
+        board=board,
         source=p.source,
     )
 
@@ -514,25 +519,28 @@ def _led(p: _Problems, raw: dict, path: tuple[str, ...], supply: Supply | None) 
 
     current = None
     if "current" in raw:
-        current = _quantity(p, raw["current"], path + ("current",), "A")
+        current = _quantity(p, raw["current"], path + ("current",), "A", typical=0.02)
         current = _in_range(p, current, path + ("current",), "A", 1e-3, 3.0, " (per string)")
     else:
         p.add(path, "missing `current:` (per string), e.g. current: 20 mA")
 
     colour = None
     colour_vf = None
-    if "colour" in raw:
-        name = _text(p, raw, path + ("colour",))
+    spelt = "color" if "color" in raw else "colour"  # either spelling; the message names the one written
+    if "color" in raw and "colour" in raw:
+        p.add(path + ("color",), "is given twice, as colour: and color:; keep one")
+    elif spelt in raw:
+        name = _text(p, raw, path + (spelt,))
         if name:
-            colour, colour_vf = _colour_vf(p, name.lower(), path + ("colour",), vf_given="vf" in raw)
+            colour, colour_vf = _colour_vf(p, name.lower(), path + (spelt,), vf_given="vf" in raw)
         elif name == "":
-            p.add(path + ("colour",), "is empty; name an LED colour or give vf:")
+            p.add(path + (spelt,), "is empty; name an LED colour or give vf:")
 
     vf = None
     if "vf" in raw:
         vf = _quantity(p, raw["vf"], path + ("vf",), "V")
         vf = _in_range(p, vf, path + ("vf",), "V", 0.5, 12.0, " (forward voltage of one LED)")
-    elif "colour" not in raw:
+    elif spelt not in raw:
         p.add(path, "needs `vf:` (one LED's forward voltage, e.g. vf: 3.1 V) or `colour:` (e.g. colour: white)")
     else:
         vf = colour_vf
@@ -663,6 +671,21 @@ def _install(p: _Problems, data: dict) -> str:
         p.add(("install",), f'{excerpt(value)} is not a place; use one of {", ".join(INSTALLS)}{hint}')
         return "vehicle"
     return value.lower()
+
+
+def board_kind(p: _Problems, value: Any, path: tuple[str, ...]) -> str:
+    """``board:``: stripboard or perfboard (an event file checks its own key with this too)."""
+    if not isinstance(value, str):
+        p.add(path, f"must be stripboard or perfboard, got {_describe(value)}")
+        return "stripboard"
+    word = value.strip().lower()
+    if word in BOARDS:
+        return word
+    close = difflib.get_close_matches(word, BOARDS, n=1, cutoff=0.5)
+    hint = f"; did you mean `{close[0]}`?" if close else ""
+    p.add(path, f'"{value}" is not a board; use stripboard (copper strips along the rows) or perfboard '
+                f"(a pad per hole){hint}")
+    return "stripboard"
 
 
 def _topology(p: _Problems, data: dict) -> str:

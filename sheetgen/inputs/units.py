@@ -138,8 +138,18 @@ def _normalise(text: str) -> str:
     return out
 
 
-def _example(number: str, unit: str, prefix: str = "") -> str:
-    """An example spelling for a hint, keeping the user's number and prefix where sensible."""
+def _example(number: str, unit: str, prefix: str = "", typical: float | None = None) -> str:
+    """An example spelling for a hint, keeping the user's number and prefix where sensible.
+
+    Without a sensible prefix of their own, ``typical`` (the key's usual size in the base
+    unit) picks one: ``current: 20 Ω`` for an LED hints "20 mA", not "20 A".
+    """
+    if typical is not None and (prefix == "" or prefix not in _HINT_PREFIXES[unit]):
+        try:
+            size = abs(float(number.replace(" ", ""))) or 1.0
+        except ValueError:
+            size = 1.0
+        prefix = min(_HINT_PREFIXES[unit], key=lambda x: abs(math.log10(size * 10.0 ** _PREFIX[x] / typical)))
     if prefix not in _HINT_PREFIXES[unit]:
         return f"{number} {_WRITE_IN[unit][0]}"
     if prefix == "u":
@@ -155,7 +165,7 @@ def _quoted(raw: object) -> str:
     return excerpt(raw)
 
 
-def _parse(raw: object, unit: str) -> float:
+def _parse(raw: object, unit: str, typical: float | None = None) -> float:
     """Parse one quantity; raise ValueError with a message that lacks only the key."""
     what = BASE_UNITS[unit]
     if isinstance(raw, bool):
@@ -207,11 +217,13 @@ def _parse(raw: object, unit: str) -> float:
     if suffix == "":
         raise ValueError(f"{_quoted(raw)} has no unit; write {_bare_hint(number_text, unit)}")
 
+    if unit == "degC" and suffix in (f"{DEGREE}F", "degF", "F", "\u2109"):  # Fahrenheit, converted exactly
+        return float((number - 32) * 5 / 9)
     found_unit, factor, prefix = _split_suffix(suffix)
     if found_unit is None:
         # A prefix with no unit symbol: "4.7k" is a resistor value as the trade writes it.
-        if unit == "degC" and suffix in ("K", "F", f"{DEGREE}F", "degF"):
-            raise ValueError(f"{_quoted(raw)}: write the temperature in {DEGREE}C (e.g. 40 {DEGREE}C)")
+        if unit == "degC" and suffix == "K":
+            raise ValueError(f"{_quoted(raw)}: write the temperature in {DEGREE}C or {DEGREE}F (e.g. 40 {DEGREE}C)")
         if suffix in _PREFIX and unit in ("ohm", "F"):
             return _scaled(number, _PREFIX[suffix], 1.0)
         if suffix in _PREFIX:
@@ -223,7 +235,7 @@ def _parse(raw: object, unit: str) -> float:
     if found_unit != unit:
         raise ValueError(
             f"{_quoted(raw)} is not a {what}; write it in {_write_in(unit)} "
-            f"(e.g. {_example(number_text, unit, prefix)})"
+            f"(e.g. {_example(number_text, unit, prefix, typical)})"
         )
     return _scaled(number, _PREFIX[prefix], factor)
 
@@ -280,18 +292,19 @@ def _bare_hint(number: str, unit: str) -> str:
     return first
 
 
-def parse_quantity(text: object, unit: str, *, key: str) -> float:
+def parse_quantity(text: object, unit: str, *, key: str, typical: float | None = None) -> float:
     """Read a quantity such as ``20 mA`` or ``4k7`` into the SI base ``unit``.
 
     The unit must be written: a bare number is refused because a fader sized
     for 20 A instead of 20 mA is the costly kind of typo.  Negative values
     pass; range checks belong to the caller.  Raises ``SpecError`` whose one
-    problem starts with ``key``.
+    problem starts with ``key``; ``typical`` (the key's usual size, base unit) shapes its hint.
+    Temperatures in °F are converted to °C.
     """
     if unit not in BASE_UNITS:
         raise ValueError(f"unknown base unit {unit!r}; expected one of {', '.join(BASE_UNITS)}")
     try:
-        return _parse(text, unit)
+        return _parse(text, unit, typical)
     except ValueError as exc:
         raise SpecError([f"{key}: {exc}"]) from None
 

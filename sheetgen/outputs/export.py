@@ -72,6 +72,7 @@ def report_dict(report: Report) -> dict:
         "standby_a": report.standby_a,
         "wiring": list(report.wiring),
         "cautions": list(report.cautions),
+        "board": report.board.as_dict() if report.board is not None else None,
         "spice": spice_deck(d.netlist),
     }
     return out

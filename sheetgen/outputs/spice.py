@@ -338,7 +338,8 @@ def spice_deck(
 
     lines += ["", "* --- parts ---"]
     for part in netlist.parts:
-        note = " ".join(x for x in (part.role, part.part_number or part.description) if x)
+        # The description says what the part does in its own kind's words (a MOSFET's R3 is a gate resistor).
+        note = ", ".join(dict.fromkeys(x for x in (part.part_number, part.description) if x))
         lines.append(f"* {part.ref}: {note}" if note else f"* {part.ref}")
         pins = " ".join(nodes[n] for n in part.nets)
         if part.kind in ("resistor", "capacitor"):

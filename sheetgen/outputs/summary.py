@@ -5,6 +5,7 @@ from __future__ import annotations
 from sheetgen.sizing.report import Report
 from sheetgen.engine.measure import DEFINITIONS
 from sheetgen.inputs.units import format_quantity
+from sheetgen.outputs.wording import refs_text, standby_text
 
 
 def _value(part) -> str:
@@ -15,6 +16,32 @@ def _value(part) -> str:
         v = f", {part.rating_v:g} V" if part.rating_v else ""
         return f"{format_quantity(part.value, 'F')}{v}"
     return part.part_number or part.description
+
+
+def _drive_line(report: Report) -> str:
+    d = report.design
+    low = d.spec.supply.min_v
+    if d.topology.stage.kind == "mosfet":
+        return f"  gate drive at {low:g} V: {d.overdrive:.2f}× the gate voltage its on-resistance is rated at"
+    return f"  base drive at {low:g} V and minimum gain: {d.overdrive:.2f}× what saturation needs"
+
+
+def _parts_lines(report: Report) -> list[str]:
+    """One line per part role and value (R1 and R2 stay apart though equal), in aligned columns."""
+    groups: dict[tuple, list] = {}
+    for p in report.design.netlist.parts:
+        key = (p.kind, p.value, p.model.name if p.model else None, p.rating_w, p.rating_v, p.description)
+        groups.setdefault(key, []).append(p)
+    rows = []
+    for group in groups.values():
+        p = group[0]
+        if p.kind in ("led", "lamp"):  # the description is the value: say it once
+            rows.append((refs_text([q.ref for q in group]), p.description, "the load"))
+        else:
+            rows.append((refs_text([q.ref for q in group]), _value(p), p.description))
+    w0 = max(len(r[0]) for r in rows)
+    w1 = max(len(r[1]) for r in rows)
+    return [f"    {a:<{w0}}  {b:<{w1}}  {c}" for a, b, c in rows]
 
 
 def summary_text(report: Report) -> str:
@@ -30,25 +57,19 @@ def summary_text(report: Report) -> str:
         f"  load current {format_quantity(d.load_current_a, 'A')} (steady, nominal supply)",
         f"  fade-in  {d.fade_in_s:6.2f} s  (asked {spec.fade_in_s:g} s): {DEFINITIONS['fade_in_s']}",
         f"  fade-out {d.fade_out_s:6.2f} s  (asked {spec.fade_out_s:g} s): {DEFINITIONS['fade_out_s']}",
-        f"  base drive at {s.min_v:g} V and minimum gain: {d.overdrive:.2f}× what saturation needs",
+        _drive_line(report),
         f"  over {sp.draws} tolerance draws (parts, gain, supply, ambient): fade-in {sp.fade_in_s[0]:.2f}–"
         f"{sp.fade_in_s[2]:.2f} s, fade-out {sp.fade_out_s[0]:.2f}–{sp.fade_out_s[2]:.2f} s (5–95 %); "
         f"{sp.full_brightness_yield:.1%} reach full brightness",
         f"  Q1 heat at {h.supply_v:g} V, {h.ambient_c:g} °C: peak {h.peak_power_w:.2f} W while fading, "
         f"{h.steady_power_w:.2f} W fully on; junction up to {h.peak_junction_c:.0f} °C if the feed hovers "
-        + ("(no heatsink needed)" if h.heatsink_c_per_w is None else f"(heatsink ≤ {h.heatsink_c_per_w:.0f} °C/W)"),
+        + ("(no heatsink needed)" if h.heatsink_c_per_w is None else f"(heatsink {h.heatsink_c_per_w:.1f} °C/W or better)"),
         f"  fuse {report.harness.fuse_a:g} A, wire {report.harness.wire_mm2:g} mm² ({report.harness.wire_awg} AWG); "
-        f"standby drain {format_quantity(report.standby_a, 'A')}",
+        f"standby drain {standby_text(report.standby_a)}",
         "",
         "  parts:",
     ]
-    seen = {}
-    for p in d.netlist.parts:
-        key = (p.kind, p.value, p.model.name if p.model else None, p.rating_w)
-        seen.setdefault(key, []).append(p)
-    for group in seen.values():
-        refs = ", ".join(p.ref for p in group)
-        lines.append(f"    {refs:<22} {_value(group[0]):<24} {group[0].description}")
+    lines += _parts_lines(report)
     lines.append("")
     lines += [f"  {r}" for r in d.reasons]
     return "\n".join(lines)

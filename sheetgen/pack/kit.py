@@ -1,8 +1,9 @@
 """The shopping list for a build night: every part of every kit, merged, with spares.
 
 Pure arithmetic over Reports: each design's netlist gives the parts one kit
-holds, its harness and heat give the off-board items (fuse, fuse holder, wire,
-a heatsink where one is needed), and lines that are the same thing to buy
+holds, its harness and heat give the off-board items (board, terminal block,
+fuse, fuse holder, wire, lamp holders, a heatsink and its insulating kit where
+one is needed), and lines that are the same thing to buy
 (same item, value, rating, tolerance and package) are merged across designs.
 
     needed = parts per kit × kits, summed over the designs that use the line
@@ -42,8 +43,8 @@ CSV_COLUMNS = ("item", "value", "rating", "tolerance", "package", "unit", "neede
 _KIND_ITEM = {"resistor": "resistor", "capacitor": "capacitor", "diode": "diode", "led": "LED",
               "npn": "NPN transistor", "pnp": "PNP transistor", "nmos": "N-channel MOSFET", "lamp": "lamp"}
 # Shopping order: board parts by kind, then what goes on or off the board.
-_ORDER = ("resistor", "capacitor", "diode", "npn", "pnp", "nmos", "led", "lamp", "heatsink", "fuse", "fuse holder",
-          "wire")
+_ORDER = ("resistor", "capacitor", "diode", "npn", "pnp", "nmos", "led", "lamp", "board", "terminal block",
+          "lamp holder", "heatsink", "insulating kit", "fuse", "fuse holder", "wire")
 
 
 @dataclass(frozen=True)
@@ -112,10 +113,12 @@ def _part_item(part: Part) -> KitItem:
     elif part.kind == "diode" and "zener" in part.description.lower():
         item = "zener diode"
     elif part.kind == "led":
-        # "white LED, Vf 3 V at 20 mA": the LED is bought by colour and forward voltage; the
-        # current is set by its resistor, so LEDs run at different currents are the same part.
+        # "white LED, Vf 3 V at 20 mA": bought by colour and forward voltage, and rated for at
+        # least the current it runs at.
         colour_led, _, rest = part.description.partition(", ")
-        item, value = colour_led, rest.split(" at ")[0]
+        vf, _, current = rest.partition(" at ")
+        item = colour_led if colour_led != "LED" else "LED, any colour with this Vf"
+        value, rating = vf, f"runs at {current}" if current else ""
     elif part.kind == "lamp":
         value, rating = part.description.replace(" lamp", ""), ""
     return KitItem(kind=part.kind, sort_value=sort_value, item=item, value=value, rating=rating,
@@ -137,6 +140,20 @@ def kit_items(report: Report) -> tuple[KitItem, ...]:
         KitItem(kind="fuse holder", sort_value=h.wire_mm2, item="in-line fuse holder", value="blade fuse",
               rating=f"for {wire} wire", tolerance="", package="in-line", unit="pcs", quantity=1),
     ]
+    runs = len(report.design.topology.wiring)
+    lamps = [p for p in report.design.netlist.parts if p.kind == "lamp"]
+    ways = runs + 2 * len(lamps)
+    extra += [
+        KitItem(kind="board", sort_value=0.0, item="prototype board", value="stripboard or perfboard", rating="",
+                tolerance="", package="", unit="pcs", quantity=1, note="one per kit; cut to the parts"),
+        KitItem(kind="terminal block", sort_value=ways, item="screw terminal block", value=f"{ways}-way",
+                rating=f"for {wire} wire", tolerance="", package="board mount", unit="pcs", quantity=1,
+                note="one position per off-board wire" + (", two per lamp" if lamps else "")),
+    ]
+    for lamp in lamps:
+        extra.append(KitItem(kind="lamp holder", sort_value=lamp.rating_w or 0.0, item="lamp holder",
+                             value=f"for the {lamp.description}", rating="", tolerance="", package="",
+                             unit="pcs", quantity=1, note="rated for the lamp's wattage and base"))
     for net, _what in report.design.topology.wiring:
         colour, run = WIRE_COLOURS.get(net, SWITCHED_COLOUR)
         extra.append(KitItem(kind="wire", sort_value=h.wire_mm2, item=f"wire, {colour}", value=wire,
@@ -148,6 +165,10 @@ def kit_items(report: Report) -> tuple[KitItem, ...]:
         extra.append(KitItem(kind="heatsink", sort_value=sink, item="heatsink", value=f"{sink:.1f} °C/W or better",
                            rating="", tolerance="", package=report.heat.package, unit="pcs", quantity=1,
                            note="for Q1"))
+        # Q1's tab is joined to its collector or drain: a pad and a bush keep the heatsink off that net.
+        extra.append(KitItem(kind="insulating kit", sort_value=0.0, item="insulating kit", value="pad and bush",
+                             rating="", tolerance="", package=report.heat.package, unit="pcs", quantity=1,
+                             note="between Q1's tab and the heatsink"))
     for it in extra:
         got = merged.get(it.key)
         merged[it.key] = it if got is None else _with_quantity(got, got.quantity + it.quantity)

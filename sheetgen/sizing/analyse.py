@@ -11,6 +11,7 @@ from dataclasses import replace
 
 import numpy as np
 
+from sheetgen.board import layout as board_layout
 from sheetgen.parts import catalog
 from sheetgen.engine import devices
 from sheetgen.parts import eseries
@@ -21,7 +22,7 @@ from sheetgen.sizing import tolerance
 from sheetgen.model.netlist import GROUND, Part
 from sheetgen.engine.measure import fade_times
 from sheetgen.sizing.report import BenchReading, Curves, Harness, Heat, Report, ResistorHeat, TuningRow
-from sheetgen.sizing.size import TJ_LIMIT_C, Design, load_line_peak_w
+from sheetgen.sizing.size import C_MAX_F, C_MIN_F, R_BLEED_RANGE, R_CHARGE_RANGE, TJ_LIMIT_C, Design, load_line_peak_w
 from sheetgen.inputs.spec import LampLoad
 
 #: Blade-fuse ratings in amperes (ISO 8820-3 sizes; from memory).
@@ -32,7 +33,8 @@ FUSE_FACTOR = 1.5  # fuse ≈ 1.25-1.5 × load, so it does not blow on warm-up (
 #: AWG areas from the Handbook of Electronic Tables (18 AWG 0.823, 20 AWG 0.518 mm²)
 #: and, for 16 and 14 AWG (1.31, 2.08 mm²), from memory.
 METER_INPUT_OHM = 10e6
-TUNING_PARTS = (("charge", "E12"), ("bleed", "E12"), ("timing", "E6"))
+#: The parts a tuning table offers swaps for, their series, and the range the sizer itself keeps to.
+TUNING_PARTS = (("charge", "E12", R_CHARGE_RANGE), ("bleed", "E12", R_BLEED_RANGE), ("timing", "E6", (C_MIN_F, C_MAX_F)))
 WIRES = ((0.5, 20, 5.0), (0.75, 18, 7.0), (1.0, 16, 9.0), (1.5, 14, 13.0))
 
 
@@ -53,12 +55,23 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
     heat = _heat(design, tr, op_on)
     harness = _harness(float(steady[1]))
     sample = tolerance.draw(design, n=draws, seed=seed)
+    board = _board(design, heat)
     return Report(design=design, curves=curves, steady_a=float(steady[0]), heat=heat, harness=harness,
                   bench=_bench(design, sample), spread=tolerance.spread(design, sample),
                   tuning=_tuning(design), standby_a=_standby(design),
                   wiring=instructions.wiring_steps(design, harness),
                   cautions=instructions.cautions(design, heat),
-                  brief=instructions.brief(design, harness, heat))
+                  brief=instructions.brief(design, harness, heat, board), board=board)
+
+
+def _board(design: Design, heat: Heat):
+    """The build board: the load off it, and the switch too when it must sit on a chassis heatsink."""
+    nl = design.netlist
+    off = [p.ref for p in nl.by_role("load")]
+    if heat.heatsink_c_per_w is not None:
+        off += [p.ref for p in nl.by_role("switch")]
+    labels = {net: what.split(" (")[0] for net, what in design.topology.wiring}
+    return board_layout(nl, kind=design.spec.board, off_board=tuple(off), source_labels=labels)
 
 
 def _light(design: Design, tr) -> np.ndarray:
@@ -135,10 +148,10 @@ def _tuning(design: Design) -> tuple[TuningRow, ...]:
     """Fade times with the charge, bleed and timing parts at their neighbouring standard values."""
     nl = design.netlist
     rows = []
-    for role, series in TUNING_PARTS:
+    for role, series, (lo, hi) in TUNING_PARTS:
         part = nl.by_role(role)[0]
         lower, higher = eseries.neighbours(series, part.value)
-        rows += [(part.ref, lower, "lower"), (part.ref, higher, "higher")]
+        rows += [(part.ref, v, d) for v, d in ((lower, "lower"), (higher, "higher")) if lo * 0.999 <= v <= hi * 1.001]
     n = len(rows)
     ov: dict = {}
     for k, (ref, value, _) in enumerate(rows):

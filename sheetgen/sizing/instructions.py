@@ -12,6 +12,10 @@ from the same netlist walk, so the card and the sheet cannot disagree.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
+from sheetgen.board import words
+from sheetgen.board.model import Board
 from sheetgen.parts import catalog
 from sheetgen.model.netlist import GROUND, Part
 from sheetgen.sizing.report import Brief, Harness, Heat
@@ -46,14 +50,6 @@ _LEAD_KEY = {
     "capacitor": "electrolytic: + = longer lead, − = striped side",
 }
 _LEAD_NAMES = {"C": "collector", "B": "base", "E": "emitter", "D": "drain", "G": "gate", "S": "source"}
-
-
-def _lead(part: Part, pin: str, pin_count: dict[str, int], *, short: bool = False) -> str:
-    if part.kind == "resistor":
-        if pin_count.get(part.ref, 0) == 0:
-            return part.ref if short else f"{part.ref} (one end)"
-        return f"{part.ref} (other end)"
-    return f"{part.ref} {(_PIN_SHORT if short else _PIN_WORDS)[part.kind][pin]}"
 
 
 def _led_runs(pins_on: dict[str, list[tuple[Part, str]]]) -> dict[str, tuple[str, ...]]:
@@ -125,97 +121,184 @@ def _strings_step(group: tuple[_String, ...]) -> str:
     return f"Build {len(group)} LED strings alike ({listed}): in each, {how}."
 
 
-def wiring_steps(design: Design, harness: Harness, *, short: bool = False) -> tuple[str, ...]:
-    """Numbered-in-order wiring steps for the board and the harness.
+@dataclass(frozen=True)
+class Lead:
+    """One lead of one part at a joint; ``first`` when no earlier step named this part (a resistor's "one end")."""
 
-    ``short`` words them for a card: lead names without their descriptions
-    (the card prints ``lead_key`` once) and the LED strings in one step.
+    part: Part
+    pin: str
+    first: bool
+
+
+@dataclass(frozen=True)
+class Identify:
+    """Tell a transistor's leads apart before anything is soldered to it."""
+
+    part: Part
+    pinout: tuple[str, ...]  # lead letters left to right, printed face towards you, leads down
+    part_number: str
+    package: str
+
+
+@dataclass(frozen=True)
+class Joint:
+    """One board net: the leads that meet there, and its test point's label if it has one."""
+
+    net: str
+    leads: tuple[Lead, ...]
+    probe: str | None
+
+
+@dataclass(frozen=True)
+class Strings:
+    """LED strings built alike (a card's one step for all of them)."""
+
+    group: tuple[_String, ...]
+
+
+@dataclass(frozen=True)
+class Run:
+    """LEDs in series, each cathode to the next anode (a card's one step for the run)."""
+
+    refs: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class OffBoard:
+    """A harness wire: the topology's words for where it goes, and the leads it meets on the board."""
+
+    net: str
+    what: str
+    leads: tuple[Lead, ...]
+
+
+Connection = Identify | Joint | Strings | Run | OffBoard
+
+
+def connection_plan(design: Design, *, group_leds: bool = False) -> tuple[Connection, ...]:
+    """What joins what, in build order: transistors identified, board nets, then the harness.
+
+    ``group_leds`` folds LED strings and series runs into one connection each (a card's wording).
     """
     nl = design.netlist
-    spec = design.spec
-    steps = ["Disconnect the battery first: a short can start a fire." if short else
-             "Disconnect the battery (or switch off and unplug the bench supply) before you start."]
     pins_on: dict[str, list[tuple[Part, str]]] = {}
     for part in nl.parts:
         for pin, net in part.pins:
             pins_on.setdefault(net, []).append((part, pin))
+    plan: list[Connection] = []
     for part in nl.parts:
         if part.kind not in ("npn", "pnp", "nmos"):
             continue
         q = catalog.transistor(part.part_number)
-        if not q.pinout:
-            continue
-        leads = ", ".join(_LEAD_NAMES[x] for x in q.pinout)
-        if short:
-            steps.append(f"{part.ref} {q.part_number} ({q.package}), printed face to you, leads down: {leads} "
-                         "(check its data sheet).")
-        else:
-            steps.append(f"Identify {part.ref} ({q.part_number}, {q.package}) leads: printed face towards you, "
-                         f"leads down, left to right: {leads}. Makers differ; check the data sheet of the part "
-                         "in your hand.")
+        if q.pinout:
+            plan.append(Identify(part, tuple(q.pinout), q.part_number, q.package))
     off_board = dict(design.topology.wiring)
     probe_of = {net: label for label, net in nl.probes}
-    runs = _led_runs(pins_on) if short else {}
-    strings = _led_strings(pins_on, runs) if short else {}
+    runs = _led_runs(pins_on) if group_leds else {}
+    strings = _led_strings(pins_on, runs) if group_leds else {}
     worded: set[tuple] = set()
     used: dict[str, int] = {}
+
+    def leads(on: list[tuple[Part, str]]) -> tuple[Lead, ...]:
+        out = []
+        for part, pin in on:
+            out.append(Lead(part, pin, used.get(part.ref, 0) == 0))
+            used[part.ref] = used.get(part.ref, 0) + 1
+        return tuple(out)
+
     for net, on in pins_on.items():
-        if net in off_board:
+        if net in off_board or len(on) < 2:
             continue
-        if len(on) < 2:
-            continue
-        if net in strings or net in runs:  # one step says it all, at the first of its nets
+        if net in strings or net in runs:  # one connection says it all, at the first of its nets
             if net in strings and strings[net] not in worded:
                 worded.add(strings[net])
-                steps.append(_strings_step(strings[net]))
+                plan.append(Strings(strings[net]))
                 for r, _ in strings[net]:
                     used[r] = used.get(r, 0) + 1
             elif net not in strings and runs[net] not in worded:
-                run = runs[net]
-                worded.add(run)
-                steps.append(f"Join {run[0]} to {run[-1]} in series: each cathode to the next anode.")
+                worded.add(runs[net])
+                plan.append(Run(runs[net]))
             continue
-        words = []
-        for part, pin in on:
-            words.append(_lead(part, pin, used, short=short))
-            used[part.ref] = used.get(part.ref, 0) + 1
-        if short:
-            steps.append("Join " + ", ".join(words) + (f": test point {probe_of[net].split()[0]}." if net in probe_of
-                                                       else "."))
-            continue
-        where = f" This is test point {probe_of[net]}." if net in probe_of else ""
-        steps.append("Join " + ", ".join(words) + "." + where)
-    wire = f"{harness.wire_mm2:g} mm² ({harness.wire_awg} AWG)"
-    supply_v = format_quantity(spec.supply.nominal_v, "V")
+        plan.append(Joint(net, leads(on), probe_of.get(net)))
     for net, what in design.topology.wiring:
-        leads = []
-        for part, pin in pins_on.get(net, []):
-            leads.append(_lead(part, pin, used, short=short))
-            used[part.ref] = used.get(part.ref, 0) + 1
-        target = ", ".join(leads)
-        other_ends = [lead[:-len(" (other end)")] for lead in leads if lead.endswith(" (other end)")]
-        if short and len(other_ends) >= 2:  # "R4, R5, R6, R7 (other ends)" reads faster than four brackets
-            rest = [lead for lead in leads if not lead.endswith(" (other end)")]
-            target = ", ".join([", ".join(other_ends) + " (other ends)", *rest])
-        if short:  # the card's harness box gives the wire size once
-            if net == "supply":
-                steps.append(f"Fit the {harness.fuse_a:g} A fuse in the {supply_v} {what} near its source; wire it "
-                             f"to {target}.")
-            elif net == GROUND:
-                steps.append(f"Join {target}; wire them to {what}.")
-            else:  # the card's harness box says which way the feed switches
-                steps.append(f"Wire the {what.split(' (')[0]} to {target}.")
-            continue
-        if net == "supply":
-            steps.append(
-                         f"Fit a {harness.fuse_a:g} A fuse in the {supply_v} {what} as close to its "
-                         f"source (battery or distribution point) as you can, and run {wire} wire from it to "
-                         f"{target}.")
-        elif net == GROUND:
-            steps.append(f"Join {target}, and run {wire} wire from there to {what}; use a clean, tight "
-                         "ground point.")
-        else:
-            steps.append(f"Connect the {what} to {target}, with {wire} wire.")
+        plan.append(OffBoard(net, what, leads(pins_on.get(net, []))))
+    return tuple(plan)
+
+
+def _lead(lead: Lead, *, short: bool) -> str:
+    part = lead.part
+    if part.kind == "resistor":
+        if lead.first:
+            return part.ref if short else f"{part.ref} (one end)"
+        return f"{part.ref} (other end)"
+    return f"{part.ref} {(_PIN_SHORT if short else _PIN_WORDS)[part.kind][lead.pin]}"
+
+
+def _off_board_target(c: OffBoard, *, short: bool) -> str:
+    leads = [_lead(lead, short=short) for lead in c.leads]
+    other_ends = [lead[:-len(" (other end)")] for lead in leads if lead.endswith(" (other end)")]
+    if short and len(other_ends) >= 2:  # "R4, R5, R6, R7 (other ends)" reads faster than four brackets
+        rest = [lead for lead in leads if not lead.endswith(" (other end)")]
+        return ", ".join([", ".join(other_ends) + " (other ends)", *rest])
+    return ", ".join(leads)
+
+
+def _sheet_words(c: Connection, design: Design, harness: Harness) -> str:
+    """A connection as the build sheet says it: every lead described, wire sizes in each harness step."""
+    if isinstance(c, Identify):
+        leads = ", ".join(_LEAD_NAMES[x] for x in c.pinout)
+        return (f"Identify {c.part.ref} ({c.part_number}, {c.package}) leads: printed face towards you, "
+                f"leads down, left to right: {leads}. Makers differ; check the data sheet of the part "
+                "in your hand.")
+    if isinstance(c, Joint):
+        where = f" This is test point {c.probe}." if c.probe else ""
+        return "Join " + ", ".join(_lead(lead, short=False) for lead in c.leads) + "." + where
+    if isinstance(c, OffBoard):
+        wire = f"{harness.wire_mm2:g} mm² ({harness.wire_awg} AWG)"
+        target = _off_board_target(c, short=False)
+        if c.net == "supply":
+            supply_v = format_quantity(design.spec.supply.nominal_v, "V")
+            return (f"Fit a {harness.fuse_a:g} A fuse in the {supply_v} {c.what} as close to its "
+                    f"source (battery or distribution point) as you can, and run {wire} wire from it to "
+                    f"{target}.")
+        if c.net == GROUND:
+            return f"Join {target}, and run {wire} wire from there to {c.what}; use a clean, tight ground point."
+        return f"Connect the {c.what} to {target}, with {wire} wire."
+    raise ValueError(f"the sheet's plan has no grouped LEDs: {c!r}")
+
+
+def _card_words(c: Connection, design: Design, harness: Harness) -> str:
+    """A connection as a card says it: bare lead names (the card prints the lead key once)."""
+    if isinstance(c, Identify):
+        leads = ", ".join(_LEAD_NAMES[x] for x in c.pinout)
+        return (f"{c.part.ref} {c.part_number} ({c.package}), printed face to you, leads down: {leads} "
+                "(check its data sheet).")
+    if isinstance(c, Strings):
+        return _strings_step(c.group)
+    if isinstance(c, Run):
+        return f"Join {c.refs[0]} to {c.refs[-1]} in series: each cathode to the next anode."
+    if isinstance(c, Joint):
+        return ("Join " + ", ".join(_lead(lead, short=True) for lead in c.leads)
+                + (f": test point {c.probe.split()[0]}." if c.probe else "."))
+    target = _off_board_target(c, short=True)
+    if c.net == "supply":  # the card's harness box gives the wire size once
+        supply_v = format_quantity(design.spec.supply.nominal_v, "V")
+        return f"Fit the {harness.fuse_a:g} A fuse in the {supply_v} {c.what} near its source; wire it to {target}."
+    if c.net == GROUND:
+        return f"Join {target}; wire them to {c.what}."
+    return f"Wire the {c.what.split(' (')[0]} to {target}."  # the card's harness box says which way the feed switches
+
+
+def wiring_steps(design: Design, harness: Harness, *, short: bool = False) -> tuple[str, ...]:
+    """Numbered-in-order wiring steps for the board and the harness: the connection plan, worded.
+
+    ``short`` words them for a card: lead names without their descriptions
+    (the card prints ``lead_key`` once) and the LED strings in one step.
+    """
+    word = _card_words if short else _sheet_words
+    steps = ["Disconnect the battery first: a short can start a fire." if short else
+             "Disconnect the battery (or switch off and unplug the bench supply) before you start."]
+    steps += [word(c, design, harness) for c in connection_plan(design, group_leds=short)]
     steps.append("Check every joint against the schematic, reconnect, then take the readings: feed off, then on."
                  if short else
                  "Check every joint against the schematic, then reconnect the supply and take the readings "
@@ -230,10 +313,42 @@ def lead_key(design: Design) -> str:
     return "; ".join(said) + "." if said else ""
 
 
-def brief(design: Design, harness: Harness, heat: Heat) -> Brief:
-    """The card's words: the short steps, the lead key and the short cautions."""
+_PLACING_ORDER = ("resistor", "diode", "capacitor", "npn", "pnp", "nmos", "led", "lamp")
+
+
+def board_steps(design: Design, harness: Harness, board: Board) -> tuple[str, ...]:
+    """A card's steps beside the board view: cut, link, place each part at its holes, land the wires.
+
+    They replace the "join X to Y" steps, which the copper now does.
+    """
+    nl = design.netlist
+    steps = ["Disconnect the battery first: a short can start a fire."]
+    steps += [_card_words(c, design, harness) for c in connection_plan(design) if isinstance(c, Identify)]
+    if board.cuts:
+        steps.append(words.cuts(board) + " on the copper side, as the copper view shows.")
+    steps += [text + "." for text in words.links(board)]
+    placed = dict(zip((p.ref for p in board.placements), words.placing(board, nl)))
+    kinds: dict[str, list[str]] = {}
+    for p in board.placements:
+        kinds.setdefault(nl.part(p.ref).kind, []).append(placed[p.ref])
+    for kind in sorted(kinds, key=lambda k: _PLACING_ORDER.index(k) if k in _PLACING_ORDER else 99):
+        steps.append("Place " + "; ".join(kinds[kind]) + ".")
+    supply_v = format_quantity(design.spec.supply.nominal_v, "V")
+    steps.append(f"Fit the {harness.fuse_a:g} A fuse in the {supply_v} always-on feed near its source. Wires: "
+                 + "; ".join(words.wires(board)) + ".")
+    if board.off_board_parts:
+        joins = "; ".join(words.off_board_joins(board, nl))
+        steps.append("Off the board: " + words.refs_run(board.off_board_parts) + (f"; {joins}" if joins else "")
+                     + ".")
+    steps.append("Check every joint against the board views, reconnect, take the readings: feed off, then on.")
+    return tuple(steps)
+
+
+def brief(design: Design, harness: Harness, heat: Heat, board: Board | None = None) -> Brief:
+    """The card's words: the short steps (and, with a board, the board's steps), the lead key and cautions."""
     return Brief(steps=wiring_steps(design, harness, short=True), leads=lead_key(design),
-                 cautions=cautions(design, heat, short=True))
+                 cautions=cautions(design, heat, short=True),
+                 board_steps=board_steps(design, harness, board) if board is not None else ())
 
 
 def cautions(design: Design, heat: Heat, *, short: bool = False) -> tuple[str, ...]:

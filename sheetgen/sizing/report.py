@@ -10,6 +10,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from sheetgen.board.model import Board
 from sheetgen.sizing.size import Design
 from sheetgen.sizing.tolerance import Spread
 
@@ -108,6 +109,7 @@ class Brief:
     steps: tuple[str, ...]
     leads: str
     cautions: tuple[str, ...]
+    board_steps: tuple[str, ...] = ()  # the same build told by the board: place, cut, link, wire
 
 
 @dataclass(frozen=True)
@@ -124,3 +126,4 @@ class Report:
     wiring: tuple[str, ...]  # numbered steps, in order, without their numbers
     cautions: tuple[str, ...]
     brief: Brief  # the steps and cautions in a card's words
+    board: Board | None = None  # where every on-board part goes, proven against the netlist

@@ -38,8 +38,10 @@ from sheetgen.inputs.units import format_quantity
 ACCURACY = 0.10  # achieved fade times within ±10 % of the request
 OVERDRIVE_MIN = 1.5  # Ib ≥ 1.5 · Ic / hFE_min at minimum supply (margin: common practice, no source)
 OVERDRIVE_MAX = 2.0
-C_MIN_F, C_MAX_F = 1e-6, 10_000e-6
-C_MAX_AUTO_F = 4_700e-6  # automatic choice moves to a stronger stage before using a bigger can
+C_MIN_F = 1e-6
+C_MAX_F = 4_700e-6  # the largest timing capacitor, chosen or forced: past it a stronger stage is the answer
+HOVER_MAX_W = 15.0  # a feed hovering half-on may put at most this into Q1 (common practice, no source):
+#                     more needs a heatsink better than about 3 °C/W, a large finned extrusion, not a fader box's
 R_CHARGE_RANGE = (22.0, 220e3)
 R_BLEED_RANGE = (100.0, 220e3)  # above this, electrolytic leakage (µA) starts to rival the bleed current
 HEATSINK_MIN_C_PER_W = 1.0  # a better heatsink than this is a fan-cooled extrusion, not a fader's (common practice)
@@ -80,17 +82,20 @@ def size(spec: Spec) -> Design:
     cheapest first, and the first that meets every criterion is chosen: fades
     within ±10 %, full-brightness yield ≥ 99 % over tolerances, junction under
     125 °C (or a heatsink stated) and a timing capacitor no larger than
-    4,700 µF.  A forced topology may use up to 10,000 µF.
+    4,700 µF.  A forced topology is held to the same limits; its reason says it was forced.
     """
     forced = spec.topology != "auto"
-    c_max = C_MAX_F if forced else C_MAX_AUTO_F
+    c_max = C_MAX_F
     passed_over: list[str] = []
     for topology in _topologies(spec):
         refusals: list[str] = []
         design = _size_topology(spec, topology, refusals, c_max)
         if design is not None:
-            why = f"{topology.title} chosen" + (": the cheaper stages could not meet the spec" if passed_over
-                                                else ": the simplest stage that meets the spec")
+            if forced:
+                why = f"{topology.title} forced by topology: {spec.topology} in the spec"
+            else:
+                why = f"{topology.title} chosen" + (": the cheaper stages could not meet the spec" if passed_over
+                                                    else ": the simplest stage that meets the spec")
             return replace(design, reasons=(why, *design.reasons[:1], *passed_over, *design.reasons[1:]))
         passed_over.append(f"not {topology.title}: " + "; ".join(refusals))
     raise InfeasibleDesign(_infeasible_message(spec, passed_over, c_max))
@@ -178,6 +183,11 @@ def _transistor_candidates(spec: Spec, topology: Topology, refusals: list[str]) 
         return []
     i_load = rated_current_a(spec.load) * spec.supply.max_v / spec.supply.nominal_v
     p_peak = load_line_peak_w(spec, supply_v=spec.supply.max_v, r_led_ohm=r_led)
+    if p_peak > HOVER_MAX_W:
+        refusals.append(f"a feed that hovers half-on would put about {p_peak:.0f} W into the switch at "
+                        f"{spec.supply.max_v:g} V, more than the {HOVER_MAX_W:g} W this tool designs for; "
+                        "split the load over two faders or use LEDs")
+        return []
     ok = []
     for q in catalog.transistors():
         wanted = "nmos" if topology.stage.kind == "mosfet" else "npn"
@@ -187,19 +197,18 @@ def _transistor_candidates(spec: Spec, topology: Topology, refusals: list[str]) 
             refusals.append(f"{q.part_number}: VCEO {q.vmax_v:g} V is too low for {spec.supply.max_v:g} V")
             continue
         if i_load > IC_DERATE * q.imax_a:
-            refusals.append(f"{q.part_number}: the load draws {format_quantity(i_load, 'A')}, more than "
+            refusals.append(f"{q.part_number}: at {spec.supply.max_v:g} V the load would draw more than "
                             f"{IC_DERATE:.0%} of its {format_quantity(q.imax_a, 'A')} rating")
             continue
         tj = spec.ambient_c + p_peak * q.rth_ja_c_per_w
         if tj > TJ_LIMIT_C and q.package == "TO-92":
-            refusals.append(f"{q.part_number}: up to {p_peak:.2f} W while fading would take the junction "
-                            f"to {tj:.0f} °C in free air at {spec.ambient_c:g} °C")
+            refusals.append(f"{q.part_number}: a fade would take its junction past {TJ_LIMIT_C:g} °C in free air "
+                            f"at {spec.ambient_c:g} °C")
             continue
         sink = (TJ_LIMIT_C - spec.ambient_c) / p_peak - q.rth_jc_c_per_w - q.rth_cs_c_per_w if p_peak > 0 else 1e9
         if tj > TJ_LIMIT_C and sink < HEATSINK_MIN_C_PER_W:
-            refusals.append(f"{q.part_number}: a feed that hovers half-on would put {p_peak:.1f} W into it; keeping "
-                            f"the junction under {TJ_LIMIT_C:g} °C would take a heatsink better than "
-                            f"{HEATSINK_MIN_C_PER_W:g} °C/W")
+            refusals.append(f"{q.part_number}: with a feed that hovers half-on, keeping the junction under "
+                            f"{TJ_LIMIT_C:g} °C would take a heatsink better than {HEATSINK_MIN_C_PER_W:g} °C/W")
             continue
         ok.append(q)
     package_rank = {"TO-92": 0, "TO-126": 1, "TO-220": 2}
@@ -383,7 +392,7 @@ class _BaseDrive:
         if not valid.any():
             raise _NoFit(f"the feed cannot supply {format_quantity(self.od_min * self.ib_rule, 'A')} of base "
                          f"current ({self.od_min:.2g} × {format_quantity(self.i_at_min, 'A')} / hFE_min "
-                         f"{self.hfe_min:.3g}) through any charge resistor")
+                         f"{self.hfe_min:.0f}) through any charge resistor")
         C, R1, R2 = C[valid], R1[valid], R2[valid]
         R3 = _snap_below("E24", R3[valid])
         v_feed = self.spec.supply.nominal_v - DIODE_DROP_V
@@ -419,7 +428,7 @@ class _BaseDrive:
     def reason(self, best) -> str:
         return (f"{self.q.part_number} chosen: the smallest package that carries {format_quantity(best.i_load, 'A')} "
                 f"and is driven to {best.overdrive:.2f}× its minimum-gain base current (hFE_min "
-                f"{self.hfe_min:.3g}) at {self.spec.supply.min_v:g} V")
+                f"{self.hfe_min:.0f}) at {self.spec.supply.min_v:g} V")
 
 
 class _GateDrive:

@@ -11,7 +11,7 @@ from sheetgen.parts import catalog
 from sheetgen.engine import simulate
 from sheetgen.errors import InfeasibleDesign
 from sheetgen.engine.measure import fade_times
-from sheetgen.sizing.size import C_MAX_AUTO_F, size
+from sheetgen.sizing.size import C_MAX_F, size
 from sheetgen.inputs.spec import parse_spec
 from sheetgen.outputs.spice import spice_deck
 from sheetgen.outputs.spice_run import run_transient
@@ -99,7 +99,7 @@ def test_selection_grid_meets_the_spec_or_says_why(load, fade):
     assert d.fade_in_s == pytest.approx(fade[0], rel=0.10)
     assert d.fade_out_s == pytest.approx(fade[1], rel=0.10)
     assert d.full_brightness_yield >= 0.99
-    assert d.values.c_timing_f <= C_MAX_AUTO_F * 1.0001
+    assert d.values.c_timing_f <= C_MAX_F * 1.0001
     assert d.reasons[0].endswith("meets the spec") or "could not" in d.reasons[0]
 
 

@@ -260,7 +260,7 @@ BAD_SPECS = [
     ("fade too long", GOOD.replace("out: 4 s", "out: 5 min"), 12, "fade.out", "outside 50 ms to 120 s"),
     ("fade too short", GOOD.replace("in: 1.5 s", "in: 10 ms"), 11, "fade.in", "outside 50 ms to 120 s"),
     ("unknown top-level key", GOOD + "fades: {in: 1 s}\n", 14, "fades", "did you mean `fade`?"),
-    ("unknown load key", GOOD.replace("  strings: 2\n", "  strings: 2\n  color: red\n"), 10, "load.color",
+    ("unknown load key", GOOD.replace("  strings: 2\n", "  strings: 2\n  colur: red\n"), 10, "load.colur",
      "did you mean `colour`?"),
     ("unknown key, nothing close", GOOD + "mounting: roof\n", 14, "mounting", "known keys here"),
     ("lamp key on an LED", GOOD.replace("  strings: 2\n", "  strings: 2\n  power: 1 W\n"), 10, "load.power",

@@ -234,9 +234,11 @@ def test_card_cautions_are_the_sheets_less_the_two_the_card_says_elsewhere(campe
 
 # ----------------------------------------------------------------- layouts
 def test_shipped_card_layouts_place_every_card_block():
-    for name in ("a6-card", "4x6-card"):
+    # the board takes half a side: it has a card of its own, and the small cards keep every other block
+    for name, blocks in (("a6-card", set(CARD_BLOCK_NAMES) - {"board"}), ("4x6-card", set(CARD_BLOCK_NAMES) - {"board"}),
+                         ("board-card", set(CARD_BLOCK_NAMES))):
         layout = load_layout(name)
-        assert isinstance(layout, CardLayout) and sorted(layout.front + layout.back) == sorted(CARD_BLOCK_NAMES)
+        assert isinstance(layout, CardLayout) and sorted(layout.front + layout.back) == sorted(blocks)
 
 
 _CARD = "name: mine\npage: A4\ncard: A6\n"
@@ -301,3 +303,57 @@ def test_pack_refuses_the_wrong_kind_of_layout(tmp_path, capsys, args, needle):
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and needle in err[0]
     assert not (tmp_path / "out").exists()
+
+
+def _smallest_text_pt(pdf: bytes) -> float:
+    """The smallest size any text is drawn at, forms included: font size × the text and page matrices."""
+    import math
+
+    sizes = []
+
+    def visit(text, cm, tm, _font, size):
+        if text.strip():
+            scale_y = math.hypot(tm[2] * cm[0] + tm[3] * cm[2], tm[2] * cm[1] + tm[3] * cm[3])
+            sizes.append(size * scale_y)
+
+    for page in PdfReader(io.BytesIO(pdf)).pages:
+        page.extract_text(visitor_text=visit)
+    return min(sizes)
+
+
+@pytest.fixture(scope="module")
+def cabinet_report():
+    from pathlib import Path
+
+    from sheetgen.inputs.spec import load_spec
+    from sheetgen.sizing.analyse import analyse
+    from sheetgen.sizing.size import size
+
+    return analyse(size(load_spec(Path(__file__).resolve().parents[2] / "examples" / "workshop-cabinet.yaml")))
+
+
+@pytest.mark.parametrize("layout", ["a6-card", "4x6-card"])
+def test_nothing_on_a_card_is_printed_below_6_pt(camper_report, railway_report, cabinet_report, layout):
+    # 6 pt is the smallest text these sheets allow (common practice for printed instructions, no source).
+    for report in (camper_report, railway_report, cabinet_report):  # 6, 1 and 20 LEDs
+        pdf = render_cards([Card(report=report, design="A", name="Ana", event="Spring build night \u00b7 2027-03-20")],
+                           load_card_layout(layout), title="t", environ=EPOCH)
+        assert _smallest_text_pt(pdf) >= 6.0 - 1e-6, report.design.spec.title
+
+
+def test_many_strings_are_drawn_as_one_and_a_note_when_that_reads_larger(cabinet_report, a6):
+    from sheetgen.outputs.pdf.schematic import schematic_svg
+
+    d = cabinet_report.design
+    svg = schematic_svg(d.netlist, d.topology, compact=True).decode("utf-8")
+    assert "+ 3 strings" in svg and "the same:" in svg  # 4 strings: one drawn, the note names the other three
+    assert all(s.shrink == 1.0 for s in card_sides(cabinet_report, a6).values())
+
+
+def test_a_long_event_name_gives_way_but_its_date_prints_whole(camper_report, a6):
+    event = "Spring build night of the coast and river model railway and camper van clubs \u00b7 2027-03-20"
+    pdf = render_cards([Card(report=camper_report, design="A", name="Ana", event=event)], a6, title="t",
+                       environ=EPOCH)
+    text = PdfReader(io.BytesIO(pdf)).pages[0].extract_text()
+    assert "\u2026 \u00b7 2027-03-20" in text and "Spring build night" in text
+    assert _smallest_text_pt(pdf) >= 6.0 - 1e-6

@@ -22,6 +22,7 @@ from sheetgen.outputs.export import report_dict
 from sheetgen.engine.measure import DEFINITIONS
 from sheetgen.outputs.pdf import blocks
 from sheetgen.parts.colour_code import bands
+from sheetgen.inputs.blocknames import Entry
 from sheetgen.inputs.layout import BLOCK_NAMES, load_layout, parse_layout, shipped_layouts
 from sheetgen.outputs.pdf.sheet import FOOTER_TEXT, build_sheet, render_sheet, sheet_date
 from sheetgen.sizing.size import size
@@ -158,7 +159,7 @@ def test_tuning_and_spread_rows(text, data):
 def test_schematic_block_carries_the_vector_drawing(report, text):
     from reportlab.graphics.shapes import Drawing
 
-    block = blocks.schematic_block(report, max_height_pt=300.0)
+    block = blocks.schematic_block(report, blocks.Frame(width_pt=500.0, height_pt=300.0 / 0.42))
     block.wrap(500.0, 700.0)
     drawing = block.items[0]._made[1]
     assert isinstance(drawing, Drawing) and drawing.height <= 300.0 + 1e-6 and drawing.width <= 500.0 + 1e-6
@@ -204,7 +205,7 @@ def test_a_failing_build_leaves_no_file(report, tmp_path, monkeypatch):
     def broken(*_a, **_k):
         raise RuntimeError("a block that cannot draw")
 
-    monkeypatch.setattr(blocks, "heat_block", broken)
+    monkeypatch.setitem(blocks.SHEET_BLOCKS.makers, "heat", Entry(broken))
     out = tmp_path / "sheet.pdf"
     with pytest.raises(RuntimeError):
         build_sheet(report, load_layout("a4-sheet"), out, environ=EPOCH)
@@ -214,7 +215,7 @@ def test_a_failing_build_leaves_no_file(report, tmp_path, monkeypatch):
 def test_a_failing_build_keeps_the_old_file(report, tmp_path, monkeypatch):
     out = tmp_path / "sheet.pdf"
     out.write_bytes(b"old sheet")
-    monkeypatch.setattr(blocks, "parts_block", lambda *_a, **_k: 1 / 0)
+    monkeypatch.setitem(blocks.SHEET_BLOCKS.makers, "parts", Entry(lambda *_a, **_k: 1 / 0))
     with pytest.raises(ZeroDivisionError):
         build_sheet(report, load_layout("a4-sheet"), out, environ=EPOCH)
     assert out.read_bytes() == b"old sheet" and [p.name for p in tmp_path.iterdir()] == ["sheet.pdf"]
@@ -301,7 +302,9 @@ def test_shipped_layouts_load_and_name_every_block_once():
         layout = load_layout(name)
         assert layout.name == name
         if isinstance(layout, CardLayout):  # a card places its own blocks over its two sides
-            assert sorted(layout.front + layout.back) == sorted(CARD_BLOCK_NAMES)
+            # the board takes half a side: only the board card carries it
+            wanted = set(CARD_BLOCK_NAMES) - ({"board"} if name != "board-card" else set())
+            assert sorted(layout.front + layout.back) == sorted(wanted)
         else:
             assert sorted(b.name for b in layout.blocks) == sorted(BLOCK_NAMES)
 

@@ -98,8 +98,9 @@ def test_kit_list_matches_an_independent_count_of_the_netlists(camper_report, ra
                 key = ("resistor", format_quantity(part.value, "ohm"), part.rating_w)
             elif part.kind == "capacitor":
                 key = ("capacitor", format_quantity(part.value, "F"), part.rating_v)
-            elif part.kind == "led":
-                key = ("led", part.description.split(" at ")[0], None)
+            elif part.kind == "led":  # "red LED, Vf 2 V at 20 mA": colour, forward voltage, current
+                colour_led, vf_at = part.description.split(", ")
+                key = ("led", colour_led, tuple(vf_at.split(" at ")))
             else:
                 key = (part.kind, part.part_number, None)
             expected[key] += kits[letter]
@@ -110,8 +111,9 @@ def test_kit_list_matches_an_independent_count_of_the_netlists(camper_report, ra
             got[("resistor", line.value, float(line.rating.split()[0]))] += line.needed
         elif line.item.endswith("capacitor"):
             got[("capacitor", line.value, float(line.rating.split()[0]))] += line.needed
-        elif line.item.endswith("LED"):
-            got[("led", f"{line.item}, {line.value}", None)] += line.needed
+        elif "LED" in line.item:
+            colour_led = "LED" if line.item == "LED, any colour with this Vf" else line.item
+            got[("led", colour_led, (line.value, line.rating.removeprefix("runs at ")))] += line.needed
         elif line.item in ("diode", "NPN transistor", "PNP transistor", "N-channel MOSFET"):
             kind = {"diode": "diode", "NPN transistor": "npn", "PNP transistor": "pnp", "N-channel MOSFET": "nmos"}
             got[(kind[line.item], line.value, None)] += line.needed
@@ -126,6 +128,17 @@ def test_kit_list_matches_an_independent_count_of_the_netlists(camper_report, ra
     wires = [line for line in lines if line.item.startswith("wire")]
     assert {line.item for line in wires} == {"wire, red", "wire, yellow", "wire, black"}
     assert all(line.unit == "m" and line.needed == WIRE_M_PER_RUN * total_kits for line in wires)
+    assert sum(line.needed for line in lines if line.item == "prototype board") == total_kits
+    # One screw terminal per off-board run (the topology's wiring list), two more per lamp.
+    ways = Counter()
+    for letter, report in reports.items():
+        lamps = sum(p.kind == "lamp" for p in report.design.netlist.parts)
+        ways[f"{len(report.design.topology.wiring) + 2 * lamps}-way"] += kits[letter]
+    assert Counter({line.value: line.needed for line in lines if line.item == "screw terminal block"}) == ways
+    lamps = sum(kits[k] * sum(p.kind == "lamp" for p in r.design.netlist.parts) for k, r in reports.items())
+    assert sum(line.needed for line in lines if line.item == "lamp holder") == lamps
+    sinks = sum(kits[k] for k, r in reports.items() if r.heat.heatsink_c_per_w is not None)
+    assert sum(line.needed for line in lines if line.item == "insulating kit") == sinks
     for line in lines:
         assert line.spares == math.ceil(line.needed / 10 - 1e-9) and line.total == line.needed + line.spares
     assert by_item[("diode", "1N4007")].designs == ("A", "B")  # one line for both designs
@@ -157,6 +170,25 @@ def test_csv_has_the_columns_and_the_lines(camper_report):
 
 
 # ----------------------------------------------------------------- event
+def test_named_builders_plus_unnamed_places_in_one_build(tmp_path):
+    event = load_event(_event(tmp_path, "title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n"
+                                        "    builders: [Ana, Bo]\n    count: 3\n"))
+    (build,) = event.builds
+    assert [b.name for b in build.builders] == ["Ana", "Bo", None, None, None]
+    assert [b.place for b in build.builders][2:] == ["Builder 3 of 5", "Builder 4 of 5", "Builder 5 of 5"]
+    assert event.builder_count == 5 and event.warnings == ()
+
+
+def test_a_name_given_twice_warns_naming_both_places(tmp_path, sized, capsys):
+    text = ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    builders: [Ana, Bo]\n"
+            "  - spec: model-railway-station.yaml\n    builders: [ana]\n")
+    event = load_event(_event(tmp_path, text))
+    assert event.warnings == (f"{tmp_path / 'spring.yaml'}:6: builds[1].builders[0]: \"ana\" is named already "
+                              "(builds[0].builders[0], line 4); two cards will carry the same name",)
+    assert _pack(tmp_path, tmp_path / "spring.yaml") == 0  # a warning, not an error
+    assert capsys.readouterr().err.strip() == f"warning: {event.warnings[0]}"
+
+
 def test_event_names_are_read_as_written(tmp_path):
     event = load_event(_event(tmp_path, GOOD))
     assert event.title == "Spring build night" and str(event.date) == "2027-03-20"
@@ -190,8 +222,8 @@ def test_inline_design_keeps_its_lines(tmp_path):
      "spring.yaml:5: builds[0].colour: unknown key"),
     ("title: t\nvenu: hall\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n",
      "spring.yaml:2: venu: unknown key; did you mean `venue`?"),
-    ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n    builders: [Ana]\n",
-     "builds[0].count: give builders: (names) or count: (unnamed), not both"),
+    ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 0\n    builders: [Ana]\n",
+     "spring.yaml:4: builds[0].count: must be at least 1"),
     ("title: t\nspares: ten\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n",
      "spring.yaml:2: spares: \"ten\" should be a percentage"),
     ("title: t\ndate: 20 March\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n",
@@ -202,6 +234,9 @@ def test_inline_design_keeps_its_lines(tmp_path):
      "builds[0].builders[0]: must be one line without control characters"),
     ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    builders: [山田]\n",
      "spring.yaml:4: builds[0].builders[0]: \"山田\" has characters the card font cannot print"),
+    # 田 is U+7530 and 中 U+4E2D: the characters are listed as written, not by code point.
+    ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    builders: [田中田]\n",
+     "\"田中田\" has characters the card font cannot print (田中)"),
     ("title: t\nbuilds: []\n", "spring.yaml:2: builds: should be a list of builds"),
 ])
 def test_bad_events_exit_2_naming_the_build_and_leave_nothing(tmp_path, capsys, sized, text, needle):
@@ -255,7 +290,14 @@ def packed(tmp_path, sized, capsys):
 def test_pack_writes_three_files_and_sizes_each_design_once(packed):
     out, printed, calls = packed
     assert sorted(p.name for p in out.iterdir()) == ["booklet.pdf", "cards.pdf", "kit-list.csv"]
-    assert printed.out.split() == [str(out / n) for n in ("booklet.pdf", "cards.pdf", "kit-list.csv")]
+    *paths, summary = printed.out.splitlines()
+    assert paths == [str(out / n) for n in ("booklet.pdf", "cards.pdf", "kit-list.csv")]
+    # The last line counts what was made, each count read back from the files themselves.
+    card_pages = len(PdfReader(out / "cards.pdf").pages)
+    booklet_pages = len(PdfReader(out / "booklet.pdf").pages)
+    kit_rows = len((out / "kit-list.csv").read_text(encoding="utf-8-sig").splitlines()) - 1
+    assert summary == (f"2 designs, {len(NAMES) + 3} cards; sheets to print: {card_pages // 2} card sheets "
+                       f"(both sides) and {booklet_pages} booklet pages; {kit_rows} kit lines")
     assert sorted(calls) == ["Camper van step light", "Model railway station lamp"]  # builds 0 and 2 share one
     assert printed.err == ""  # no progress bar when stderr is not a terminal
 
@@ -356,7 +398,7 @@ def test_designs_sized_side_by_side_come_back_in_order(camper_report, railway_re
     monkeypatch.setattr(batch, "_size_and_analyse", lambda spec: (_ for _ in ()).throw(
         InfeasibleDesign(f"no {spec.title}")))
     with pytest.raises(batch.DesignFailed) as failed:
-        batch.analyse_all(specs, jobs=2)
+        batch.analyse_all(specs, jobs=2, use_cache=False)  # the first call stored both
     assert isinstance(failed.value.error, InfeasibleDesign) and failed.value.index in (0, 1)
 
 
@@ -373,3 +415,18 @@ def test_the_shipped_example_event_reads(sized):
     names = [b.name for build in event.builds for b in build.builders]
     assert "Zoë Fairweather" in names and any("Ødegård" in (n or "") for n in names) and None in names
     assert len({batch.spec_key(b.spec) for b in event.builds}) == len(event.builds) == 3
+
+
+@pytest.mark.parametrize("load, designs, expected", [
+    (0.1, 3, 2),   # an idle two-core machine: both cores
+    (1.5, 3, 2),   # busy, but a second process still gets a share
+    (4.0, 3, 1),   # twice as much work as cores: a second process only waits
+    (7.0, 3, 1),
+    (0.1, 1, 1),   # never more processes than designs
+])
+def test_default_jobs_uses_both_cores_unless_the_machine_is_swamped(monkeypatch, load, designs, expected):
+    import os
+
+    monkeypatch.setattr(os, "sched_getaffinity", lambda _pid: {0, 1}, raising=False)
+    monkeypatch.setattr(os, "getloadavg", lambda: (load, load, load))
+    assert batch.default_jobs(designs) == expected

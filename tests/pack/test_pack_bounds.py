@@ -138,14 +138,15 @@ def test_workers_go_quietly_with_their_parent(tmp_path):
 
 
 def test_a_layout_failure_on_one_design_names_it_and_exits_2(tmp_path, sized, monkeypatch, capsys):
+    from reportlab.platypus.doctemplate import LayoutError
+
     from sheetgen.outputs.pdf import cards as cards_module
 
     real = cards_module.render_cards
 
-    def fussy(cards, layout, **kw):  # a renderer that cannot set the railway design on this layout
-        if any(c.report.design.spec.title == "Model railway station lamp" or "railway" in
-               c.report.design.spec.title.lower() for c in cards):
-            raise ValueError("flowable given negative availWidth")
+    def fussy(cards, layout, **kw):  # the page setter cannot set the railway design on this layout
+        if any("railway" in c.report.design.spec.title.lower() for c in cards):
+            raise LayoutError("Flowable too large on page 1")
         return real(cards, layout, **kw)
 
     monkeypatch.setattr(cards_module, "render_cards", fussy)
@@ -154,4 +155,5 @@ def test_a_layout_failure_on_one_design_names_it_and_exits_2(tmp_path, sized, mo
     assert main(["pack", str(event), "-o", str(tmp_path / "out"), "--jobs", "1"]) == 2
     err = capsys.readouterr().err
     assert "night.yaml:5: builds[1] (model-railway-station.yaml): kit B: layouts/a6-card.yaml" in err, err
+    assert "LayoutError" in err
     assert not (tmp_path / "out").exists()

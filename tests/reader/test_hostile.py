@@ -136,8 +136,10 @@ def test_an_output_that_is_not_a_regular_file_is_refused(tmp_path, capsys, monke
     spec = tmp_path / "van.yaml"
     spec.write_text(SPEC, encoding="utf-8")
     if target == "fifo":
-        os.mkfifo(tmp_path / "fifo")
-        target = str(tmp_path / "fifo")
+        os.mkfifo(tmp_path / "sheet.pdf")
+    else:  # a sheet name that leads to the device node
+        os.symlink(target, tmp_path / "sheet.pdf")
+    target = str(tmp_path / "sheet.pdf")
     mode = os.stat(target).st_mode
     code, err = _run(capsys, ["build", str(spec), "-o", target])
     assert code == 2 and "not a regular file" in err[0], err

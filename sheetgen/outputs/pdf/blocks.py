@@ -11,7 +11,6 @@ Numbers are formatted here, never computed: the physics lives in the Report.
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import Callable, Sequence
@@ -29,8 +28,10 @@ from sheetgen.inputs.spec import LedLoad
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
 
 from sheetgen.outputs.pdf import plot
+from sheetgen.outputs.wording import keep_units, refs_text, standby_text, volts_range
 from sheetgen.parts.colour_code import bands
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
+from sheetgen.inputs.blocknames import SHEET_BLOCKS
 from sheetgen.inputs.layout import FULL, Layout
 
 BLACK = colors.black
@@ -86,13 +87,13 @@ def styles() -> Styles:
 
 
 def _p(text: str, style: ParagraphStyle, **kw) -> Paragraph:
-    """A paragraph of plain text (escaped: titles and messages may hold < or &)."""
-    return Paragraph(escape(text), style, **kw)
+    """A paragraph of plain text (escaped: titles and messages may hold < or &); numbers keep their units."""
+    return Paragraph(keep_units(escape(text)), style, **kw)
 
 
 def _pm(markup: str, style: ParagraphStyle) -> Paragraph:
     """A paragraph of our own markup (bold tags); callers escape any data they insert."""
-    return Paragraph(markup, style)
+    return Paragraph(keep_units(markup), style)
 
 
 # ------------------------------------------------------------ flowable kit
@@ -171,7 +172,9 @@ class Block(Flowable):
                 fits.append(item)
                 room -= h + ITEM_GAP_PT
                 continue
-            pieces = item.split(aw, room) if room > 24 else []
+            # A paragraph (a numbered step, a note) is never cut: it moves on whole, and so does
+            # everything after it; only tables split between their rows.
+            pieces = item.split(aw, room) if room > 24 and not isinstance(item, Paragraph) else []
             if len(pieces) >= 2:
                 fits.append(pieces[0])
                 rest = [*pieces[1:], *self.items[k + 1:]]
@@ -376,32 +379,23 @@ class _Sized(Flowable):
 
 
 # ------------------------------------------------------------------ wording
-def refs_text(refs: Sequence[str]) -> str:
-    """``R4, R5`` for two, ``LED1–LED6`` for a consecutive run of three or more."""
-    parsed = [re.fullmatch(r"([A-Z]+)(\d+)", r) for r in refs]
-    if len(refs) >= 3 and all(parsed) and len({m[1] for m in parsed}) == 1:
-        nums = [int(m[2]) for m in parsed]
-        if nums == list(range(nums[0], nums[0] + len(nums))):
-            return f"{refs[0]}{EN_DASH}{refs[-1]}"
-    return ", ".join(refs)
-
-
 def load_text(report: Report) -> str:
+    """The load in a sentence; a single LED or string is not called "1 string of 1 LED"."""
     load = report.design.spec.load
     if isinstance(load, LedLoad):
         colour = f"{load.colour} " if load.colour else ""
-        strings = "1 string" if load.strings == 1 else f"{load.strings} strings"
-        leds = "LED" if load.per_string == 1 else "LEDs"
-        return (f"{strings} of {load.per_string} {colour}{leds} in series, "
-                f"{format_quantity(load.current_a, 'A')} per string, Vf {format_quantity(load.vf_v, 'V')} each")
+        current = format_quantity(load.current_a, "A")
+        vf = format_quantity(load.vf_v, "V")
+        n, leds = load.per_string, "LED" if load.per_string == 1 else "LEDs"
+        if load.strings == 1 and n == 1:
+            return f"1 {colour}LED, {current}, Vf {vf}"
+        if load.strings == 1:
+            return f"{n} {colour}{leds} in series, {current}, Vf {vf} each"
+        if n == 1:
+            return f"{load.strings} {colour}LEDs, each with its own resistor, {current} each, Vf {vf}"
+        return f"{load.strings} strings of {n} {colour}LEDs in series, {current} per string, Vf {vf} each"
     lamps = "1 lamp" if load.count == 1 else f"{load.count} lamps in parallel"
     return f"{lamps}, {format_quantity(load.power_w, 'W')} each, rated at {format_quantity(load.rated_v, 'V')}"
-
-
-def volts_range(lo_hi: tuple[float, float]) -> str:
-    """A meter reading window, e.g. ``10.85–14.45 V``."""
-    lo, hi = lo_hi
-    return f"{lo:.2f}{EN_DASH}{hi:.2f} V"
 
 
 def spread_text(p5_p50_p95: tuple[float, float, float]) -> str:
@@ -469,7 +463,16 @@ def part_groups(report: Report) -> list[tuple[list, object]]:
 
 
 # ------------------------------------------------------------------- blocks
-def summary_block(report: Report) -> Block:
+@dataclass(frozen=True)
+class Frame:
+    """The page area a block is made for: its maker may scale a drawing to it."""
+
+    width_pt: float
+    height_pt: float
+
+
+@SHEET_BLOCKS.register("summary")
+def summary_block(report: Report, frame: Frame) -> Block:
     """What was asked, what was achieved, and why this transistor."""
     s = styles()
     d = report.design
@@ -499,7 +502,7 @@ def summary_block(report: Report) -> Block:
          _p(f"5th to 95th percentile over {report.spread.draws} random sets of part tolerances, supply "
             f"and ambient; {report.spread.full_brightness_yield:.0%} of them reach full brightness.", s.cell)],
         [_p("Standby", s.cell_bold),
-         _p(f"{_standby(report.standby_a)} from the always-on supply with the feed off", s.cell), ""],
+         _p(f"{standby_text(report.standby_a)} from the always-on supply with the feed off", s.cell), ""],
         _drive_row(report),
     ]
     rows.append([_p("Why this transistor", s.cell_bold),
@@ -512,11 +515,6 @@ def summary_block(report: Report) -> Block:
         return t
 
     return Block("Design summary", [_Sized(build)])
-
-
-def _standby(i_a: float) -> str:
-    """Standby drain as printed: leakage below a nanoamp is no drain worth a number."""
-    return format_quantity(i_a, "A") if i_a >= 1e-9 else "under 1 nA (no real drain)"
 
 
 def _drive_row(report: Report) -> list:
@@ -536,9 +534,11 @@ def _drive_row(report: Report) -> list:
                f"sags, so it runs cool and the light is at full brightness.", s.cell)]
 
 
-def schematic_block(report: Report, *, max_height_pt: float) -> Block:
-    """The circuit as a vector drawing, scaled to the block."""
+@SHEET_BLOCKS.register("schematic", whole=True)
+def schematic_block(report: Report, frame: Frame) -> Block:
+    """The circuit as a vector drawing, scaled to the block (at most 42 % of the frame's height)."""
     s = styles()
+    max_height_pt = frame.height_pt * 0.42
     d = report.design
     probes = ", ".join(label for label, _ in d.netlist.probes)
     items = [_Schematic(report, max_height_pt=max_height_pt),
@@ -578,7 +578,8 @@ def _schematic_drawing(report: Report, width_pt: float, height_pt: float) -> Flo
     return schematic_drawing(d.netlist, d.topology, max_width_pt=width_pt, max_height_pt=height_pt)
 
 
-def parts_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("parts", whole=True)
+def parts_block(report: Report, frame: Frame) -> Block:
     """One line per part to buy, with what a shop and a helper need to pick it out of a tray."""
     s = styles()
     head = ["Ref", "Qty", "Value", "Code", "Rating", "Tol.", "Package / part", "Colour bands", "Purpose"]
@@ -614,7 +615,8 @@ def _current_axis(report: Report) -> tuple[float, str]:
     return (1.0, "A") if peak >= 1.0 else (1e3, "mA")
 
 
-def timing_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("timing", whole=True)
+def timing_block(report: Report, frame: Frame) -> Block:
     """Expected load current and light output through a fade-in and a fade-out."""
     s = styles()
     c = report.curves
@@ -628,7 +630,9 @@ def timing_block(report: Report) -> Block:
     top = plot.nice_ceiling(max(float(np.max(i)), float(np.max(band[1])), steady) * 1.08)
     light_top = top / steady * 100.0 if steady > 0 else 110.0
     left = plot.Axis(0.0, top, f"load current ({unit})")
-    right = plot.Axis(0.0, light_top, "light output (% of steady)",
+    lamp = not isinstance(d.spec.load, LedLoad)
+    # A filament's light is reported against its rated output (rated voltage), an LED's against its steady light.
+    right = plot.Axis(0.0, light_top, "light output (% of rated)" if lamp else "light output (% of steady)",
                       ticks=tuple(t for t in plot.nice_ticks(0.0, light_top) if t <= light_top))
 
     def curves(shift):
@@ -654,14 +658,16 @@ def timing_block(report: Report) -> Block:
 
     follows = ("For LEDs the light follows the current, so the two lines lie on top of each other. "
                if isinstance(d.spec.load, LedLoad) else
-               "A lamp's light lags its current while the filament heats and cools. ")
+               "A lamp's light lags its current while the filament heats and cools; it is shown as a share of "
+               "the lamp's output at its rated voltage, which a lower supply and the drop across Q1 keep it below. ")
     note = _p(f"Nominal parts at {format_quantity(d.spec.supply.nominal_v, 'V')}; steady current "
               f"{format_quantity(report.steady_a, 'A')}. {follows}The marked points define the fade times: "
               f"fade-in ends at 90 % of the steady current, fade-out at 10 %.", s.small)
     return Block("Expected timing", [_Sized(build), note])
 
 
-def heat_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("heat")
+def heat_block(report: Report, frame: Frame) -> Block:
     """How hot Q1 and the resistors run, and whether Q1 needs a heatsink."""
     s = styles()
     h = report.heat
@@ -717,7 +723,8 @@ def _power_plot(report: Report) -> Flowable:
                                                          panels=(panel,), left=axis)))
 
 
-def bench_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("bench")
+def bench_block(report: Report, frame: Frame) -> Block:
     """Meter readings that tell a helper the board is right before the lights go in."""
     s = styles()
     rows = [[_p(x, s.cell_bold) for x in ("Test point", "Feed on", "Feed off")]]
@@ -728,7 +735,8 @@ def bench_block(report: Report) -> Block:
     return Block("Bench readings", [intro, _Sized(lambda aw: _table(rows, _fractions(aw, (1.5, 1, 1))))])
 
 
-def tuning_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("tuning")
+def tuning_block(report: Report, frame: Frame) -> Block:
     """What one swap to the next standard value does, for a helper who wants the fade a little different."""
     s = styles()
     nl = report.design.netlist
@@ -745,54 +753,50 @@ def tuning_block(report: Report) -> Block:
     return Block("Tuning", [intro, _Sized(lambda aw: _table(rows, _fractions(aw, (0.55, 0.85, 1.35, 0.9, 0.98))))])
 
 
-def wiring_block(report: Report) -> Block:
+@SHEET_BLOCKS.register("wiring")
+def wiring_block(report: Report, frame: Frame) -> Block:
     """Numbered steps, and the fuse and wire the harness needs."""
     s = styles()
     h = report.harness
     harness = _pm(
         f"<b>Fuse {h.fuse_a:g} A</b> in the always-on feed. <b>Wire {h.wire_mm2:g} mm² ({h.wire_awg} AWG)</b>, "
-        f"rated {h.wire_rating_a:g} A; the load draws at most {escape(format_quantity(h.max_current_a, 'A'))}.",
+        f"rated {h.wire_rating_a:g} A; the load draws at most {escape(format_quantity(h.max_current_a, 'A'))} "
+        f"at the highest supply, {escape(format_quantity(report.design.spec.supply.max_v, 'V'))}.",
         s.body)
     steps = [_p(text, s.step, bulletText=f"{k}.") for k, text in enumerate(report.wiring, start=1)]
     return Block("Wiring", [harness, *steps])
 
 
-def cautions_block(report: Report) -> Flowable:
+@SHEET_BLOCKS.register("board", whole=True)
+def board_block(report: Report, frame: Frame) -> Block:
+    """Where every part goes: the board's two sides and its cut, link and wire lists (``board_view``)."""
+    from sheetgen.outputs.pdf.board_view import board_items
+
+    return Block("Board", board_items(report.board, report.design.netlist, styles().small))
+
+
+@SHEET_BLOCKS.register("cautions")
+def cautions_block(report: Report, frame: Frame) -> Flowable:
     """The safety cautions, boxed under a black bar so they cannot be missed or skimmed past."""
     s = styles()
     items = [_p(text, s.caution, bulletText="!") for text in report.cautions]
     return Boxed("CAUTIONS: read before you start", items)
 
 
-#: Blocks a reader wants in one piece: they move to the next page rather than split.
-WHOLE_BLOCKS = ("schematic", "timing", "parts")
-
-
-def _kept_whole(maker: Callable[[], Block], page_height_pt: float) -> Callable[[], Block]:
-    def make() -> Block:
-        block = maker()
-        block.whole, block.page_height_pt = True, page_height_pt
-        return block
-    return make
+def _make(name: str, report: Report, frame: Frame) -> Flowable:
+    """The registered block ``name``; a block registered ``whole`` moves on rather than split."""
+    entry = SHEET_BLOCKS.entry(name)
+    block = entry.maker(report, frame)
+    if entry.whole:
+        block.whole, block.page_height_pt = True, frame.height_pt
+    return block
 
 
 def build_blocks(report: Report, layout: Layout, *, frame_width_pt: float, frame_height_pt: float) -> list[Flowable]:
     """The story for ``layout``: blocks in its order, side-by-side rows packed into ColumnRows."""
     from reportlab.platypus import PageBreak
 
-    makers: dict[str, Callable[[], Flowable]] = {
-        "summary": lambda: summary_block(report),
-        "schematic": lambda: schematic_block(report, max_height_pt=frame_height_pt * 0.42),
-        "parts": lambda: parts_block(report),
-        "timing": lambda: timing_block(report),
-        "heat": lambda: heat_block(report),
-        "bench": lambda: bench_block(report),
-        "tuning": lambda: tuning_block(report),
-        "wiring": lambda: wiring_block(report),
-        "cautions": lambda: cautions_block(report),
-    }
-    for name in WHOLE_BLOCKS:
-        makers[name] = _kept_whole(makers[name], frame_height_pt)
+    frame = Frame(frame_width_pt, frame_height_pt)
     widths = layout.column_widths_pt(frame_width_pt)
     gutter = layout.gutter_mm * 72.0 / 25.4
     story: list[Flowable] = []
@@ -809,7 +813,7 @@ def build_blocks(report: Report, layout: Layout, *, frame_width_pt: float, frame
             close_row()
             if story:
                 story.append(PageBreak())
-        flowable = makers[placement.name]()
+        flowable = _make(placement.name, report, frame)
         if placement.column == FULL:
             close_row()
             story.append(flowable)

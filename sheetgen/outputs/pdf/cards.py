@@ -21,17 +21,20 @@ design is the same drawing.  The builder's name is set on the page itself,
 as plain text, never parsed as markup.
 
 Type is set as large as the side allows: the sizes step down from a 9 pt body
-to a 7 pt floor until every block fits (the schematic keeps at least 60 % of its
-natural size), and the block at the fold may cross to the other side when that
-sets the more crowded side larger.  A design too large even then keeps as many
+to a 7 pt floor until every block fits (the schematic keeps at least two thirds of its
+natural size), and up to two blocks at the fold may cross to the other side when
+that sets the more crowded side larger.  A schematic whose labels would print under
+6 pt gives way: blocks move to the other side, or several parallel strings are
+drawn as one and a note naming the others.  A design too large even then keeps as many
 steps as fit and says where the rest are; nothing is ever clipped.
 """
 
 from __future__ import annotations
 
 import io
+import re
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import lru_cache
 from typing import Callable, Sequence
 from xml.sax.saxutils import escape
@@ -43,9 +46,12 @@ from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 from sheetgen import __version__
 from sheetgen.sizing.report import Report
 
-from sheetgen.outputs.pdf.blocks import Heading, paragraph_style, part_bands, part_groups, part_rating, part_value, refs_text, volts_range
+from sheetgen.outputs.wording import keep_units, refs_text, volts_range
+from sheetgen.outputs.pdf.blocks import Heading, paragraph_style, part_bands, part_groups, part_rating, part_value
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
+from sheetgen.inputs.blocknames import CARD_BLOCKS
 from sheetgen.inputs.layout import CardLayout, Slot
+from sheetgen.inputs.spec import LedLoad
 from sheetgen.outputs.pdf.sheet import FOOTER_TEXT, design_digest
 
 __all__ = ["Card", "render_cards", "card_sides", "cut_marks", "CARD_PAD_MM", "MARK_OFFSET_MM", "MARK_LENGTH_MM"]
@@ -56,7 +62,7 @@ MARK_OFFSET_MM = 1.5  # a mark starts this far beyond the corner, so a slightly 
 MARK_LENGTH_MM = 4.0
 MARK_LINE_PT = 0.5
 SCALES = (1.0, 0.96, 0.92, 0.88, 0.85, 0.82, 0.8, 0.78)  # type sizes tried, largest first: 9 pt body down to 7 pt
-SCHEMATIC_MIN_SCALE = 0.6  # labels of 9 pt at natural size stay above 5.4 pt
+SCHEMATIC_MIN_SCALE = 6.0 / 9.0  # labels of 9 pt at natural size stay at 6 pt or more
 SCHEMATIC_MAX_SHARE = 0.62  # of a side's height, so the parts list keeps its room
 BLACK = colors.black
 WHITE = colors.white
@@ -88,6 +94,13 @@ class _Styles:
     gap_pt: float
 
 
+def _number_room(size_pt: float) -> float:
+    """The indent that holds a step number up to 99 and its full stop, with a little air."""
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    return stringWidth("00.", BOLD, size_pt) + 0.3 * size_pt
+
+
 @lru_cache(maxsize=None)
 def _styles(scale: float) -> _Styles:
     """The card's styles with every size multiplied by ``scale`` (1.0: a 9 pt body)."""
@@ -99,11 +112,12 @@ def _styles(scale: float) -> _Styles:
 
     return _Styles(
         body=style("body", 9.0),
-        small=style("small", 7.6),
+        small=style("small", 7.7),  # 6 pt at the smallest scale
         cell=style("cell", 8.6),
         cell_bold=style("cell_bold", 8.6, font=BOLD),
         heading=style("heading", 9.8, font=BOLD),
-        step=style("step", 9.0, leftIndent=15 * scale, bulletIndent=0, bulletFontName=BOLD),
+        # Room for a two-digit number, so steps 10 and on line up with 1 to 9.
+        step=style("step", 9.0, leftIndent=_number_room(9.0 * scale), bulletIndent=0, bulletFontName=BOLD),
         caution_head=style("caution_head", 9.4, font=BOLD, textColor=WHITE),
         caution=style("caution", 8.6, leftIndent=9 * scale, bulletIndent=1, bulletFontName=BOLD),
         gap_pt=3.0 * scale,
@@ -111,8 +125,8 @@ def _styles(scale: float) -> _Styles:
 
 
 def _p(text: str, style: ParagraphStyle, **kw) -> Paragraph:
-    """A paragraph of plain text: escaped, so data such as ``<b>`` prints as written."""
-    return Paragraph(escape(text), style, **kw)
+    """A paragraph of plain text: escaped, so data such as ``<b>`` prints as written; numbers keep their units."""
+    return Paragraph(keep_units(escape(text)), style, **kw)
 
 
 # ------------------------------------------------------------ flowable kit
@@ -238,12 +252,12 @@ def _schematic(art: Flowable, width_pt: float, height_pt: float) -> Flowable:
     return Centred(_Scaled(art, min(1.0, width_pt / art.width, height_pt / art.height)))
 
 
-def _natural_schematic(report: Report) -> Flowable:
+def _natural_schematic(report: Report, *, compact: bool = False) -> Flowable:
     """The schematic at its natural scale (9 pt labels), converted once per design and scaled from then on."""
     from sheetgen.outputs.pdf.schematic import schematic_drawing
 
     d = report.design
-    return schematic_drawing(d.netlist, d.topology, max_width_pt=1e5, max_height_pt=1e5)
+    return schematic_drawing(d.netlist, d.topology, max_width_pt=1e5, max_height_pt=1e5, compact=compact)
 
 
 def _card_value(part) -> str:
@@ -280,7 +294,25 @@ def _identify(part) -> str:
     return part.package
 
 
-def _parts(report: Report, st: _Styles) -> Flowable:
+@dataclass(frozen=True)
+class _Frame:
+    """What a card block is made for: the type, the width, the schematic's room and the steps to keep."""
+
+    st: _Styles
+    width: float
+    schematic_h: float
+    keep_steps: int | None
+    art: Flowable | None
+
+
+@CARD_BLOCKS.register("schematic")
+def _schematic_block(report: Report, frame: _Frame) -> Flowable:
+    return _schematic(frame.art, frame.width, frame.schematic_h)
+
+
+@CARD_BLOCKS.register("parts")
+def _parts(report: Report, frame: _Frame) -> Flowable:
+    st = frame.st
     texts = [("Ref", "Qty", "Value", "Rating", "Identify")]
     for parts, p in part_groups(report):
         texts.append((refs_text([q.ref for q in parts]), str(len(parts)), _card_value(p) or EN_DASH, _card_rating(p),
@@ -311,7 +343,9 @@ def _column_widths(texts: Sequence[Sequence[str]], width: float, st: _Styles, *,
     return widths + [rest]
 
 
-def _harness(report: Report, st: _Styles) -> Flowable:
+@CARD_BLOCKS.register("harness")
+def _harness(report: Report, frame: _Frame) -> Flowable:
+    st = frame.st
     h = report.harness
     trigger = ("grounded when the light should be on" if report.design.spec.trigger == "ground"
                else "goes positive when the light should be on")
@@ -325,8 +359,10 @@ def _harness(report: Report, st: _Styles) -> Flowable:
     return _Framed(lines, pad_pt=4.0 * st.gap_pt / 3.0, line_pt=1.2)
 
 
-def _steps(report: Report, st: _Styles, *, keep: int | None = None) -> Flowable:
-    """The card's numbered steps; ``keep`` shows only the first steps and says where the rest are."""
+@CARD_BLOCKS.register("steps")
+def _steps(report: Report, frame: _Frame) -> Flowable:
+    """The card's numbered steps; ``keep_steps`` shows only the first steps and says where the rest are."""
+    st, keep = frame.st, frame.keep_steps
     steps = report.brief.steps
     shown = steps if keep is None else steps[:keep]
     items: list[Flowable] = [_heading("Wiring steps", st.heading)]
@@ -339,7 +375,9 @@ def _steps(report: Report, st: _Styles, *, keep: int | None = None) -> Flowable:
     return _Stack(items, gap_pt=st.gap_pt * 0.6)
 
 
-def _readings(report: Report, st: _Styles) -> Flowable:
+@CARD_BLOCKS.register("readings")
+def _readings(report: Report, frame: _Frame) -> Flowable:
+    st = frame.st
     rows = [[_p(x, st.cell_bold) for x in ("Test point", "Feed on", "Feed off")]]
     rows += [[_p(b.label, st.cell), _p(volts_range(b.on_v), st.cell), _p(volts_range(b.off_v), st.cell)]
              for b in report.bench]
@@ -349,14 +387,21 @@ def _readings(report: Report, st: _Styles) -> Flowable:
                   gap_pt=st.gap_pt)
 
 
-def _cautions(report: Report, st: _Styles) -> Flowable:
+@CARD_BLOCKS.register("cautions")
+def _cautions(report: Report, frame: _Frame) -> Flowable:
+    st = frame.st
     items = [_p(text, st.caution, bulletText="!") for text in report.brief.cautions]
     return _Framed(items, title=_p("CAUTIONS", st.caution_head), pad_pt=3.5, line_pt=1.6)
 
 
-_MAKERS: dict[str, Callable[[Report, _Styles], Flowable]] = {
-    "parts": _parts, "harness": _harness, "readings": _readings, "cautions": _cautions,
-}
+@CARD_BLOCKS.register("board")
+def _board(report: Report, frame: _Frame) -> Flowable:
+    st = frame.st
+    from sheetgen.outputs.pdf.board_view import BoardViews
+
+    return _Stack([_heading("Board", st.heading), BoardViews(report.board, report.design.netlist,
+                                                             font_pt=st.small.fontSize, max_pitch_pt=11.0)],
+                  gap_pt=st.gap_pt)
 
 
 # ------------------------------------------------------------------ fitting
@@ -371,12 +416,13 @@ class _Side:
     scale: float  # type scale (1.0 = 9 pt body)
     steps_cut: bool = False  # some steps left to the sheet
     shrink: float = 1.0  # below 1 only when nothing else fits: the whole body drawn smaller
+    legible: bool = True  # False only when nothing else fits: the schematic's labels fall under 6 pt
 
     @property
     def rank(self) -> tuple:
-        """Larger is better: readable type first (a shrunk side sets it below 7 pt), then every step
-        on the card, then larger type."""
-        return (self.shrink, not self.steps_cut, self.scale)
+        """Larger is better: schematic labels of 6 pt or more, readable type (a shrunk side sets it below
+        7 pt), then every step on the card, then larger type."""
+        return (self.legible, self.shrink, not self.steps_cut, self.scale)
 
 
 def _measure(items: Sequence[Flowable], width: float, gap: float) -> float:
@@ -385,15 +431,8 @@ def _measure(items: Sequence[Flowable], width: float, gap: float) -> float:
 
 def _build_side(report: Report, blocks: Sequence[str], st: _Styles, *, width: float, schematic_h: float,
                 keep_steps: int | None, art: Flowable | None) -> list[Flowable]:
-    items = []
-    for name in blocks:
-        if name == "schematic":
-            items.append(_schematic(art, width, schematic_h))
-        elif name == "steps":
-            items.append(_steps(report, st, keep=keep_steps))
-        else:
-            items.append(_MAKERS[name](report, st))
-    return items
+    frame = _Frame(st, width, schematic_h, keep_steps, art)
+    return [CARD_BLOCKS.entry(name).maker(report, frame) for name in blocks]
 
 
 def _try_side(report: Report, blocks: tuple[str, ...], scale: float, keep: int | None, *, width: float,
@@ -408,8 +447,8 @@ def _try_side(report: Report, blocks: tuple[str, ...], scale: float, keep: int |
                         width, st.gap_pt * 2)
         room = height - rest - (st.gap_pt * 2 if others else 0.0)
         schematic_h = min(full, room, SCHEMATIC_MAX_SHARE * height)
-        if schematic_h < art.height * SCHEMATIC_MIN_SCALE:
-            return None
+        if schematic_h < art.height * SCHEMATIC_MIN_SCALE or width < art.width * SCHEMATIC_MIN_SCALE:
+            return None  # its labels would print under 6 pt
     items = _build_side(report, blocks, st, width=width, schematic_h=schematic_h, keep_steps=keep, art=art)
     used = _measure(items, width, st.gap_pt * 2)
     if used > height + 0.01:
@@ -452,28 +491,49 @@ def _fit_side(report: Report, blocks: Sequence[str], *, width: float, height: fl
     items = _build_side(report, blocks, st, width=width, schematic_h=schematic_h,
                         keep_steps=1 if steps else None, art=art)
     used = _measure(items, width, st.gap_pt * 2)
+    shrink = min(1.0, height / used)
+    wide = art is not None and "schematic" in blocks and width < art.width * SCHEMATIC_MIN_SCALE
     return _Side(blocks=blocks, items=tuple(items), gap_pt=st.gap_pt * 2, height_pt=used, scale=SCALES[-1],
-                 steps_cut=steps > 1, shrink=min(1.0, height / used))
+                 steps_cut=steps > 1, shrink=shrink, legible=shrink == 1.0 and not wide)
 
 
 def card_sides(report: Report, layout: CardLayout) -> dict[str, _Side]:
     """Both sides of this design's card, fitted to the layout.
 
-    With ``balance`` on, the block at the fold (the front's last, the back's
-    first) may cross to the other side, order kept, when that lets the more
+    With ``balance`` on, up to two blocks at the fold (the front's last, the
+    back's first) may cross to the other side, order kept, when that lets the more
     crowded side set larger type; on a tie the layout's own split stands.
     """
+    if "board" in layout.front + layout.back and report.brief.board_steps:
+        report = replace(report, brief=replace(report.brief, steps=report.brief.board_steps))
     w, h = layout.card_pt
     pad = CARD_PAD_MM * PT_PER_MM
     inner_w = w - 2 * pad
     front_h = h - 2 * pad - _FRONT_HEAD_PT - _FOOT_PT
     back_h = h - 2 * pad - _BACK_HEAD_PT - _FOOT_PT
-    art = _natural_schematic(report) if "schematic" in layout.front + layout.back else None
+    if "schematic" not in layout.front + layout.back:
+        return _sides(report, layout, None, inner_w=inner_w, front_h=front_h, back_h=back_h)[1]
+    best = _sides(report, layout, _natural_schematic(report), inner_w=inner_w, front_h=front_h, back_h=back_h)
+    load = report.design.spec.load
+    branches = load.strings if isinstance(load, LedLoad) else load.count
+    if branches > 1 and best[0] < ((True, 1.0, True, SCALES[0]),) * 2:
+        # Every string drawn side by side leaves the card short of room: draw one and name the rest.
+        compact = _sides(report, layout, _natural_schematic(report, compact=True), inner_w=inner_w,
+                         front_h=front_h, back_h=back_h)
+        if compact[0] > best[0]:
+            best = compact
+    return best[1]
+
+
+def _sides(report: Report, layout: CardLayout, art: Flowable | None, *, inner_w: float, front_h: float,
+           back_h: float) -> tuple[tuple, dict[str, _Side]]:
+    """The best split of the blocks over the two sides with this drawing, and its rank."""
     if not layout.back:
-        return {"front": _fit_side(report, layout.front, width=inner_w, height=front_h, art=art)}
+        front = _fit_side(report, layout.front, width=inner_w, height=front_h, art=art)
+        return (front.rank, front.rank), {"front": front}
     order = layout.front + layout.back
     here = len(layout.front)
-    splits = [here] + ([k for k in (here - 1, here + 1) if 1 <= k < len(order)] if layout.balance else [])
+    splits = [here] + ([k for k in (here - 1, here + 1, here - 2, here + 2) if 1 <= k < len(order)] if layout.balance else [])
     best = None
     for k in splits:
         front = _fit_side(report, order[:k], width=inner_w, height=front_h, art=art)
@@ -481,12 +541,12 @@ def card_sides(report: Report, layout: CardLayout) -> dict[str, _Side]:
         rank = (min(front.rank, back.rank), max(front.rank, back.rank))
         if best is None or rank > best[0]:
             best = (rank, {"front": front, "back": back})
-    return best[1]
+    return best
 
 
 # ------------------------------------------------------------ card drawing
 _NAME_PT = 23.0  # the name's band: one line of 15 pt or two of up to 9.5 pt
-_FRONT_HEAD_PT = 8.0 + _NAME_PT + 16.0  # label, name, then the design title and the event on one line, a rule
+_FRONT_HEAD_PT = 8.0 + _NAME_PT + 16.0  # label and event, name, design title, rule
 _BACK_HEAD_PT = 18.0
 _FOOT_PT = 8.5
 _LETTER_BOX_PT = 30.0
@@ -572,17 +632,32 @@ def _front_header(c, card: Card, *, x: float, y_top: float, width: float) -> Non
         c.drawString(x, y + 1.5, "Name")
         c.setLineWidth(0.6)
         c.line(x + stringWidth("Name ", REGULAR, 8.0), y, x + text_w, y)
+    if card.event:  # on the label's line, right of it: the date always whole, the event's name shortened first
+        label_w = stringWidth(card.place.upper() if card.place else "BUILDER", REGULAR, 6.5) + 8.0
+        event, e_size = _event_line(card.event, text_w - label_w)
+        c.setFont(REGULAR, e_size)
+        c.drawRightString(x + text_w, y_top - 5.5, event)
     base = name_top - _NAME_PT - 8.5
-    title, t_size = _one_line(d.spec.title, BOLD, 8.5, 7.0, width if not card.event else width * 0.6)
+    title, t_size = _one_line(d.spec.title, BOLD, 8.5, 7.0, width)
     c.setFont(BOLD, t_size)
     c.drawString(x, base, title)
-    if card.event:
-        after = stringWidth(title, BOLD, t_size) + 6.0
-        event, e_size = _one_line(card.event, REGULAR, 7.0, 6.0, width - after)
-        c.setFont(REGULAR, e_size)
-        c.drawString(x + after, base, event)
     c.setLineWidth(1.2)
     c.line(x, y_top - _FRONT_HEAD_PT + 2.5, x + width, y_top - _FRONT_HEAD_PT + 2.5)
+
+
+def _event_line(event: str, width: float) -> tuple[str, float]:
+    """The event's line at 6.5 to 6 pt; if still too long, its name ends in an ellipsis but its date stays whole."""
+    name, dot, date = event.rpartition(" \u00b7 ")
+    if not dot or not re.fullmatch(r"\d{4}-\d{2}-\d{2}", date):
+        return _one_line(event, REGULAR, 6.5, 6.0, width)
+    lines, size = _fit_lines(event, REGULAR, 6.5, 6.0, width, 1)
+    if len(lines) == 1:
+        return lines[0], size
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    tail = f" \u00b7 {date}"
+    short, _ = _one_line(name, REGULAR, 6.0, 6.0, max(width - stringWidth(tail, REGULAR, 6.0), 0.0))
+    return short + tail, 6.0
 
 
 def _one_line(text: str, font: str, largest: float, smallest: float, width: float) -> tuple[str, float]:

@@ -41,9 +41,10 @@ def register() -> None:
 
 
 def missing_glyphs(text: str, *, font: str = REGULAR) -> str:
-    """The characters of ``text`` the font cannot draw (reportlab would print a box)."""
+    """The characters of ``text`` the font cannot draw (reportlab would print a box), each once, in the
+    order written (a right-to-left reader of a message still finds them as typed)."""
     from reportlab.pdfbase import pdfmetrics
 
     register()
     face = pdfmetrics.getFont(font).face
-    return "".join(sorted({ch for ch in text if ord(ch) not in face.charToGlyph}))
+    return "".join(dict.fromkeys(ch for ch in text if ord(ch) not in face.charToGlyph))

@@ -86,10 +86,10 @@ def nice_ticks(lo: float, hi: float, *, target: int = 5) -> tuple[float, ...]:
 
 
 def tick_label(v: float, ticks: tuple[float, ...]) -> str:
-    """Tick text with just enough decimals for the step between ticks."""
-    step = ticks[1] - ticks[0] if len(ticks) > 1 else 1.0
-    decimals = max(0, -math.floor(math.log10(step) + 1e-9)) if step < 1 else 0
-    if decimals and abs(step * 10**decimals - round(step * 10**decimals)) > 1e-6:
+    """Tick text with just enough decimals that every tick reads as its value (2.5, not 2)."""
+    step = abs(ticks[1] - ticks[0]) if len(ticks) > 1 else 1.0
+    decimals = 0
+    while decimals < 6 and abs(step * 10**decimals - round(step * 10**decimals)) > 1e-6 * max(1.0, step * 10**decimals):
         decimals += 1
     return f"{v:.{decimals}f}"
 

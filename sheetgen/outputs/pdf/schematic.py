@@ -11,7 +11,8 @@ elements (never glyph outlines), each label line sits on its alphabetic
 baseline (svglib ignores ``dominant-baseline``; the few texts schemdraw
 anchors otherwise are moved before conversion), and svglib is given a font
 map that sends every family to the sheet's embedded DejaVu Sans.  Labels are
-measured with that same font, so the places the pen finds for them hold.
+measured with that same font, so the places found for them hold (``labels.py``
+chooses those places).
 
 schemdraw, svglib and reportlab are imported inside the functions that need
 them, so importing this module costs nothing.
@@ -19,18 +20,19 @@ them, so importing this module costs nothing.
 
 from __future__ import annotations
 
+import hashlib
 import io
 import math
-import re
-from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Sequence
 from xml.etree import ElementTree as ET
 
 from sheetgen.model.netlist import GROUND, PIN_ORDER, Netlist, Part
-from sheetgen.inputs.units import format_quantity
 
 from sheetgen.outputs.pdf.fonts import REGULAR as PDF_FONT
 from sheetgen.outputs.pdf.fonts import register as register_fonts
+from sheetgen.outputs.pdf.labels import (FONT_PT, INCHES_PER_UNIT, PART, SIGN, TAG, Ask, Box, Spot, part_label,
+                                         place, probe_tag, spots_around, text_width)
+from sheetgen.outputs.wording import refs_text as span
 
 if TYPE_CHECKING:
     from reportlab.graphics.shapes import Drawing
@@ -40,11 +42,7 @@ if TYPE_CHECKING:
 __all__ = ["schematic_svg", "schematic_drawing", "FONT_PT", "LINE_PT"]
 
 SVG_FONT_FAMILY = "DejaVu Sans"  # the family the SVG names; a browser with DejaVu shows what the PDF shows
-FONT_PT = 9.0  # label size at natural scale; the sheet scales the whole drawing to fit its box
 LINE_PT = 1.6  # wire and symbol weight at natural scale: still ≥ 1 pt when shrunk to half an A4 page
-LEADING = 1.15  # line spacing of multi-line labels, in font sizes
-INCHES_PER_UNIT = 0.3  # schemdraw drawing unit -> inches
-PT_PER_UNIT = 72.0 * INCHES_PER_UNIT
 PITCH = 2.0  # one part pitch (a resistor's length), in drawing units
 LED_PITCHES = 0.75  # an LED is shorter than a resistor: strings stay a sensible height
 GAP = 0.15  # between a symbol and its label, drawing units
@@ -60,91 +58,6 @@ _HALF = {"resistor": 0.3, "capacitor": 0.3, "diode": 0.3, "led": 0.3, "lamp": 0.
 _LED_ARROWS = 0.85  # how far an LED's light arrows reach on their side
 
 
-@dataclass(frozen=True)
-class Box:
-    """A label's extent in drawing units (y up), for layout and overlap checks."""
-
-    x0: float
-    y0: float
-    x1: float
-    y1: float
-    text: str
-
-    def overlaps(self, other: Box) -> bool:
-        """True when the two boxes share area (touching edges do not count)."""
-        return self.x0 < other.x1 and other.x0 < self.x1 and self.y0 < other.y1 and other.y0 < self.y1
-
-
-def _text_width(text: str) -> float:
-    """Width of one line of label text in drawing units, with the font the PDF embeds."""
-    from reportlab.pdfbase.pdfmetrics import stringWidth
-
-    return stringWidth(text, PDF_FONT, FONT_PT) / PT_PER_UNIT
-
-
-def _line_height() -> float:
-    return FONT_PT * LEADING / PT_PER_UNIT
-
-
-def _span(refs: Sequence[str]) -> str:
-    """``LED1–LED5`` for a run of consecutive designators, else a comma list."""
-    if len(refs) <= 2:
-        return ", ".join(refs)
-    parsed = [re.fullmatch(r"([A-Z]+)(\d+)", r) for r in refs]
-    if all(parsed):
-        prefixes = {m.group(1) for m in parsed}
-        numbers = [int(m.group(2)) for m in parsed]
-        if len(prefixes) == 1 and numbers == list(range(numbers[0], numbers[0] + len(numbers))):
-            return f"{refs[0]}\u2013{refs[-1]}"
-    return ", ".join(refs)
-
-
-def part_label(part: Part) -> list[str]:
-    """The lines printed beside a part: its reference, then what to fetch from the drawer."""
-    lines = [part.ref]
-    if part.kind == "resistor" and part.value is not None:
-        lines.append(format_quantity(float(part.value), "ohm"))
-        if part.rating_w is not None and part.rating_w > 0.25:
-            lines.append(format_quantity(part.rating_w, "W"))  # a ¼ W part from the drawer would cook
-    elif part.kind == "capacitor" and part.value is not None:
-        lines.append(format_quantity(float(part.value), "F"))
-        if part.rating_v is not None:
-            lines.append(format_quantity(part.rating_v, "V"))
-    elif part.kind == "lamp":
-        if part.rating_v is not None and part.rating_w is not None:
-            lines.append(f"{format_quantity(part.rating_v, 'V')} {format_quantity(part.rating_w, 'W')}")
-    elif part.kind != "led":
-        lines.append(part.part_number or part.description)
-    return lines
-
-
-def _probe_tag(label: str) -> str:
-    """The designator of a probe label (``TP2 timing capacitor`` -> ``TP2``): the sheet's table says the rest."""
-    return label.split()[0] if label.strip() else label
-
-
-@dataclass(frozen=True)
-class _Spot:
-    """One place a label may stand: an anchor and how the text block hangs from it."""
-
-    x: float
-    y: float
-    halign: str  # left | center | right
-    valign: str  # top | center | bottom
-
-
-@dataclass(frozen=True)
-class _Ask:
-    """A label waiting to be placed; the first spot that collides with nothing wins."""
-
-    lines: tuple[str, ...]
-    spots: tuple[_Spot, ...]
-    priority: int  # lower goes first: part values claim their places before test point tags
-
-
-_PART, _SIGN, _TAG = 0, 1, 2
-
-
 class SchemdrawPen:
     """The ``Pen`` of ``sheetgen.circuits.topologies``, drawing onto one schemdraw ``Drawing``.
 
@@ -156,7 +69,7 @@ class SchemdrawPen:
     named (``named``).
     """
 
-    def __init__(self) -> None:
+    def __init__(self, *, compact: bool = False) -> None:
         import schemdraw
 
         register_fonts()
@@ -166,7 +79,8 @@ class SchemdrawPen:
         self.boxes: list[Box] = []
         self.collisions: list[str] = []
         self.named: list[str] = []
-        self._asks: list[_Ask] = []
+        self._asks: list[Ask] = []
+        self._compact = compact  # parallel branches drawn as the first and a note naming the rest
         self._here = (0.0, 0.0)
         self._net: str | None = None
         self._marks: dict[str, tuple[tuple[float, float], str]] = {}
@@ -245,8 +159,12 @@ class SchemdrawPen:
             raise ValueError(f"no load branches between {top!r} and {bottom!r}")
         for branch in branches:
             _check_chain(branch, top, bottom)
-        if len(branches) > SHOW_ALL_BRANCHES:
-            shown: list[Sequence[Part] | None] = [branches[0], None, branches[-1]]
+        if self._compact and len(branches) > 1:
+            shown: list[Sequence[Part] | None] = [None, branches[0]]  # the note over the circuit, not beyond it
+            note = _hidden_note(branches[1:])
+            self.named.extend(p.ref for b in branches[1:] for p in b)
+        elif len(branches) > SHOW_ALL_BRANCHES:
+            shown = [branches[0], None, branches[-1]]
             note = _hidden_note(branches[1:-1])
             self.named.extend(p.ref for b in branches[1:-1] for p in b)
         else:
@@ -256,12 +174,12 @@ class SchemdrawPen:
         lefts, rights = [], []
         for branch in shown:
             if branch is None:
-                half = max(_text_width(t) for t in note) / 2 + 0.2
+                half = max(text_width(t) for t in note) / 2 + 0.2
                 lefts.append(half)
                 rights.append(half)
                 continue
             lefts.append(max(_LED_ARROWS if p.kind == "led" else _HALF[p.kind] for p in branch))
-            label_w = max(_text_width(t) for group in _groups(branch) for t in _group_label(group))
+            label_w = max(text_width(t) for group in _groups(branch) for t in _group_label(group))
             rights.append(max(_HALF[p.kind] for p in branch) + GAP + label_w)
         xs = [0.0]
         for j in range(1, len(shown)):
@@ -280,14 +198,14 @@ class SchemdrawPen:
 
         for x, branch in zip(xs, shown):
             if branch is None:
-                self._ask(note, [_Spot(x, y_top - 0.5, "center", "top")], _PART)
+                self._ask(note, [Spot(x, y_top - 0.5, "center", "top")], PART)
                 continue
             self._here, self._net = (x, y_top), top
             self._draw_branch(branch)
             self._line(self._here, (x, y_bus))
-        if len(xs) > 1:
-            self._line((xs[0], y_top), (xs[-1], y_top))
-            self._line((xs[0], y_bus), (xs[-1], y_bus))
+        if len(real) > 1:  # rails join the drawn branches; a compact note beside them hangs free
+            self._line((xs[real[0]], y_top), (xs[real[-1]], y_top))
+            self._line((xs[real[0]], y_bus), (xs[real[-1]], y_bus))
             for j in real[:-1]:  # the rail tees into every column but the last, where it turns
                 self._dot((xs[j], y_top))
             for j in real:  # the bus tees where the cursor's wire joins and at every inner column
@@ -308,7 +226,7 @@ class SchemdrawPen:
         self._current()
         radius = TP_RADIUS * 1.3
         self.drawing.add(elm.Dot(open=True, radius=radius).at(self._here))
-        self._ask(text.split("\n"), _spots(self._here, (toward,), radius + GAP), _PART)
+        self._ask(text.split("\n"), spots_around(self._here, (toward,), radius + GAP), PART)
 
     def test_point(self, label: str, net: str, toward: Direction) -> None:
         import schemdraw.elements as elm
@@ -326,7 +244,7 @@ class SchemdrawPen:
             sides = (toward, "up", "down")
         else:
             sides = ("right", "left", toward)
-        self._ask([_probe_tag(label)], _spots(tip, sides, TP_RADIUS + 0.08), _TAG)
+        self._ask([probe_tag(label)], spots_around(tip, sides, TP_RADIUS + 0.08), TAG)
 
     # -- after the recipe -------------------------------------------------------------------
 
@@ -340,30 +258,21 @@ class SchemdrawPen:
         for e in self.drawing.elements:
             b = e.get_bbox(transform=True, includetext=False)
             obstacles.append(Box(b.xmin - pad, b.ymin - pad, b.xmax + pad, b.ymax + pad, type(e).__name__))
-        cap = 0.73 * FONT_PT / PT_PER_UNIT  # DejaVu Sans cap height
-        step = _line_height()
-        for ask in sorted(self._asks, key=lambda a: a.priority):
-            candidates = [_box(ask.lines, spot) for spot in ask.spots]
-            free = [c for c in candidates if not any(c.overlaps(o) for o in obstacles + self.boxes)]
-            if free:
-                box, spot = free[0], ask.spots[candidates.index(free[0])]
-            else:
-                box, spot = candidates[0], ask.spots[0]
-                hits = [o.text for o in obstacles + self.boxes if box.overlaps(o)]
-                self.collisions.append(f"{box.text!r} meets {', '.join(hits)}")
-            self.boxes.append(box)
+        placed, collisions = place(self._asks, obstacles)
+        self.collisions.extend(collisions)
+        for label in placed:
+            self.boxes.append(label.box)
             holder = elm.Element()
-            for k, line in enumerate(ask.lines):
-                baseline = box.y1 - k * step - (step - cap) / 2 - cap
-                holder.segments.append(SegmentText((0, baseline), line, align=(spot.halign, "base"),  # type: ignore[arg-type]
+            for line, baseline in zip(label.lines, label.baselines()):
+                holder.segments.append(SegmentText((0, baseline), line, align=(label.spot.halign, "base"),  # type: ignore[arg-type]
                                                    fontsize=FONT_PT, font=SVG_FONT_FAMILY))
-            self.drawing.add(holder.theta(0).at((spot.x, 0.0)))
+            self.drawing.add(holder.theta(0).at((label.spot.x, 0.0)))
         self._asks.clear()
 
     # -- helpers --------------------------------------------------------------------------
 
-    def _ask(self, lines: Sequence[str], spots: Sequence[_Spot], priority: int) -> None:
-        self._asks.append(_Ask(tuple(lines), tuple(spots), priority))
+    def _ask(self, lines: Sequence[str], spots: Sequence[Spot], priority: int) -> None:
+        self._asks.append(Ask(tuple(lines), tuple(spots), priority))
 
     def _current(self) -> str:
         if self._net is None:
@@ -415,17 +324,17 @@ class SchemdrawPen:
         half = _HALF[part.kind]
         across: tuple[Direction, Direction] = ("up", "down") if toward in ("left", "right") else ("right", "left")
         if label:
-            spots = _spots(mid, across, half + GAP)
+            spots = spots_around(mid, across, half + GAP)
             if toward in ("up", "down"):
                 # A tall label may reach the wire at the part's top: then let it hang lower.
                 low = (mid[0], min(start[1], end[1]) + 0.3 * PITCH)
-                spots += _spots(low, across, half + GAP)
-            self._ask(part_label(part), spots, _PART)
+                spots += spots_around(low, across, half + GAP)
+            self._ask(part_label(part), spots, PART)
             self.named.append(part.ref)
         if plus_pin is not None:
             plus_end = start if plus_pin == near else end
             at = (mid[0] + (plus_end[0] - mid[0]) * 0.3, mid[1] + (plus_end[1] - mid[1]) * 0.3)
-            self._ask(["+"], _spots(at, across[::-1], half + 0.05), _SIGN)
+            self._ask(["+"], spots_around(at, across[::-1], half + 0.05), SIGN)
 
     def _transistor(self, part: Part, element: Any, kind: str, anchors: tuple[str, str, str]) -> None:
         """A transistor hung by its control pin from the cursor, labelled to its right, clear of its leads.
@@ -445,8 +354,8 @@ class SchemdrawPen:
             self._pins[(part.ref, pin)] = ((float(x), float(y)), part.net(pin))
         box = q.get_bbox(transform=True, includetext=False)
         mid_y = (box.ymin + box.ymax) / 2
-        self._ask(part_label(part), [_Spot(box.xmax + GAP, mid_y - 0.2, "left", "center"),
-                                     _Spot(box.xmax + GAP, box.ymin, "left", "top")], _PART)
+        self._ask(part_label(part), [Spot(box.xmax + GAP, mid_y - 0.2, "left", "center"),
+                                     Spot(box.xmax + GAP, box.ymin, "left", "top")], PART)
         self.named.append(part.ref)
 
     def _draw_branch(self, branch: Sequence[Part]) -> None:
@@ -465,7 +374,7 @@ class SchemdrawPen:
                     self._net = group[-1].net("A")
                     self._two_terminal(group[-1], elm.LED(), "down", pitches=LED_PITCHES, label=False, flip=True)
                     mid = (self._here[0], (top_y + self._here[1]) / 2)
-                    self._ask(_group_label(group), _spots(mid, ("right",), _HALF["led"] + GAP), _PART)
+                    self._ask(_group_label(group), spots_around(mid, ("right",), _HALF["led"] + GAP), PART)
                 else:
                     for led in group:
                         self._two_terminal(led, elm.LED(), "down", pitches=LED_PITCHES, flip=True)
@@ -476,27 +385,6 @@ class SchemdrawPen:
                 self._two_terminal(group[0], elm.ResistorIEEE(), "down")
             else:
                 raise ValueError(f"{group[0].ref}: a {kind} cannot be drawn in a load branch")
-
-
-def _spots(at: tuple[float, float], sides: Sequence[Direction], clearance: float) -> list[_Spot]:
-    """Candidate spots for a label on the given sides of a point, ``clearance`` away, in order."""
-    x, y = at
-    place = {
-        "left": _Spot(x - clearance, y, "right", "center"),
-        "right": _Spot(x + clearance, y, "left", "center"),
-        "up": _Spot(x, y + clearance, "center", "bottom"),
-        "down": _Spot(x, y - clearance, "center", "top"),
-    }
-    return [place[s] for s in sides]
-
-
-def _box(lines: Sequence[str], spot: _Spot) -> Box:
-    """Where a block of label lines would stand if hung from ``spot``."""
-    height = _line_height() * len(lines)
-    width = max(_text_width(t) for t in lines)
-    top = {"top": spot.y, "center": spot.y + height / 2, "bottom": spot.y + height}[spot.valign]
-    x0 = {"left": spot.x, "center": spot.x - width / 2, "right": spot.x - width}[spot.halign]
-    return Box(x0, top - height, x0 + width, top, " ".join(lines))
 
 
 def _unit_vector(toward: Direction) -> tuple[float, float]:
@@ -539,7 +427,7 @@ def _groups(branch: Sequence[Part]) -> list[list[Part]]:
 def _group_label(group: Sequence[Part]) -> list[str]:
     if group[0].kind == "led":
         if len(group) > SHOW_ALL_IN_SERIES:
-            return [_span([p.ref for p in group]), f"{len(group)} in series"]
+            return [span([p.ref for p in group]), f"{len(group)} in series"]
         return [p.ref for p in group]
     return part_label(group[0])
 
@@ -564,13 +452,13 @@ def _hidden_note(hidden: Sequence[Sequence[Part]]) -> list[str]:
             by_kind.setdefault(part.kind, []).append(part.ref)
     what = "lamp" if all(p.kind == "lamp" for b in hidden for p in b) else "string"
     lines = [f"+ {len(hidden)} {what}{'' if len(hidden) == 1 else 's'}", "the same:"]
-    lines += [_span(refs) for refs in by_kind.values()]
+    lines += [span(refs) for refs in by_kind.values()]
     return lines
 
 
-def _layout(netlist: Netlist, topology: Topology) -> SchemdrawPen:
+def _layout(netlist: Netlist, topology: Topology, *, compact: bool = False) -> SchemdrawPen:
     """Run the topology's recipe on a fresh pen and check that it named every part."""
-    pen = SchemdrawPen()
+    pen = SchemdrawPen(compact=compact)
     topology.draw(pen, netlist)
     pen.finish()
     missing = [p.ref for p in netlist.parts if p.ref not in pen.named]
@@ -598,9 +486,13 @@ def _svg_of(pen: SchemdrawPen) -> bytes:
         schemdraw.svgconfig.text = previous
 
 
-def schematic_svg(netlist: Netlist, topology: Topology) -> bytes:
-    """The schematic as a standalone SVG document (UTF-8), text kept as text."""
-    return _svg_of(_layout(netlist, topology))
+def schematic_svg(netlist: Netlist, topology: Topology, *, compact: bool = False) -> bytes:
+    """The schematic as a standalone SVG document (UTF-8), text kept as text.
+
+    ``compact`` draws one of several parallel load branches and names the rest in a note
+    ("+ 2 strings the same"), for a card too narrow for every string at a readable size.
+    """
+    return _svg_of(_layout(netlist, topology, compact=compact))
 
 
 # How far below its anchor the alphabetic baseline sits for each dominant-baseline, in ems:
@@ -621,8 +513,28 @@ def _for_svglib(svg: bytes) -> bytes:
     return ET.tostring(root, encoding="utf-8")
 
 
+def _art_cache_key(netlist: Netlist, topology: Topology, *, compact: bool):
+    """Where svglib's reading of this schematic is kept: it depends on the circuit, this code and the libraries.
+
+    Drawing the SVG and reading it back cost most of a sheet's rendering, and
+    neither depends on anything but the netlist and its drawing recipe.
+    """
+    import pickle
+
+    import reportlab
+    import schemdraw
+    import svglib
+
+    from sheetgen.sizing.cache import PACKAGE, DesignCache, code_fingerprint
+
+    code = code_fingerprint(PACKAGE, ("model", "circuits", "inputs/units.py", "outputs/pdf", "fonts"))
+    versions = f"{reportlab.Version} {schemdraw.__version__} {getattr(svglib, '__version__', '')}"
+    blob = pickle.dumps((netlist, topology, compact), protocol=4) + f"\n{code}\n{versions}".encode()
+    return DesignCache(), "schematic-" + hashlib.sha256(blob).hexdigest()
+
+
 def schematic_drawing(netlist: Netlist, topology: Topology, *, max_width_pt: float,
-                      max_height_pt: float) -> Drawing:
+                      max_height_pt: float, compact: bool = False) -> Drawing:
     """The schematic as a reportlab vector ``Drawing`` no larger than the box given.
 
     The drawing is shrunk to fit but never enlarged: at natural size its text
@@ -641,9 +553,14 @@ def schematic_drawing(netlist: Netlist, topology: Topology, *, max_width_pt: flo
     if max_width_pt <= 0 or max_height_pt <= 0:
         raise ValueError(f"the box must have room: {max_width_pt} × {max_height_pt} pt")
     register_fonts()
-    art = svg2rlg(io.BytesIO(_for_svglib(schematic_svg(netlist, topology))), font_map=_SheetFont())
+    cache, key = _art_cache_key(netlist, topology, compact=compact)
+    art = cache.get(key)
     if art is None:
-        raise ValueError("svglib could not read the schematic SVG")
+        art = svg2rlg(io.BytesIO(_for_svglib(schematic_svg(netlist, topology, compact=compact))),
+                      font_map=_SheetFont())
+        if art is None:
+            raise ValueError("svglib could not read the schematic SVG")
+        cache.put(key, art)
     body = Group(*art.contents)
     x0, y0, x1, y1 = body.getBounds()
     pad = LINE_PT  # strokes reach half a line beyond the geometry, round caps included

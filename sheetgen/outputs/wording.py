@@ -1,0 +1,44 @@
+"""Figures worded the same way in every output: the terminal, the sheet and the cards read them from here.
+
+One figure has one printed form: a standby drain, a reference run or a meter
+window reads the same wherever it appears.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Sequence
+
+from sheetgen.inputs.units import format_quantity
+
+EN_DASH = "\u2013"
+
+
+def refs_text(refs: Sequence[str]) -> str:
+    """``R4, R5`` for two, ``LED1–LED6`` for a consecutive run of three or more."""
+    parsed = [re.fullmatch(r"([A-Z]+)(\d+)", r) for r in refs]
+    if len(refs) >= 3 and all(parsed) and len({m[1] for m in parsed}) == 1:
+        nums = [int(m[2]) for m in parsed]
+        if nums == list(range(nums[0], nums[0] + len(nums))):
+            return f"{refs[0]}{EN_DASH}{refs[-1]}"
+    return ", ".join(refs)
+
+
+def standby_text(i_a: float) -> str:
+    """Standby drain as printed: leakage below a nanoamp is no drain worth a number."""
+    return format_quantity(i_a, "A") if i_a >= 1e-9 else "under 1 nA (no real drain)"
+
+
+def volts_range(lo_hi: tuple[float, float]) -> str:
+    """A meter reading window, e.g. ``10.85–14.45 V``; a window at 0 V reads ``0.00–0.00 V``, never ``-0.00``."""
+    lo, hi = (0.0 if abs(v) < 0.005 else v for v in lo_hi)
+    return f"{lo:.2f}{EN_DASH}{hi:.2f} V"
+
+
+NBSP = "\u00a0"
+_NUMBER_UNIT = re.compile(r"(\d) (?=(?:[pnµmkM]?(?:Ω|V|A|W|F|s|J)|°C|mm²|%|AWG|×)(?![A-Za-z]))")
+
+
+def keep_units(text: str) -> str:
+    """Join each number to its unit with a no-break space, so ``125 °C`` never wraps apart on a page."""
+    return _NUMBER_UNIT.sub(rf"\1{NBSP}", text)

@@ -1,0 +1,163 @@
+"""Figures and words as a reader meets them: one figure one printed form, the right words for the part.
+
+Each test here is a problem a user met on a printed sheet or in the terminal.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import re
+
+import pytest
+
+from sheetgen.circuits.topologies import TOPOLOGIES, Values, window_for
+from sheetgen.cli import main
+from sheetgen.inputs.spec import parse_spec
+from sheetgen.outputs.spice import spice_deck
+from sheetgen.outputs.summary import summary_text
+from sheetgen.outputs.wording import NBSP, keep_units, standby_text, volts_range
+from sheetgen.parts import catalog
+
+
+def test_a_meter_window_at_zero_never_reads_minus_zero():
+    assert volts_range((-0.0004, 0.0031)) == "0.00\u20130.00 V"
+    assert volts_range((-0.2, 11.4)) == "-0.20\u201311.40 V"  # a real negative reading stays
+
+
+def test_numbers_keep_their_units_on_a_wrapped_line():
+    from reportlab.lib.styles import ParagraphStyle
+    from reportlab.platypus import Paragraph
+
+    text = keep_units("a heatsink of 2.5 °C/W or better to stay under 125 °C with 0.5 mm² wire")
+    assert f"125{NBSP}°C" in text and f"2.5{NBSP}°C/W" in text and f"0.5{NBSP}mm²" in text
+    for width in range(60, 300, 7):  # wherever the line breaks, never between 125 and °C
+        para = Paragraph(text, ParagraphStyle("t", fontSize=9))
+        para.wrap(width, 1000)
+        lines = [" ".join(w for w in line[1]) if isinstance(line, tuple) else " ".join(line.words)
+                 for line in para.blPara.lines]
+        assert not any(line.rstrip().endswith("125") for line in lines)
+
+
+def test_standby_reads_the_same_in_the_terminal_as_on_the_sheet(camper_report):
+    summary = summary_text(camper_report)
+    assert f"standby drain {standby_text(camper_report.standby_a)}" in summary
+    assert camper_report.standby_a < 1e-9 and "pA" not in summary  # leakage is no drain worth a number
+
+
+def test_the_summary_keeps_each_role_and_its_columns(camper_report):
+    lines = summary_text(camper_report).split("  parts:\n")[1].split("\n\n")[0].splitlines()
+    by_ref = {line.split()[0].rstrip(","): line for line in lines}
+    assert "charge resistor" in by_ref["R1"] and "bleed resistor" in by_ref["R2"]
+    assert not any(line.startswith("    R1, R2") for line in lines)
+    # Columns line up: every value starts at the same column, every role too.
+    starts = {len(line) - len(line[4:].lstrip()) for line in lines}
+    assert starts == {4}
+    values_at = {re.search(r"\S  +\S", line).end() - 1 for line in lines}
+    assert len(values_at) == 1
+    led = next(line for line in lines if line.lstrip().startswith("LED"))
+    assert led.count("Vf") == 1 and "LED1\u2013LED6" in led
+
+
+def _mosfet_netlist():
+    spec = parse_spec("supply: 12 V\nload: {kind: led, current: 20 mA, vf: 3.1 V}\nfade: {in: 1 s, out: 3 s}\n",
+                      source="m.yaml")
+    values = Values(transistor=catalog.transistor("IRLZ44N"), diode=catalog.diode("1N4007"), r_charge_ohm=47e3,
+                    r_bleed_ohm=100e3, r_base_ohm=1e3, c_timing_f=100e-6, r_led_ohm=390.0)
+    return TOPOLOGIES["mosfet"].build(spec, values, window_for(1.0, 3.0))
+
+
+def test_a_mosfet_deck_calls_r3_a_gate_resistor_not_a_base_one():
+    deck = spice_deck(_mosfet_netlist())
+    r3 = next(line for line in deck.splitlines() if line.startswith("* R3:"))
+    assert "gate resistor" in r3 and "base" not in r3
+
+
+def test_a_mosfet_summary_speaks_of_gate_drive(camper_report):
+    mosfet = dataclasses.replace(camper_report.design, topology=TOPOLOGIES["mosfet"])
+    text = summary_text(dataclasses.replace(camper_report, design=mosfet))
+    assert "gate drive at 11 V" in text and "minimum gain" not in text.split("\n  parts:")[0]
+
+
+def test_reasons_print_gains_as_whole_numbers_and_no_screening_estimates(camper_report):
+    reasons = " ".join(camper_report.design.reasons)
+    assert not re.search(r"\d[eE][+-]\d", reasons)
+    assert "hFE_min 250" in reasons  # BC337-40 group: hFE 250 to 630 at 100 mA (onsemi BC337 datasheet, from memory)
+
+
+def test_plot_ticks_read_as_their_values():
+    from sheetgen.outputs.pdf.plot import nice_ticks, tick_label
+
+    for hi in (1.0, 2.2, 7.7, 10.0, 13.0, 24.0, 0.33, 0.0047, 380.0):
+        ticks = nice_ticks(0.0, hi)
+        for t in ticks:
+            assert math.isclose(float(tick_label(t, ticks)), t, rel_tol=1e-9, abs_tol=1e-12)
+    assert [tick_label(t, (0.0, 2.5, 5.0, 7.5, 10.0)) for t in (0.0, 2.5, 7.5)] == ["0.0", "2.5", "7.5"]
+
+
+def test_a_sheet_must_be_named_pdf(tmp_path, capsys):
+    spec = tmp_path / "van.yaml"
+    spec.write_text("supply: 12 V\nload: {kind: led, current: 20 mA, vf: 3.1 V}\nfade: {in: 1 s, out: 3 s}\n",
+                    encoding="utf-8")
+    assert main(["build", str(spec), "-o", str(tmp_path / "out.png")]) == 2
+    err = capsys.readouterr().err
+    assert "out.png" in err and "ending in .pdf" in err and "out.pdf" in err
+    assert [p.name for p in tmp_path.iterdir()] == ["van.yaml"]
+
+
+@pytest.mark.parametrize("strings, per_string, words", [
+    (1, 1, "1 red LED, 20 mA, Vf 2 V"),
+    (1, 3, "3 red LEDs in series, 20 mA, Vf 2 V each"),
+    (4, 1, "4 red LEDs, each with its own resistor, 20 mA each, Vf 2 V"),
+    (2, 3, "2 strings of 3 red LEDs in series, 20 mA per string, Vf 2 V each"),
+])
+def test_the_load_sentence_reads_naturally(camper_report, strings, per_string, words):
+    from sheetgen.outputs.pdf.blocks import load_text
+
+    spec = camper_report.design.spec
+    load = dataclasses.replace(spec.load, strings=strings, per_string=per_string, colour="red", vf_v=2.0)
+    design = dataclasses.replace(camper_report.design, spec=dataclasses.replace(spec, load=load))
+    assert load_text(dataclasses.replace(camper_report, design=design)) == words
+
+
+def test_a_page_break_never_cuts_a_numbered_step_and_never_strands_a_heading():
+    from sheetgen.outputs.pdf.blocks import Block
+
+    steps = [blocks_p(f"Join R{k} (one end), C1 + lead (longer lead), Q1 base and the far end of the "
+                      f"harness wire to the switched feed; check each joint twice before the next step.", k)
+             for k in range(1, 21)]
+    block = Block("Wiring", steps)
+    _, full = block.wrap(300, 1e6)
+    for room in range(80, int(full), 13):
+        pieces = block.split(300, room)
+        if not pieces:
+            continue
+        first, rest = pieces
+        assert first.items and all(item in steps for item in first.items)  # whole steps, heading not alone
+        assert all(item in steps for item in rest.items)
+        assert list(first.items) + list(rest.items) == steps
+        assert first.wrap(300, room)[1] <= room + 0.01
+
+
+def blocks_p(text, k):
+    from sheetgen.outputs.pdf.blocks import plain_paragraph, styles
+
+    return plain_paragraph(text, styles().step, bulletText=f"{k}.")
+
+
+def test_card_steps_past_nine_line_up_with_the_first_nine():
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    from sheetgen.outputs.pdf.cards import SCALES, _styles
+    from sheetgen.outputs.pdf.fonts import BOLD
+
+    for scale in SCALES:
+        st = _styles(scale).step
+        widest = max(stringWidth(f"{k}.", BOLD, st.fontSize) for k in range(1, 100))
+        assert widest < st.leftIndent - st.bulletIndent  # the number never pushes its text to the right
+
+
+def test_the_heatsink_reads_the_same_in_the_terminal_as_on_the_sheet(camper_report):
+    heat = dataclasses.replace(camper_report.heat, heatsink_c_per_w=7.0921)
+    text = summary_text(dataclasses.replace(camper_report, heat=heat))
+    assert "(heatsink 7.1 °C/W or better)" in text  # the sheet's heat block prints "7.1 °C/W or better"
