@@ -29,7 +29,10 @@ def led_model(load: LedLoad) -> Model:
     rs = colour.model.get("RS", 0.0) * min(1.0, colour.at_a / load.current_a)
     v_junction = load.vf_v - load.current_a * rs
     is_a = load.current_a / math.expm1(v_junction / (n * VT_NOMINAL))
-    name = f"LED_{colour.name.upper().replace(' ', '_')}_{load.vf_v * 1000:.0f}MV"
+    # Named by what the spec says it is: its forward voltage, and its colour where one is given.
+    named = f"_{load.colour.upper().replace(' ', '_')}" if load.colour else ""
+    whole, _, fraction = f"{load.vf_v:g}".partition(".")
+    name = f"LED{named}_{whole}V{fraction}"  # 3.1 V white: LED_WHITE_3V1, as the RKM code writes it
     return Model(name=name, kind="D", params=(("IS", float(f"{is_a:.6g}")), ("N", n), ("RS", rs)))
 
 

@@ -6,6 +6,9 @@ thousand tolerance draws cost one pass of numpy work per Newton iteration, not a
 thousand Python loops.  The integrator is the trapezoidal rule with local
 truncation-error step control, falling back to backward Euler on the first step
 after each source breakpoint (as SPICE does) so switching edges do not ring.
+Where Newton fails even at the smallest step, a recovery ladder takes over
+for a while: backward Euler with more iterations from the last accepted point,
+then gmin continuation within the step; only then does the run give up.
 
 Sources must have their minus terminal on ground; their nodes are then known
 voltages and drop out of the unknowns, and the current they deliver comes out of
@@ -29,9 +32,10 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from sheetgen.engine import devices
-from sheetgen.model.netlist import GROUND, Netlist, Overrides, Part
+from sheetgen.model.netlist import GROUND, Netlist, Overrides
 from sheetgen.errors import SimulationError
 from sheetgen.engine.linsolve import Gather, Scatter, SparseLU
+from sheetgen.engine.netindex import NetIndex
 
 RELTOL = 1e-3
 VNTOL = 1e-6  # V, Newton's absolute voltage tolerance (SPICE default)
@@ -46,194 +50,15 @@ MAX_DT = 400.0  # K, largest filament-temperature change in one Newton iteration
 SPARSE_MIN_BATCH = 64  # below this LAPACK's per-member loop beats the sparse plan's fixed cost
 
 
-# --------------------------------------------------------------------- compile
-@dataclass
-class _Group:
-    """Devices of one kind, their node indices and per-batch parameters."""
-
-    refs: list
-    nodes: np.ndarray  # (n_dev, n_terminals) node indices
-    params: dict  # name -> (N, n_dev)
-
-
-class Compiled:
-    """A netlist flattened into node indices, batched parameters and a solve plan.
-
-    ``names`` orders the nodes: the ``n_unknown`` solved for, then each
-    diode's inner node between RS and junction (carried, not solved for), then
-    the ``n_fixed`` source nodes, then ground.
-    """
+# ---------------------------------------------------------------- solve plan
+class Compiled(NetIndex):
+    """A netlist's index (:class:`.netindex.NetIndex`) with the plan that stamps and solves it."""
 
     def __init__(self, netlist: Netlist, overrides: Overrides | None, n: int):
-        self.netlist = netlist
-        self.n = n
-        self.overrides = dict(overrides or {})
-        for (ref, _), arr in self.overrides.items():
-            if np.shape(arr) not in ((n,), ()):
-                raise ValueError(f"override for {ref} has shape {np.shape(arr)}, expected ({n},)")
-        fixed = [s.plus for s in netlist.sources]
-        for s in netlist.sources:
-            if s.minus != GROUND:
-                raise ValueError(f"source {s.name} must return to ground")
-        parts, hidden = self._merge_chains(netlist, fixed)
-        unknown = [net for net in netlist.nets if net not in fixed and net not in hidden]
-        self._internal: list[str] = []
-        self._behind_rs: list[str] = []
-        res, caps, diodes, bjts, mos, lamps = [], [], [], [], [], []
-        for part in parts:
-            self._add(part, unknown, res, caps, diodes, bjts, mos, lamps)
-        unknown += self._internal
-        self.names = unknown + self._behind_rs + fixed + [GROUND]
-        self.n_unknown = len(unknown)
-        self.n_state = self.n_unknown + len(self._behind_rs)  # rows Newton updates; fixed nodes follow
-        self.n_fixed = len(fixed)
-        self.size = len(self.names)
-        self.index = {name: i for i, name in enumerate(self.names)}
-        self.sources = netlist.sources
-        self.source_levels = np.stack([self._value(s.name, "level", s.level_v) for s in netlist.sources], axis=1)
-        self.res = self._group(res, ("g",), 2)
-        self.caps = self._group(caps, ("c", "ic"), 2)
-        self.diodes = self._group(diodes, ("is", "n", "rs"))
-        self.bjts = self._group(bjts, ("sign", "is", "bf", "br", "nf", "nr", "vaf", "ikf", "ise", "ne"))
-        self.mos = self._group(mos, ("vto", "kp", "lam"))
-        self.lamps = self._group(lamps, ("r0", "troom", "alpha", "k", "thot"))
+        super().__init__(netlist, overrides, n)
         self._plan_devices()
         self._plan_system()
 
-    def _merge_chains(self, netlist: Netlist, fixed: list[str]):
-        """Replace each series chain of identical diodes (an LED string) by one diode.
-
-        n equal junctions in series carrying one current drop n·N·Vt·ln(I/IS)
-        plus n·I·RS, which is one junction with emission coefficient n·N, series
-        resistance n·RS and IS the geometric mean of the members' IS: the same
-        equations with fewer unknowns.  The chain's inner nets are not solved
-        for (they are not test points).
-        """
-        pins_on: dict[str, list[tuple[Part, str]]] = {}
-        for part in netlist.parts:
-            for pin, net in part.pins:
-                pins_on.setdefault(net, []).append((part, pin))
-        probes = {net for _, net in netlist.probes}
-
-        def joins(net: str):
-            on = pins_on.get(net, [])
-            if net in fixed or net in probes or net == GROUND or len(on) != 2:
-                return None
-            (p1, a), (p2, b) = on
-            if {a, b} != {"A", "K"} or p1.kind not in ("led", "diode") or p2.kind != p1.kind:
-                return None
-            if p1.model != p2.model:
-                return None
-            return (p1, p2) if a == "K" else (p2, p1)
-
-        nxt = {}
-        for net in pins_on:
-            pair = joins(net)
-            if pair:
-                nxt[pair[0].ref] = (pair[1], net)
-        heads = [p for p in netlist.parts if p.ref in nxt and p.ref not in {q.ref for q, _ in nxt.values()}]
-        merged: dict[str, Part] = {}
-        hidden: set[str] = set()
-        for head in heads:
-            chain, nets = [head], []
-            while chain[-1].ref in nxt:
-                q, net = nxt[chain[-1].ref]
-                chain.append(q)
-                nets.append(net)
-            hidden.update(nets)
-            ref = "+".join(p.ref for p in chain)
-            n_chain = len(chain)
-            iss = np.stack([self._model(p, "IS", 1e-14) for p in chain])
-            self.overrides[(ref, "IS")] = np.exp(np.mean(np.log(iss), axis=0))
-            for name in ("N", "RS"):
-                vals = np.stack([self._model(p, name, 1.0 if name == "N" else 0.0) for p in chain])
-                self.overrides[(ref, name)] = n_chain * np.mean(vals, axis=0)
-            merged[head.ref] = Part(ref=ref, kind=head.kind, pins=(("A", head.net("A")), ("K", chain[-1].net("K"))),
-                                    role=head.role, model=head.model)
-            for p in chain[1:]:
-                merged[p.ref] = None
-        parts = []
-        for p in netlist.parts:
-            if p.ref in merged:
-                if merged[p.ref] is not None:
-                    parts.append(merged[p.ref])
-            else:
-                parts.append(p)
-        return parts, hidden
-
-    # Parameters --------------------------------------------------------
-    def _value(self, ref: str, name: str, nominal: float) -> np.ndarray:
-        arr = self.overrides.get((ref, name))
-        if arr is None:
-            return np.full(self.n, float(nominal))
-        return np.broadcast_to(np.asarray(arr, dtype=float), (self.n,)).copy()
-
-    def _model(self, part: Part, name: str, default: float) -> np.ndarray:
-        return self._value(part.ref, name, part.model.get(name, default))
-
-    def _series(self, part: Part, pin_net: str, r_param: str, suffix: str, res: list) -> str:
-        """Insert a model's series resistance as SPICE does: on an internal node."""
-        r = self._model(part, r_param, 0.0)
-        if np.all(r <= 0):
-            return pin_net
-        inner = f"{part.ref}:{suffix}"
-        self._internal.append(inner)
-        res.append((f"{part.ref}.{r_param}", (pin_net, inner), {"g": 1.0 / np.maximum(r, 1e-9)}))
-        return inner
-
-    def _add(self, part, unknown, res, caps, diodes, bjts, mos, lamps) -> None:
-        k = part.kind
-        if k == "resistor":
-            res.append((part.ref, part.nets, {"g": 1.0 / self._value(part.ref, "value", part.value)}))
-        elif k == "capacitor":
-            caps.append((part.ref, part.nets, {"c": self._value(part.ref, "value", part.value), "ic": np.zeros(self.n)}))
-        elif k in ("diode", "led"):
-            a, kk = part.nets
-            rs = np.maximum(self._model(part, "RS", 0.0), 0.0)
-            a_int = a
-            if np.any(rs > 0):  # the junction's own anode, behind RS
-                a_int = f"{part.ref}:a"
-                self._behind_rs.append(a_int)
-            diodes.append((part.ref, (a, kk, a_int), {"is": self._model(part, "IS", 1e-14),
-                                                      "n": self._model(part, "N", 1.0), "rs": rs}))
-        elif k in ("npn", "pnp"):
-            c, b, e = part.nets
-            c = self._series(part, c, "RC", "c", res)
-            b = self._series(part, b, "RB", "b", res)
-            e = self._series(part, e, "RE", "e", res)
-            p = {name.lower(): self._model(part, name, d) for name, d in
-                 (("IS", 1e-16), ("BF", 100.0), ("BR", 1.0), ("NF", 1.0), ("NR", 1.0),
-                  ("VAF", 0.0), ("IKF", 0.0), ("ISE", 0.0), ("NE", 1.5))}
-            p["sign"] = np.full(self.n, 1.0 if k == "npn" else -1.0)
-            bjts.append((part.ref, (c, b, e), p))
-        elif k == "nmos":
-            d, g, s = part.nets
-            d = self._series(part, d, "RD", "d", res)
-            s = self._series(part, s, "RS", "s", res)
-            mos.append((part.ref, (d, g, s), {"vto": self._model(part, "VTO", 0.0),
-                                               "kp": self._model(part, "KP", 2e-5),
-                                               "lam": self._model(part, "LAMBDA", 0.0)}))
-        elif k == "lamp":
-            th = f"{part.ref}:th"
-            self._internal.append(th)
-            troom = self._model(part, "TROOM", 300.0)
-            lamps.append((part.ref, (*part.nets, th), {"r0": self._model(part, "R0", 1.0), "troom": troom,
-                                                       "alpha": self._model(part, "ALPHA", 1.2),
-                                                       "k": self._model(part, "K", 1e-12),
-                                                       "thot": self._model(part, "THOT", 2700.0)}))
-            caps.append((f"{part.ref}.CTH", (th, GROUND), {"c": self._model(part, "CTH", 1e-3), "ic": troom}))
-        else:  # pragma: no cover - PartKind is closed
-            raise ValueError(f"{part.ref}: unknown kind {k}")
-
-    def _group(self, items, names, width: int = 3) -> _Group:
-        if not items:
-            return _Group([], np.zeros((0, width), dtype=int), {k: np.zeros((self.n, 0)) for k in names})
-        refs = [r for r, _, _ in items]
-        nodes = np.array([[self.index[x] for x in nets] for _, nets, _ in items], dtype=int)
-        params = {k: np.stack([p[k] for _, _, p in items], axis=1) for k in names}
-        return _Group(refs, nodes, params)
-
-    # Solve plan --------------------------------------------------------------
     def _plan_devices(self) -> None:
         """Per-member device parameters (``batch``, batch last) and every pn junction in one table."""
         vt = devices.VT_NOMINAL
@@ -591,14 +416,21 @@ class Traces:
         return self.voltages.shape[0]
 
     def switch_power(self, ref: str) -> np.ndarray:
-        """Instantaneous dissipation of transistor ``ref`` (BJT or MOSFET), shape (N, T).
+        """Instantaneous dissipation of transistor ``ref`` (BJT, MOSFET or Darlington), shape (N, T).
 
         Device currents are evaluated again from the solved junction voltages;
         the power is the sum of pin voltage times pin current over its
-        external pins, so series resistances inside the model count too.
+        external pins, so series resistances inside the model count too.  A
+        composite device dissipates what its transistors do (its resistors and
+        diode carry next to nothing in a switch).
         """
-        c = self.compiled
         part = self.netlist.part(ref)
+        if part.is_composite:
+            return sum(self._one_switch_power(q) for q in part.expanded() if q.kind in ("npn", "pnp", "nmos"))
+        return self._one_switch_power(part)
+
+    def _one_switch_power(self, part) -> np.ndarray:
+        c, ref = self.compiled, part.ref
         vx = {pin: self.v(net) for pin, net in part.pins}
         if ref in c.bjts.refs:
             j = c.bjts.refs.index(ref)
@@ -687,32 +519,43 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
     hist_t, hist_v = [0.0], [vc]
 
     t, h, bp_i, first = 0.0, h_start, 0, True
+    rung, calm = 0, 0  # the recovery ladder's rung in use, and steps accepted on it
     while t < stop * (1 - 1e-12):
         while bps[bp_i] <= t * (1 + 1e-12):
             bp_i += 1
         h = min(h, hmax, bps[bp_i] - t)
-        trap = not first
+        trap = not first and rung == 0
         alpha = 2.0 if trap else 1.0
         geq = alpha * cap_c / h
         hist = geq * vc + (ic if trap else 0.0)
         m0 = _linear_system(c, alpha / h, hist)
-        x_start = _predict(hist_t[-3:], [v[:c.n_state] for v in volts[-min(3, len(hist_t)):]], t + h)
-        xn, ok, src, vjn = _newton(c, x_start, c.fixed_values(t + h).T, m0, vj)
+        if rung:  # from the last solution: extrapolating across a kink is what failed
+            xn, ok, src, vjn = _RUNGS[rung - 1](c, x[:c.n_state], c.fixed_values(t + h).T, m0, vj)
+        else:
+            x_start = _predict(hist_t[-3:], [v[:c.n_state] for v in volts[-min(3, len(hist_t)):]], t + h)
+            xn, ok, src, vjn = _newton(c, x_start, c.fixed_values(t + h).T, m0, vj)
         if not ok.all():
             h /= 8.0
             if h < stop * 1e-12:
-                raise SimulationError(f"{netlist.title}: time step too small at t = {t:.6g} s")
+                if rung == len(_RUNGS):
+                    raise SimulationError(f"{netlist.title}: time step too small at t = {t:.6g} s")
+                rung, calm, h = rung + 1, 0, h_start
             continue
+        if rung:
+            calm += 1
+            if calm >= RUNG_STEPS:
+                rung = 0
         vcn = xn[cap_a] - xn[cap_b]
-        if trap and len(hist_t) >= 3:
-            dd3 = _third_divided_difference(hist_t[-3:] + [t + h], hist_v[-3:] + [vcn])
-            lte = np.abs(dd3) * (h**3 / 2.0)
-            tol = TRTOL * (LTE_RELTOL * np.maximum(np.abs(vcn), np.abs(vc)) + LTE_ABSTOL)
+        order = 3 if trap else 2  # the error estimate's order: trapezoidal, or backward Euler on a rung
+        if (trap or rung) and len(hist_t) >= order:
+            dd = _divided_difference(hist_t[-order:] + [t + h], hist_v[-order:] + [vcn])
+            lte = np.abs(dd) * (h**3 / 2.0 if trap else h**2)
+            tol = (TRTOL if trap else 1.0) * (LTE_RELTOL * np.maximum(np.abs(vcn), np.abs(vc)) + LTE_ABSTOL)
             ratio = np.max(lte / tol) if lte.size else 0.0
             if ratio > 1.0 and h > h_start:
-                h *= max(0.25, 0.9 * ratio ** (-1.0 / 3.0))
+                h *= max(0.25, 0.9 * ratio ** (-1.0 / order))
                 continue
-            grow = 2.0 if ratio == 0 else min(2.0, 0.9 * ratio ** (-1.0 / 3.0))
+            grow = 2.0 if ratio == 0 else min(2.0, 0.9 * ratio ** (-1.0 / order))
         else:
             grow = 2.0
         # Resolve the curve a builder looks at: no source current may move by more
@@ -747,6 +590,30 @@ def transient(netlist: Netlist, *, overrides: Overrides | None = None, n: int | 
                   source_currents=np.stack(currents).transpose(2, 0, 1), compiled=c)
 
 
+def _patient_newton(c: Compiled, x0, xf, m0, vj):
+    """The first rung of the recovery ladder: backward Euler (the caller's choice) and
+    four times the Newton iterations, from the last accepted point."""
+    return _newton(c, x0, xf, m0, vj, max_iter=4 * MAX_NEWTON)
+
+
+def _gmin_continuation(c: Compiled, x0, xf, m0, vj):
+    """The second rung: the step solved with a conductance from every node to ground,
+    relaxed a decade at a time from 1 mS to nothing, each solve starting from the last."""
+    x = x0
+    for gmin in (*10.0 ** np.arange(-3, -13, -1), 0.0):
+        m = m0.copy()
+        m[c._diag] += gmin
+        xx, ok, src, vj = _newton(c, x, xf, m, vj, max_iter=4 * MAX_NEWTON)
+        x = xx[:c.n_state]
+    return xx, ok, src, vj
+
+
+#: What a time step tries when Newton fails even at the smallest step, in order.  A rung
+#: stays in use for RUNG_STEPS accepted steps, then the fast path takes over again.
+_RUNGS = (_patient_newton, _gmin_continuation)
+RUNG_STEPS = 20
+
+
 def _predict(ts: list[float], xs: list[np.ndarray], t: float) -> np.ndarray:
     """Newton's starting point: the polynomial through the last points, at ``t``.
 
@@ -764,8 +631,8 @@ def _predict(ts: list[float], xs: list[np.ndarray], t: float) -> np.ndarray:
     return out
 
 
-def _third_divided_difference(ts: list[float], vs: list[np.ndarray]) -> np.ndarray:
-    """f[t0, t1, t2, t3] ≈ f'''/6 of four values (k, N), as their weighted sum: no stacking."""
+def _divided_difference(ts: list[float], vs: list[np.ndarray]) -> np.ndarray:
+    """f[t0, ..., tk] ≈ f^(k) / k! of k + 1 values (each (m, N)), as their weighted sum: no stacking."""
     out = None
     for i, (ti, vi) in enumerate(zip(ts, vs)):
         w = 1.0

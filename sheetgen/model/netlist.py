@@ -7,8 +7,10 @@ as overrides, never written back into the parts.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Literal, Mapping
+
+from sheetgen.model.kinds import KINDS
 
 GROUND = "0"
 
@@ -16,16 +18,7 @@ PartKind = Literal["resistor", "capacitor", "diode", "led", "npn", "pnp", "nmos"
 ModelKind = Literal["D", "NPN", "PNP", "NMOS", "LAMP"]
 
 #: The pin names of each kind, in SPICE element order.
-PIN_ORDER: dict[str, tuple[str, ...]] = {
-    "resistor": ("1", "2"),
-    "capacitor": ("+", "-"),
-    "diode": ("A", "K"),
-    "led": ("A", "K"),
-    "npn": ("C", "B", "E"),
-    "pnp": ("C", "B", "E"),
-    "nmos": ("D", "G", "S"),
-    "lamp": ("1", "2"),
-}
+PIN_ORDER: dict[str, tuple[str, ...]] = {k.name: k.pins for k in KINDS.values()}
 
 
 @dataclass(frozen=True)
@@ -37,11 +30,18 @@ class Model:
     resistance at TROOM, ohm), TROOM and THOT (K), ALPHA (resistance exponent,
     R = R0 (T/TROOM)^ALPHA), K (radiation constant, W/K^4) and CTH (heat
     capacity, J/K).
+
+    A composite device (a Darlington: two transistors, two resistors and a
+    diode in one package) has an empty ``params`` and its equivalent circuit
+    in ``body``: parts whose nets are the kind's pin names (``C``, ``B``,
+    ``E``) or inner nets of the device.  A composite's parameters are named
+    ``<inner ref>.<parameter>`` (``QD.BF``, ``R1.value``).
     """
 
     name: str
     kind: ModelKind
     params: tuple[tuple[str, float], ...]
+    body: tuple["Part", ...] = ()
 
     def __getitem__(self, key: str) -> float:
         for k, v in self.params:
@@ -57,6 +57,17 @@ class Model:
 
     def as_dict(self) -> dict[str, float]:
         return dict(self.params)
+
+    def junctions(self) -> tuple[tuple[str, "Model"], ...]:
+        """The bipolar cards inside, each with the prefix its parameters take.
+
+        ``(("", self),)`` for a plain card; for a composite, one entry per inner
+        transistor (``("QD.", driver card)``...), so a gain or temperature shift
+        can be spread over every transistor of the device.
+        """
+        if not self.body:
+            return (("", self),)
+        return tuple((f"{p.ref}.", p.model) for p in self.body if p.kind in ("npn", "pnp"))
 
 
 @dataclass(frozen=True)
@@ -99,6 +110,27 @@ class Part:
     @property
     def nets(self) -> tuple[str, ...]:
         return tuple(n for _, n in self.pins)
+
+    def gain_overrides(self, factor) -> dict:
+        """Overrides multiplying this transistor's current gain by ``factor`` (an array).
+
+        In a composite the transistors' gains multiply, so each takes an equal
+        share in log: ``factor ** (1 / transistors)``.
+        """
+        units = self.model.junctions()
+        return {(self.ref, f"{prefix}BF"): m["BF"] * factor ** (1.0 / len(units)) for prefix, m in units}
+
+    @property
+    def is_composite(self) -> bool:
+        return self.model is not None and bool(self.model.body)
+
+    def expanded(self) -> tuple["Part", ...]:
+        """A composite's inner parts as parts of the netlist: refs ``<ref>.<inner>``,
+        pins on this part's nets or on inner nets ``<ref>:<net>``."""
+        outer = dict(self.pins)
+        return tuple(replace(p, ref=f"{self.ref}.{p.ref}", role=self.role,
+                             pins=tuple((pin, outer.get(net, f"{self.ref}:{net}")) for pin, net in p.pins))
+                     for p in self.model.body)
 
 
 @dataclass(frozen=True)
@@ -183,6 +215,13 @@ class Netlist:
         seen.pop(GROUND, None)
         return tuple(seen)
 
+    def flattened(self) -> "Netlist":
+        """The same circuit with every composite device replaced by its equivalent circuit."""
+        if not any(p.is_composite for p in self.parts):
+            return self
+        parts = tuple(q for p in self.parts for q in (p.expanded() if p.is_composite else (p,)))
+        return replace(self, parts=parts)
+
     @property
     def models(self) -> tuple[Model, ...]:
         out: dict[str, Model] = {}
@@ -194,5 +233,6 @@ class Netlist:
 
 #: Parameter overrides for a batch: ``(ref, param) -> array of shape (N,)``.
 #: ``param`` is ``"value"`` for R and C, ``"level"`` for sources, or a model
-#: parameter name (``"BF"``, ``"IS"``, ``"R0"``...).
+#: parameter name (``"BF"``, ``"IS"``, ``"R0"``...); a composite device's
+#: inner parts as ``"<inner ref>.<param>"`` (``"QD.BF"``, ``"R1.value"``).
 Overrides = Mapping[tuple[str, str], "object"]

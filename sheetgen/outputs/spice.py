@@ -23,29 +23,14 @@ import re
 import numpy as np
 
 from sheetgen import __version__
+from sheetgen.model.kinds import KINDS
 from sheetgen.model.netlist import GROUND, Model, Netlist, Overrides, Part
 
 #: The SPICE element letter of each part kind.
-ELEMENT_LETTER: dict[str, str] = {
-    "resistor": "R",
-    "capacitor": "C",
-    "diode": "D",
-    "led": "D",
-    "npn": "Q",
-    "pnp": "Q",
-    "nmos": "M",
-    "lamp": "X",
-}
+ELEMENT_LETTER: dict[str, str] = {k.name: k.letter for k in KINDS.values()}
 
 #: The model kind each part kind needs (resistors and capacitors need none).
-MODEL_KIND: dict[str, str] = {
-    "diode": "D",
-    "led": "D",
-    "npn": "NPN",
-    "pnp": "PNP",
-    "nmos": "NMOS",
-    "lamp": "LAMP",
-}
+MODEL_KIND: dict[str, str] = {k.name: k.model_kind for k in KINDS.values() if k.model_kind}
 
 #: Prefix of a deck model name, by model kind: tells a reader what a card is.
 _MODEL_PREFIX = {"D": "D", "NPN": "Q", "PNP": "Q", "NMOS": "M", "LAMP": "LAMP"}
@@ -107,7 +92,7 @@ def node_names(netlist: Netlist) -> dict[str, str]:
 
 def element_name(part: Part) -> str:
     """The part's SPICE element name: its ref, prefixed with the letter if needed."""
-    letter = ELEMENT_LETTER[part.kind]
+    letter = "X" if part.is_composite else ELEMENT_LETTER[part.kind]
     ref = _clean(part.ref, "A-Za-z0-9_")
     if not ref:
         raise ValueError(f"part ref {part.ref!r} has no usable characters")
@@ -180,15 +165,52 @@ class _Resolved:
 
 
 def _model_card(name: str, model: Model, params: dict[str, float]) -> list[str]:
-    """One ``.model`` card, or for a lamp its filament subcircuit."""
+    """One ``.model`` card, or for a lamp its filament subcircuit, or a composite's ``.subckt``."""
     if model.kind == "LAMP":
         return _lamp_subckt(name, model, params)
+    if model.body:
+        return _composite_subckt(name, model, params)
     items = dict(params)
     if model.kind == "NMOS":
         # Level 1 (Shichman-Hodges) is the square law the tool's own simulator uses.
         items = {"LEVEL": 1.0, **{k: v for k, v in items.items() if k != "LEVEL"}}
     body = " ".join(f"{k}={_num(v)}" for k, v in items.items())
     return [f".model {name} {model.kind} ({body})"]
+
+
+def model_card(name: str, model: Model) -> list[str]:
+    """The deck's text for the typical ``model`` under ``name``: a ``.model`` card or a ``.subckt``."""
+    return _model_card(name, model, {k.upper(): v for k, v in model.params})
+
+
+def _composite_subckt(name: str, model: Model, params: dict[str, float]) -> list[str]:
+    """A device built of parts (a Darlington) as the subcircuit of its equivalent circuit.
+
+    The ports are the device's pins in element order; each inner transistor or
+    diode has its own card inside the subcircuit, named after the device and
+    the inner part (``Q_TIP120_QD``).  ``params`` are the composite's
+    parameters, ``<inner ref>.<PARAM>`` (``QD.BF``, ``R1.VALUE``).
+    """
+    ports = _composite_ports(model)
+    lines = [f".subckt {name} {' '.join(ports)}",
+             "* the datasheet's equivalent circuit: " + ", ".join(f"{p.ref} {p.kind}" for p in model.body)]
+    inner_cards: list[str] = []
+    for part in model.body:
+        mine = {k.split(".", 1)[1]: v for k, v in params.items() if k.startswith(part.ref.upper() + ".")}
+        nets = " ".join(net.lower() for net in part.nets)
+        if part.model is None:
+            lines.append(f"{element_name(part)} {nets} {_num(mine.get('VALUE', part.value))}")
+            continue
+        inner = f"{name}_{_clean(part.ref.upper(), 'A-Z0-9_')}"
+        lines.append(f"{element_name(part)} {nets} {inner}")
+        inner_cards += _model_card(inner, part.model, {**{k.upper(): v for k, v in part.model.params}, **mine})
+    return lines + inner_cards + [f".ends {name}"]
+
+
+def _composite_ports(model: Model) -> list[str]:
+    """A composite's port nets (its kind's pins), lowercased, in element order."""
+    pins = next(k.pins for k in KINDS.values() if k.model_kind == model.kind)
+    return [pin.lower() for pin in pins]
 
 
 def _lamp_subckt(name: str, model: Model, params: dict[str, float]) -> list[str]:
@@ -381,6 +403,7 @@ __all__ = [
     "MODEL_KIND",
     "element_name",
     "lamp_thermal_node",
+    "model_card",
     "node_names",
     "source_name",
     "spice_deck",

@@ -23,6 +23,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 from typing import Sequence
 
+from sheetgen.model.kinds import KINDS
 from sheetgen.model.netlist import GROUND, Part
 from sheetgen.sizing.report import Report
 from sheetgen.inputs.units import format_quantity
@@ -40,8 +41,6 @@ SWITCHED_COLOUR = ("yellow", "switched feed")
 CSV_COLUMNS = ("item", "value", "rating", "tolerance", "package", "unit", "needed", "spares", "total", "designs",
                "note")
 
-_KIND_ITEM = {"resistor": "resistor", "capacitor": "capacitor", "diode": "diode", "led": "LED",
-              "npn": "NPN transistor", "pnp": "PNP transistor", "nmos": "N-channel MOSFET", "lamp": "lamp"}
 # Shopping order: board parts by kind, then what goes on or off the board.
 _ORDER = ("resistor", "capacitor", "diode", "npn", "pnp", "nmos", "led", "lamp", "board", "terminal block",
           "lamp holder", "heatsink", "insulating kit", "fuse", "fuse holder", "wire")
@@ -102,7 +101,7 @@ def _rating(part: Part) -> str:
 def _part_item(part: Part) -> KitItem:
     """What to buy for one board part, described the way a shop lists it."""
     tolerance = f"±{part.tolerance * 100:g} %" if part.tolerance is not None else ""
-    item = _KIND_ITEM[part.kind]
+    item = KINDS[part.kind].item
     value, sort_value, rating = part.part_number, 0.0, _rating(part)
     if part.kind == "resistor":
         value, sort_value = format_quantity(part.value, "ohm"), float(part.value)

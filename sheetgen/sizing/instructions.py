@@ -17,33 +17,13 @@ from dataclasses import dataclass
 from sheetgen.board import words
 from sheetgen.board.model import Board
 from sheetgen.parts import catalog
+from sheetgen.model.kinds import KINDS
 from sheetgen.model.netlist import GROUND, Part
 from sheetgen.sizing.report import Brief, Harness, Heat
 from sheetgen.sizing.size import Design
 from sheetgen.inputs.spec import LampLoad
 from sheetgen.inputs.units import format_quantity
 
-_PIN_WORDS = {
-    "diode": {"A": "anode (plain end)", "K": "cathode (banded end)"},
-    "led": {"A": "anode (longer lead)", "K": "cathode (shorter lead, flat side)"},
-    "capacitor": {"+": "+ lead (longer lead)", "-": "− lead (striped side)"},
-    "npn": {"C": "collector", "B": "base", "E": "emitter"},
-    "pnp": {"C": "collector", "B": "base", "E": "emitter"},
-    "nmos": {"D": "drain", "G": "gate", "S": "source"},
-    "lamp": {"1": "terminal", "2": "other terminal"},
-}
-
-
-#: The same leads in a card's words; ``_LEAD_KEY`` says once how to tell them apart.
-_PIN_SHORT = {
-    "diode": {"A": "anode", "K": "cathode"},
-    "led": {"A": "anode", "K": "cathode"},
-    "capacitor": {"+": "+", "-": "−"},
-    "npn": _PIN_WORDS["npn"],
-    "pnp": _PIN_WORDS["pnp"],
-    "nmos": _PIN_WORDS["nmos"],
-    "lamp": _PIN_WORDS["lamp"],
-}
 _LEAD_KEY = {
     "led": "LED: anode = longer lead, cathode = shorter lead (flat side)",
     "diode": "diode: cathode = banded end",
@@ -231,7 +211,8 @@ def _lead(lead: Lead, *, short: bool) -> str:
         if lead.first:
             return part.ref if short else f"{part.ref} (one end)"
         return f"{part.ref} (other end)"
-    return f"{part.ref} {(_PIN_SHORT if short else _PIN_WORDS)[part.kind][lead.pin]}"
+    entry = KINDS[part.kind]
+    return f"{part.ref} {(entry.lead_short if short else entry.lead_words)[lead.pin]}"
 
 
 def _off_board_target(c: OffBoard, *, short: bool) -> str:

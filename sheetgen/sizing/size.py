@@ -350,12 +350,22 @@ def _batch_overrides(trials: list[_Trial]) -> dict:
 
 
 def drive_at_minimum(netlist, trials_overrides: dict, *, n: int, supply_v: float, hfe_min: float,
-                     window: Window):
-    """Base and load current with the feed on, at ``supply_v``, with Q1 at minimum gain."""
+                     window: Window, hfe_typ: float | None = None):
+    """Base and load current with the feed on, at ``supply_v``, with Q1 at minimum gain.
+
+    A plain card's BF is set to the minimum; a Darlington's pair, whose gain is
+    not one parameter, has its transistors scaled by minimum over typical.
+    """
     ov = dict(trials_overrides)
     ov[("VSUPPLY", "level")] = np.full(n, supply_v)
     ov[("VFEED", "level")] = np.full(n, supply_v)
-    ov[("Q1", "BF")] = np.full(n, hfe_min)
+    q1 = netlist.part("Q1")
+    if q1.is_composite:
+        if hfe_typ is None:
+            raise ValueError("a Darlington's minimum gain needs its typical gain to scale from")
+        ov.update(q1.gain_overrides(np.full(n, hfe_min / hfe_typ)))
+    else:
+        ov[("Q1", "BF")] = np.full(n, hfe_min)
     op = simulate.operating_point(netlist, at_s=window.release_s / 2, overrides=ov, n=n)
     r3 = ov[("R3", "value")] if ("R3", "value") in ov else netlist.part("R3").value
     ib = (op.v("timer") - op.v("base")) / r3
@@ -403,7 +413,8 @@ class _BaseDrive:
         """Step each candidate's R3 along E24 until its drive lies in the window, by DC analysis."""
         for _ in range(6):
             ib, ic = drive_at_minimum(netlist, _batch_overrides(trials), n=len(trials),
-                                      supply_v=self.spec.supply.min_v, hfe_min=self.hfe_min, window=window)
+                                      supply_v=self.spec.supply.min_v, hfe_min=self.hfe_min, window=window,
+                                      hfe_typ=self.q.hfe_typ_at(self.i_nom))
             od = ib * self.hfe_min / ic
             moved = False
             for t, o in zip(trials, od):

@@ -95,9 +95,10 @@ def _draw_bipolar(rng, ov: dict, part, q, i_op: float, dt: np.ndarray) -> None:
     n = dt.size
     lo, hi = q.hfe_min_at(i_op), q.hfe_max_at(i_op)
     gain = np.exp(rng.uniform(np.log(lo), np.log(hi), n)) / q.hfe_typ_at(i_op)
-    ov[(part.ref, "BF")] = part.model["BF"] * gain * (1 + HFE_TC_PER_C * dt)
-    nf = part.model.get("NF", 1.0)
-    ov[(part.ref, "IS")] = part.model["IS"] * np.exp(-VBE_TC_V_PER_C * dt / (nf * VT_NOMINAL))
+    ov.update(part.gain_overrides(gain * (1 + HFE_TC_PER_C * dt) ** len(part.model.junctions())))
+    for prefix, card in part.model.junctions():  # every junction's Vbe drifts
+        nf = card.get("NF", 1.0)
+        ov[(part.ref, f"{prefix}IS")] = card["IS"] * np.exp(-VBE_TC_V_PER_C * dt / (nf * VT_NOMINAL))
 
 
 def full_brightness_yield(design: "Design", draws: Draws) -> float:
@@ -110,7 +111,8 @@ def full_brightness_yield(design: "Design", draws: Draws) -> float:
     if switch.kind == "nmos":
         hard[(switch.ref, "KP")] = np.full(draws.n, switch.model["KP"] * 1000.0)
     else:
-        hard[(switch.ref, "BF")] = draws.overrides[(switch.ref, "BF")] * 1000.0
+        for prefix, _ in switch.model.junctions():
+            hard[(switch.ref, f"{prefix}BF")] = draws.overrides[(switch.ref, f"{prefix}BF")] * 1000.0
     ideal = simulate.operating_point(nl, at_s=at, overrides=hard, n=draws.n).i_source("VSUPPLY")
     return float(np.mean(real >= FULL_BRIGHTNESS * ideal))
 

@@ -40,14 +40,14 @@ def _values(name: str, *, r1, r2, r3, c, r_led=None, supply="12 V") -> Values:
 CASES = [
     ("npn", LED, dict(r1=6800, r2=3300, r3=4700, c=1000e-6, r_led=130), "12 V"),
     ("npn", LAMP5, dict(r1=220, r2=2200, r3=150, c=4700e-6), "12 V"),
-    ("darlington", LED, dict(r1=10e3, r2=10e3, r3=470e3, c=47e-6, r_led=100), "12 V"),
+    ("darlington", LED, dict(r1=10e3, r2=10e3, r3=47e3, c=47e-6, r_led=100), "12 V"),
     ("darlington", LAMP21, dict(r1=4700, r2=10e3, r3=5600, c=1000e-6), "12 V"),
     ("mosfet", LAMP21, dict(r1=56e3, r2=100e3, r3=1000, c=22e-6), "12 V"),
     ("mosfet", LAMP21, dict(r1=56e3, r2=33e3, r3=1000, c=68e-6), "24 V"),
     ("npn-ground", LED, dict(r1=6800, r2=3300, r3=4700, c=1000e-6, r_led=130), "12 V"),
     ("npn-ground", LAMP5, dict(r1=220, r2=2200, r3=150, c=4700e-6), "12 V"),
     ("darlington-ground", LAMP21, dict(r1=4700, r2=10e3, r3=5600, c=1000e-6), "12 V"),
-    ("darlington-ground", LED, dict(r1=10e3, r2=10e3, r3=470e3, c=47e-6, r_led=100), "12 V"),
+    ("darlington-ground", LED, dict(r1=10e3, r2=10e3, r3=47e3, c=47e-6, r_led=100), "12 V"),
     ("mosfet-ground", LAMP21, dict(r1=56e3, r2=100e3, r3=1000, c=22e-6), "12 V"),
     ("mosfet-ground", LAMP21, dict(r1=56e3, r2=33e3, r3=1000, c=68e-6), "24 V"),
 ]

@@ -68,6 +68,11 @@ CASES = {
     # The same lamp held partly on by a weak drive
     "lamp-partly-driven": dict(spec_text=LAMP_12V, q="BD139", r1=220, r2=2200, r3=4700, c=4700e-6,
                                fade=(0.5, 8.0)),
+    # The Darlington as its equivalent circuit (an X element and .subckt in the deck): a weak
+    # RC drive into R1 / R2, where the internal resistors take much of the base current
+    "darlington-led-24v": dict(spec_text=LED_24V, q="TIP120", r1=10e3, r2=10e3, r3=47e3, c=47e-6, r_led=560,
+                               fade=(1.0, 3.0)),
+    "darlington-lamp": dict(spec_text=LAMP_12V, q="TIP120", r1=470, r2=4700, r3=22e3, c=470e-6, fade=(0.5, 3.0)),
 }
 
 

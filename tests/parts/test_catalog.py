@@ -15,6 +15,7 @@ import pytest
 
 from sheetgen.parts import catalog
 from sheetgen.model.netlist import Model
+from sheetgen.outputs import spice
 from sheetgen.outputs.spice_run import NGSPICE
 
 REQUIRED_TRANSISTORS = ("PN2222A", "BC337-40", "BD139", "TIP31C", "BC327-40",
@@ -210,6 +211,23 @@ def test_filament_cold_fraction_and_inrush():
     assert 10 <= inrush <= 15
 
 
+# Resistivity of tungsten, µΩ·cm, by temperature in kelvin: Forsythe and Worthing, "The
+# properties of tungsten and the characteristics of tungsten lamps", Astrophysical Journal
+# 61 (1925) 146, as tabulated in the CRC Handbook of Chemistry and Physics (values from memory).
+TUNGSTEN_RESISTIVITY = {300: 5.65, 1000: 24.93, 1500: 40.36, 2000: 56.67, 2500: 73.91, 3000: 92.04}
+
+
+def test_filament_resistance_law_follows_the_tungsten_table():
+    f = catalog.filament()
+    rho = TUNGSTEN_RESISTIVITY
+    for t_k in (1000, 1500, 2000, 2500):
+        law = (t_k / f.t_room_k) ** f.alpha
+        assert law == pytest.approx(rho[t_k] / rho[300], rel=0.08), t_k
+    # cold over hot at the catalog's hot temperature, the table interpolated linearly
+    hot = np.interp(f.t_hot_k, sorted(rho), [rho[k] for k in sorted(rho)])
+    assert f.cold_fraction == pytest.approx(rho[300] / hot, rel=0.08)
+
+
 def _warm_up(f, *, power_w=10.0, stop_s=0.1, steps=200_000):
     """Filament temperature at rated voltage from cold: C dT/dt = P (T_hot/T)^alpha − k (T⁴ − T_room⁴)."""
     k = f.radiation_k(power_w=power_w)
@@ -253,9 +271,13 @@ def test_lamp_model_card():
 
 
 def _card(model: Model) -> str:
-    kind = {"D": "d", "NPN": "npn", "PNP": "pnp", "NMOS": "nmos"}[model.kind]
-    params = " ".join(f"{k}={v:.6g}" for k, v in model.params)
-    return f".model {model.name} {kind}({params})"
+    """The card exactly as the deck writer prints it (a Darlington as its .subckt)."""
+    return "\n".join(spice.model_card(model.name, model))
+
+
+def _q(model: Model) -> str:
+    """The transistor's element: Q1, or X1 for a device built of parts."""
+    return "X1" if model.body else "Q1"
 
 
 def _run(tmp_path, body: str, analysis: str, vectors: str) -> np.ndarray:
@@ -270,10 +292,12 @@ def _run(tmp_path, body: str, analysis: str, vectors: str) -> np.ndarray:
     return np.atleast_2d(np.loadtxt(out))
 
 
-def _bjt_gain(tmp_path, t, ic_a: float, vce_v: float) -> tuple[float, float]:
-    """(hFE, Vbe) of the card at collector current ic_a and fixed vce_v, from a Vbe sweep."""
+def _bjt_gain(tmp_path, t, ic_a: float, vce_v: float, temp_c: float = 27.0) -> tuple[float, float]:
+    """(hFE, Vbe) of the card at collector current ic_a and fixed vce_v, from a Vbe sweep,
+    at junction temperature ``temp_c`` (ngspice's default 27 °C unless given)."""
     s = -1.0 if t.polarity == "pnp" else 1.0
-    body = (f"Q1 c b 0 {t.model.name}\nVB b 0 DC 0\nVC c 0 DC {s * vce_v}\n{_card(t.model)}")
+    body = (f"{_q(t.model)} c b 0 {t.model.name}\nVB b 0 DC 0\nVC c 0 DC {s * vce_v}\n{_card(t.model)}\n"
+            f".temp {temp_c:g}")
     a = _run(tmp_path, body, f"dc VB 0 {s * 2.0} {s * 0.001}", "i(VB) i(VC)")
     vb, ib, ic = s * a[:, 0], -s * a[:, 1], -s * a[:, 2]      # columns: VB, i(VB), i(VC)
     ok = (ib > 0) & (ic > 0)
@@ -286,7 +310,7 @@ def _bjt_gain(tmp_path, t, ic_a: float, vce_v: float) -> tuple[float, float]:
 def _bjt_sat(tmp_path, t, ic_a: float, ib_a: float) -> tuple[float, float]:
     """(Vce, Vbe) of the card with forced collector and base currents."""
     s = -1.0 if t.polarity == "pnp" else 1.0
-    body = (f"Q1 c b 0 {t.model.name}\nIB 0 b DC {s * ib_a}\nIC 0 c DC {s * ic_a}\n"
+    body = (f"{_q(t.model)} c b 0 {t.model.name}\nIB 0 b DC {s * ib_a}\nIC 0 c DC {s * ic_a}\n"
             f"{_card(t.model)}")
     a = _run(tmp_path, body, "op", "v(c) v(b)")
     return s * a[0, -2], s * a[0, -1]                          # last columns: v(c), v(b)
@@ -363,6 +387,39 @@ def test_card_vbe(tmp_path, part):
     assert band[0] <= vbe <= band[1], (part, vbe)
 
 
+# Temperature: the gain falls in the cold and rises with heat, Vbe falls by about 2 mV/°C
+# per junction.  Bands read off the makers' normalised "DC current gain" and "on voltages"
+# curves (onsemi BC337/D, P2N2222A/D, TIP120/D; ST BD135/BD139), from memory: hFE at
+# -20 °C 55-95 % of its 25 °C value, at +60 °C 105-145 %; dVbe/dT -1.4 to -2.6 mV/°C per
+# junction at a tenth of the rated current.
+@pytest.mark.requires_ngspice
+@pytest.mark.parametrize("part", BIPOLARS)
+def test_card_temperature_behaviour(tmp_path, part):
+    t = catalog.transistor(part)
+    ic, vce = 0.1 * t.imax_a, (3.0 if t.darlington else 2.0)
+    h25, v25 = _bjt_gain(tmp_path, t, ic, vce, 25.0)
+    h_cold, v_cold = _bjt_gain(tmp_path, t, ic, vce, -20.0)
+    h_hot, v_hot = _bjt_gain(tmp_path, t, ic, vce, 60.0)
+    assert 0.55 <= h_cold / h25 <= 0.95, (part, h_cold / h25)
+    assert 1.05 <= h_hot / h25 <= 1.45, (part, h_hot / h25)
+    junctions = 2 if t.darlington else 1
+    for v, dt in ((v_cold, -45.0), (v_hot, 35.0)):
+        slope = (v - v25) / dt / junctions
+        assert -2.6e-3 <= slope <= -1.4e-3, (part, slope)
+
+
+def test_tolerance_drift_matches_the_cards_temperature_law():
+    """The tolerance draws shift gain and Vbe with ambient by straight lines; at -20 °C they
+    must agree with what the cards' own temperature law (XTB, EG, XTI as in ngspice's BJT
+    model) gives, so draws and ngspice decks tell the same story in the cold."""
+    from sheetgen.sizing.tolerance import HFE_TC_PER_C, T_MODEL_C
+    t_model, t_cold = T_MODEL_C + 273.15, -20.0 + 273.15
+    for q in (t for t in catalog.transistors() if t.is_bipolar):
+        for _, card in q.model.junctions():
+            law = (t_cold / t_model) ** card["XTB"]     # ngspice: BF(T) = BF (T / TNOM)^XTB
+            assert 1 + HFE_TC_PER_C * (-20.0 - T_MODEL_C) == pytest.approx(law, abs=0.05), q.part_number
+
+
 def _mos_rds(tmp_path, t, vgs: float, id_a: float) -> float:
     body = (f"M1 d g 0 0 {t.model.name}\nVG g 0 DC {vgs}\nID 0 d DC {id_a}\n{_card(t.model)}")
     return _run(tmp_path, body, "op", "v(d)")[0, -1] / id_a
@@ -409,3 +466,27 @@ def test_led_card_gives_typical_vf(tmp_path, name):
     # sources per colour in leds.yaml (robot.lk / sunkistenterprise.com, read in secondary sources, ...)
     assert vf == pytest.approx(c.vf_typ_v, abs=0.02)
     assert vf <= c.vf_max_v
+
+
+def test_simulated_lamp_hot_and_cold_resistance():
+    """Our solver's filament at its rated voltage and nearly cold, against the rating and the
+    tungsten table above (a 12 V 5 W bulb: 28.8 Ω hot, by R = V²/P)."""
+    from sheetgen.engine import simulate
+    from sheetgen.model.netlist import GROUND, Netlist, Part, Source
+
+    f = catalog.filament()
+    lamp = Part(ref="LP1", kind="lamp", pins=(("1", "a"), ("2", GROUND)), role="load",
+                model=f.lamp_model(power_w=5.0, rated_v=12.0))
+    nl = Netlist(title="lamp", parts=(lamp,), sources=(Source("VA", "a", GROUND, 12.0),), release_s=1.0, stop_s=1.0)
+    levels = np.array([12.0, 0.01])
+    op = simulate.operating_point(nl, at_s=0.0, overrides={("VA", "level"): levels}, n=2)
+    r_hot, r_cold = levels / op.i_source("VA")
+    assert r_hot == pytest.approx(12.0 ** 2 / 5.0, rel=0.01)
+    rho = TUNGSTEN_RESISTIVITY
+    hot = np.interp(f.t_hot_k, sorted(rho), [rho[k] for k in sorted(rho)])
+    # at 20 °C: 5.65 µΩ·cm at 300 K less about 3 % (the table's slope), from the same table
+    rho_20c = rho[300] * (1 - (300 - 293.15) * (rho[1000] - rho[300]) / 700 / rho[300])
+    # The card reads about 8 % high here: its cold point is 27 °C, not 20 °C, and the 1.2 power
+    # law runs some 3 % under the table; the inrush it gives is that much on the low side.
+    assert r_cold / r_hot == pytest.approx(rho_20c / hot, rel=0.10)
+    assert r_cold / r_hot >= rho_20c / hot

@@ -15,7 +15,7 @@ from importlib import resources
 from typing import Any, Iterable
 
 from sheetgen.parts import eseries
-from sheetgen.model.netlist import Model
+from sheetgen.model.netlist import Model, Part
 from sheetgen.errors import SheetgenError, SpecError
 from sheetgen.reader.yamltree import load_data, unknown_key
 
@@ -487,10 +487,15 @@ _MODEL_KINDS = {"D", "NPN", "PNP", "NMOS", "LAMP"}
 
 
 def _model(data: Any, where: str) -> Model:
-    e = _Entry(data, where, ("name", "kind", "params"))
+    e = _Entry(data, where, ("name", "kind", "params", "body"))
     kind = e.text("kind")
     if kind not in _MODEL_KINDS:
         raise CatalogDataError(f"{where}.kind: {kind!r} is not one of {sorted(_MODEL_KINDS)}")
+    if e.has("body"):
+        if e.has("params"):
+            raise CatalogDataError(f"{where}: a device built of parts has a body, not params")
+        return Model(name=e.text("name"), kind=kind, params=(),
+                     body=tuple(_inner_part(p, f"{where}.body[{i}]") for i, p in enumerate(_list(data, "body", where))))
     params = e.raw("params")
     if not isinstance(params, dict) or not params:
         raise CatalogDataError(f"{where}.params: expected a mapping of SPICE parameters")
@@ -499,6 +504,21 @@ def _model(data: Any, where: str) -> Model:
         kind=kind,
         params=tuple((str(k), _number(v, f"{where}.params.{k}")) for k, v in params.items()),
     )
+
+
+def _inner_part(data: Any, where: str) -> Part:
+    """One part of a device's equivalent circuit: ``{ref, kind, pins, value | model}``."""
+    e = _Entry(data, where, ("ref", "kind", "pins", "value", "model"))
+    pins = e.raw("pins")
+    if not isinstance(pins, dict):
+        raise CatalogDataError(f"{where}.pins: expected a mapping of pin to net")
+    try:
+        return Part(ref=e.text("ref"), kind=e.text("kind"), role="inner",
+                    pins=tuple((str(k), str(v)) for k, v in pins.items()),
+                    value=e.num("value", optional=True),
+                    model=_model(e.raw("model"), f"{where}.model") if e.has("model") else None)
+    except ValueError as exc:
+        raise CatalogDataError(f"{where}: {exc}") from None
 
 
 def _list(data: Any, key: str, where: str) -> list:
