@@ -15,22 +15,32 @@ from sheetgen.errors import InfeasibleDesign, SheetgenError, SpecError
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_INFEASIBLE = 0, 1, 2, 3
 
 
-def cmd_size(args) -> int:
+def _topologies() -> tuple[str, ...]:
+    from sheetgen.circuits.topologies import forced_names
+
+    return forced_names()
+
+
+def _spec(path: str):
     from sheetgen.inputs.spec import load_spec
+
+    return load_spec(path, topologies=_topologies())
+
+
+def cmd_size(args) -> int:
     from sheetgen.outputs.export import report_json
     from sheetgen.outputs.summary import summary_text
     from sheetgen.sizing.cache import report_for
 
-    report = report_for(load_spec(args.spec))
+    report = report_for(_spec(args.spec))
     print(report_json(report) if args.json else summary_text(report))
     return EXIT_OK
 
 
 def cmd_check(args) -> int:
-    from sheetgen.inputs.spec import load_spec
     from sheetgen.sizing.cache import design_for
 
-    spec = load_spec(args.spec)
+    spec = _spec(args.spec)
     design = design_for(spec)
     print(f"{args.spec}: OK: {design.topology.title} with {design.values.transistor.part_number}; "
           f"fade-in {design.fade_in_s:.2f} s (asked {spec.fade_in_s:g} s), "
@@ -62,9 +72,8 @@ def cmd_build(args) -> int:
     from pathlib import Path
 
     from sheetgen.inputs.layout import CardLayout, load_layout
-    from sheetgen.inputs.spec import load_spec
 
-    spec = load_spec(args.spec)
+    spec = _spec(args.spec)
     layout = load_layout(args.layout)
     suffix = "-cards.pdf" if isinstance(layout, CardLayout) else ".pdf"
     out = args.output or f"{Path(args.spec).stem}{suffix}"
@@ -83,129 +92,21 @@ def cmd_demo(args) -> int:
     return _sheet(demo_spec(), layout=load_layout(None), out=OUTPUT)
 
 
-PACK_FILES = ("booklet.pdf", "cards.pdf", "kit-list.csv")
-
-
-def _check_printable(event) -> None:
-    """Every name and line of the event must be printable in the embedded font; say which is not."""
-    from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, missing_glyphs
-
-    problems = []
-    for key, text in (("title", event.title), ("venue", event.venue)):
-        if text and (missing_glyphs(text, font=BOLD) or missing_glyphs(text, font=REGULAR)):
-            problems.append(f"{event.source}: {key}: '{text}' has characters the booklet's font cannot print "
-                            f"({missing_glyphs(text, font=BOLD) or missing_glyphs(text, font=REGULAR)})")
-    for build in event.builds:
-        for b in build.builders:
-            missing = missing_glyphs(b.name, font=BOLD) if b.name is not None else ""
-            if missing:
-                problems.append(f"{build.source}:{b.line}: builds[{build.index}].builders[{b.number - 1}]: "
-                                f"'{b.name}' has characters the card font cannot print ({missing}); it covers "
-                                "Latin, Greek and Cyrillic letters: write the name in those, e.g. in Latin letters")
-    if problems:
-        raise SpecError(problems)
-
-
-def _progress(total: int):
-    """A progress bar on stderr for the slow parts of a pack; silent unless stderr is a terminal."""
-    from tqdm import tqdm
-
-    tqdm.monitor_interval = 0  # no monitor thread: sizing may fork worker processes
-    return tqdm(total=total, desc="pack", unit="step", file=sys.stderr, disable=not sys.stderr.isatty(),
-                leave=False, dynamic_ncols=True)
-
-
 def cmd_pack(args) -> int:
     """Check everything, size each distinct design once, render all in memory, then write all three files."""
-    from sheetgen.pack import batch
     from sheetgen.inputs.event import load_event
-    from sheetgen.pack.kit import KitUse, kit_csv, kit_list
-    from sheetgen.outputs.pdf.booklet import PackDesign, render_booklet
-    from sheetgen.outputs.pdf.cards import Card, render_cards
     from sheetgen.inputs.layout import load_card_layout, load_sheet_layout
-    from sheetgen.outputs.pdf.sheet import sheet_date
-    from sheetgen.outputs.parallel import render_all
-    from sheetgen.outputs.write import atomic_write_files, check_folder
+    from sheetgen.outputs.pack import make_pack
 
-    event = load_event(args.event)
+    event = load_event(args.event, topologies=_topologies())
     for warning in event.warnings:
         print(f"warning: {warning}", file=sys.stderr)
-    _check_printable(event)
-    sheet_layout = load_sheet_layout(args.layout)
-    card_layout = load_card_layout(args.cards)
-    folder = check_folder(args.output)
-    sheet_date()  # a malformed SOURCE_DATE_EPOCH is bad input: say so before the slow part
-    if args.jobs is not None and args.jobs < 1:
-        raise SpecError(f"--jobs: {args.jobs}: give 1 or more")
-    specs = batch.distinct([b.spec for b in event.builds])
-    jobs = args.jobs or batch.default_jobs(len(specs))
-    with _progress(2 * len(specs) + 2) as bar:
-        bar.set_description_str(f"sizing {len(specs)} design{'s' if len(specs) != 1 else ''}")
-        try:
-            reports = batch.analyse_all(specs, jobs=jobs, use_cache=not args.no_cache,
-                                        on_done=lambda _k: bar.update())
-        except batch.DesignFailed as failed:
-            build = next(b for b in event.builds if batch.spec_key(b.spec) == batch.spec_key(specs[failed.index]))
-            what = f"{build.where} ({build.spec_label})"
-            if isinstance(failed.error, InfeasibleDesign):
-                raise InfeasibleDesign(f"{what}: {failed.error}") from None
-            if isinstance(failed.error, SpecError):
-                raise SpecError([f"{what}: {p}" for p in failed.error.problems]) from None
-            raise failed.error from None
-        letters = _letters(len(specs))
-        by_key = {batch.spec_key(spec): k for k, spec in enumerate(specs)}
-        designs = [PackDesign(letter=letters[k], report=reports[k],
-                              builds=tuple(b for b in event.builds if by_key[batch.spec_key(b.spec)] == k))
-                   for k in range(len(specs))]
-        kit = kit_list([KitUse(report=d.report, design=d.letter, kits=d.kits) for d in designs],
-                       spares=event.spares)
-        on_card = " \u00b7 ".join(x for x in (event.title, event.date.isoformat() if event.date else "") if x)
-        cards = [Card(report=d.report, design=d.letter, name=b.name, place=b.place, event=on_card)
-                 for d in designs for build in d.builds for b in build.builders]
-        bar.set_description_str("cards and booklet")
-        sheets = sum(-(-d.kits // card_layout.per_sheet) for d in designs)
-        cards_pdf, booklet = render_all(
-            [lambda: render_cards(cards, card_layout, title=event.title, on_design=lambda _d: bar.update()),
-             lambda: render_booklet(event, designs, kit, sheet_layout, card_layout, card_sheets=sheets)],
-            jobs=args.jobs or batch.default_jobs(2))
-        bar.update(bar.total - 1 - bar.n)  # the cards' steps, counted where they ran
-        bar.set_description_str("writing")
-        paths = atomic_write_files(folder, dict(zip(PACK_FILES, (booklet, cards_pdf, kit_csv(kit)))))
-        bar.update()
-    for path in paths:
+    made = make_pack(event, sheet_layout=load_sheet_layout(args.layout), card_layout=load_card_layout(args.cards),
+                     output=args.output, jobs=args.jobs, use_cache=not args.no_cache)
+    for path in made.paths:
         print(path)
-    print(_pack_line(len(designs), len(cards), sheets, _pages(booklet), len(kit)))
+    print(made.line)
     return EXIT_OK
-
-
-def _pages(pdf: bytes) -> int:
-    """Pages in a PDF reportlab wrote: one ``/Type /Page`` object each (``/Pages`` is the tree)."""
-    import re
-
-    return len(re.findall(rb"/Type /Page(?![s\w])", pdf))
-
-
-def _plural(n: int, word: str) -> str:
-    return f"{n} {word}" if n == 1 else f"{n} {word}s"
-
-
-def _pack_line(designs: int, cards: int, card_sheets: int, booklet_pages: int, kit_lines: int) -> str:
-    """The pack's last line: what was made and how much paper it takes."""
-    return (f"{_plural(designs, 'design')}, {_plural(cards, 'card')}; sheets to print: "
-            f"{_plural(card_sheets, 'card sheet')} (both sides) and {_plural(booklet_pages, 'booklet page')}; "
-            f"{_plural(kit_lines, 'kit line')}")
-
-
-def _letters(n: int) -> list[str]:
-    """Kit letters A, B, ... Z, then AA, AB, ... as spreadsheet columns go."""
-    out = []
-    for k in range(n):
-        text, k = "", k + 1
-        while k:
-            k, r = divmod(k - 1, 26)
-            text = chr(ord("A") + r) + text
-        out.append(text)
-    return out
 
 
 def parser() -> argparse.ArgumentParser:
@@ -263,8 +164,36 @@ def parser() -> argparse.ArgumentParser:
     return p
 
 
+class _Stopped(BaseException):
+    """SIGTERM or Ctrl-C: unwinds through every clean-up (temporary files, made folders), caught only in main."""
+
+    def __init__(self, signum: int) -> None:
+        super().__init__(signum)
+        self.signum = signum
+
+
+def _stop(signum, _frame) -> None:
+    raise _Stopped(signum)
+
+
+def _catch_signals():
+    """Route SIGTERM and SIGINT through _Stopped while main runs; the previous handlers, to restore."""
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        return {}
+    previous = {}
+    for signum in (signal.SIGTERM, signal.SIGINT):
+        previous[signum] = signal.signal(signum, _stop)
+    return previous
+
+
 def main(argv: list[str] | None = None) -> int:
+    import signal
+
     args = parser().parse_args(argv)
+    previous = _catch_signals()
     try:
         from sheetgen.sizing.cache import bypass
 
@@ -280,11 +209,16 @@ def main(argv: list[str] | None = None) -> int:
     except SheetgenError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return EXIT_INTERNAL
-    except KeyboardInterrupt:
-        return 130
+    except (_Stopped, KeyboardInterrupt) as exc:
+        signum = exc.signum if isinstance(exc, _Stopped) else signal.SIGINT
+        print("stopped; nothing new was written", file=sys.stderr)
+        return 128 + int(signum)
     except Exception as exc:  # never a traceback for the user; say what broke
         print(f"internal error: {type(exc).__name__}: {exc}", file=sys.stderr)
         return EXIT_INTERNAL
+    finally:
+        for signum, handler in previous.items():
+            signal.signal(signum, handler)
 
 
 if __name__ == "__main__":

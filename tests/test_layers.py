@@ -13,7 +13,8 @@ from pathlib import Path
 PACKAGE = Path(__file__).resolve().parents[1] / "sheetgen"
 
 #: lowest first; a layer may import every layer before it
-LAYERS = ["errors", "model", "parts", "inputs", "engine", "circuits", "board", "sizing", "pack", "outputs", "cli"]
+LAYERS = ["errors", "reader", "model", "parts", "inputs", "engine", "circuits", "board", "sizing", "pack", "outputs",
+          "cli"]
 PDF_LIBRARIES = {"reportlab", "schemdraw", "svglib"}
 
 

@@ -591,3 +591,8 @@ TOPOLOGIES: dict[str, Topology] = {t.name: t for t in (NPN, DARLINGTON_LOW, MOSF
 def topologies_for(trigger: str) -> tuple[Topology, ...]:
     """The templates that take this kind of feed, cheapest output stage first."""
     return tuple(sorted((t for t in TOPOLOGIES.values() if t.trigger == trigger), key=lambda t: t.stage.cost_rank))
+
+
+def forced_names() -> tuple[str, ...]:
+    """The names a spec's ``topology:`` may force (besides auto): each stage, whatever its trigger."""
+    return tuple(sorted({t.name.removesuffix("-ground") for t in TOPOLOGIES.values()}))

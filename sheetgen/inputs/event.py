@@ -25,7 +25,6 @@ from the file's text itself, never through YAML's type guessing, so "Yes",
 from __future__ import annotations
 
 import datetime as _dt
-import difflib
 import os
 import re
 import unicodedata
@@ -39,7 +38,9 @@ from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
 from sheetgen.errors import SpecError
 from sheetgen.inputs.spec import BOARDS, Spec, load_spec, spec_from_node
 from sheetgen.inputs.wires import RUNS, check_wires
-from sheetgen.inputs.yamltree import Problems, compose
+from sheetgen.reader.files import read_text
+from sheetgen.reader.text import line_problem
+from sheetgen.reader.yamltree import Problems, compose, excerpt, mapping, suggest
 
 __all__ = ["Builder", "Build", "Event", "load_event", "parse_event", "NAME_MAX_CHARS", "COUNT_MAX"]
 
@@ -49,7 +50,7 @@ COUNT_MAX = 500  # builders in one build: a big club night, not a production run
 BUILDERS_MAX = 2000  # over the whole event
 _TOP_KEYS = ("title", "date", "venue", "spares", "wires", "board", "builds")
 _BUILD_KEYS = ("spec", "design", "builders", "count")
-_PERCENT_RE = re.compile(r"^\s*(?P<num>\d+(?:\.\d+)?)\s*%\s*$")
+_PERCENT_RE = re.compile(r"\s*(?P<num>\d{1,3}(?:\.\d{1,3})?)\s*%\s*")
 
 
 @dataclass(frozen=True)
@@ -106,32 +107,24 @@ class Event:
         return sum(len(b.builders) for b in self.builds)
 
 
-def load_event(path: str | os.PathLike[str]) -> Event:
-    """Read and check an event file and every spec it names; all problems raised together."""
+def load_event(path: str | os.PathLike[str], *, topologies: tuple[str, ...] | None = None) -> Event:
+    """Read and check an event file and every spec it names; all problems raised together.
+
+    ``topologies``, when given, are the names a spec's ``topology:`` may take.
+    """
     source = os.fspath(path)
-    try:
-        with open(source, "rb") as handle:
-            raw = handle.read()
-    except FileNotFoundError:
-        raise SpecError(f"{source}: no such event file") from None
-    except IsADirectoryError:
-        raise SpecError(f"{source}: is a directory, not an event file") from None
-    except OSError as exc:
-        raise SpecError(f"{source}: cannot be read ({exc.strerror or exc})") from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise SpecError(f"{source}: is not UTF-8 text (bad byte at offset {exc.start}); save it as UTF-8") from None
-    return parse_event(text, source=source, folder=Path(source).parent)
+    return parse_event(read_text(source, what="event"), source=source, folder=Path(source).parent,
+                       topologies=topologies)
 
 
-def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".") -> Event:
+def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".",
+                topologies: tuple[str, ...] | None = None) -> Event:
     """Check an event given as YAML text; ``spec:`` paths are read relative to ``folder``."""
     problems = Problems(source)
     root = compose(text, source=source)
     if root is None:
-        raise SpecError(f"{source}: is empty; an event needs at least title: and builds:")
-    top = _mapping(root, "", _TOP_KEYS, problems)
+        raise SpecError(f"{source}:1: is empty; an event needs at least title: and builds:")
+    top = mapping(root, "", _TOP_KEYS, problems)
     for needed in ("title", "builds"):
         if needed not in top and isinstance(root, MappingNode):
             problems.add(root, needed, "is missing" + (
@@ -141,7 +134,8 @@ def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".")
     venue = _line(top["venue"][1], "venue", problems) if "venue" in top else None
     date = _date(top["date"][1], problems) if "date" in top else None
     spares, spares_text = (_spares(top["spares"][1], problems) if "spares" in top else (Fraction(0), "0 %"))
-    builds = _builds(top["builds"][1], source, Path(folder), problems) if "builds" in top else ()
+    reader = _SpecReader(source, Path(folder), topologies)
+    builds = _builds(top["builds"][1], reader, problems) if "builds" in top else ()
     if "wires" in top:
         colours = _wires(top["wires"][1], problems)
         builds = tuple(b if b.spec.wires else replace(b, spec=replace(b.spec, wires=colours)) for b in builds)
@@ -169,7 +163,7 @@ def _repeated_names(builds: tuple[Build, ...]) -> tuple[str, ...]:
             if key in first:
                 was_build, was = first[key]
                 out.append(f"{build.source}:{b.line}: builds[{build.index}].builders[{b.number - 1}]: "
-                           f"'{b.name}' is named already (builds[{was_build.index}].builders[{was.number - 1}], "
+                           f"{excerpt(b.name)} is named already (builds[{was_build.index}].builders[{was.number - 1}], "
                            f"line {was.line}); two cards will carry the same name")
             else:
                 first[key] = (build, b)
@@ -177,26 +171,6 @@ def _repeated_names(builds: tuple[Build, ...]) -> tuple[str, ...]:
 
 
 # ----------------------------------------------------------------- checking
-def _mapping(node: Node, key: str, allowed: tuple[str, ...], problems: Problems) -> dict[str, tuple[Node, Node]]:
-    """A mapping's keys with their key and value nodes; unknown or repeated keys are problems."""
-    out: dict[str, tuple[Node, Node]] = {}
-    if not isinstance(node, MappingNode):
-        problems.add(node, key, f"should be a mapping with the keys {', '.join(allowed)}")
-        return out
-    for k_node, v_node in node.value:
-        name = k_node.value if isinstance(k_node, ScalarNode) else None
-        path = f"{key}.{name}" if key else str(name)
-        if name not in allowed:
-            hint = difflib.get_close_matches(str(name), allowed, n=1)
-            maybe = f" (did you mean {hint[0]}?)" if hint else ""
-            problems.add(k_node, path, f"unknown key{maybe}; known here: {', '.join(allowed)}")
-        elif name in out:
-            problems.add(k_node, path, f"is given twice (first on line {out[name][0].start_mark.line + 1}); keep one")
-        else:
-            out[name] = (k_node, v_node)
-    return out
-
-
 def _text(node: Node, key: str, problems: Problems) -> str | None:
     """A scalar's text exactly as written (after YAML quoting), whatever YAML would have typed it as."""
     if not isinstance(node, ScalarNode):
@@ -207,13 +181,9 @@ def _text(node: Node, key: str, problems: Problems) -> str | None:
 
 def _printable(text: str, node: Node, key: str, problems: Problems, *, limit: int) -> bool:
     """One line of text, no control characters, not too long; the problem is noted when it is not."""
-    if not text.strip():
-        problems.add(node, key, "is empty")
-        return False
-    bad = sorted({ch for ch in text if unicodedata.category(ch) == "Cc"})
-    if bad:
-        shown = ", ".join(f"U+{ord(ch):04X}" for ch in bad)
-        problems.add(node, key, f"must be one line without control characters (found {shown})")
+    problem = line_problem(text)
+    if problem:
+        problems.add(node, key, problem)
         return False
     if len(text) > limit:
         problems.add(node, key, f"is {len(text)} characters long; keep it to {limit}")
@@ -237,7 +207,7 @@ def _date(node: Node, problems: Problems) -> _dt.date | None:
             raise ValueError
         return _dt.date.fromisoformat(text.strip())
     except ValueError:
-        problems.add(node, "date", f"'{text}' is not a date; write it as year-month-day, e.g. 2027-03-20")
+        problems.add(node, "date", f"{excerpt(text)} is not a date; write it as year-month-day, e.g. 2027-03-20")
         return None
 
 
@@ -261,9 +231,9 @@ def _board(node: Node, problems: Problems) -> str | None:
     if text is None:
         return None
     if text.strip().lower() not in BOARDS:
-        hint = difflib.get_close_matches(text.strip().lower(), BOARDS, n=1, cutoff=0.5)
-        problems.add(node, "board", f'"{text}" is not a board; use stripboard or perfboard'
-                                    + (f" (did you mean {hint[0]}?)" if hint else ""))
+        hint = suggest(text.strip().lower(), BOARDS)
+        problems.add(node, "board", f"{excerpt(text)} is not a board; use stripboard or perfboard"
+                                    + (f" (did you mean `{hint}`?)" if hint else ""))
         return None
     return text.strip().lower()
 
@@ -272,15 +242,15 @@ def _spares(node: Node, problems: Problems) -> tuple[Fraction, str]:
     text = _text(node, "spares", problems)
     if text is None:
         return Fraction(0), "0 %"
-    match = _PERCENT_RE.match(text)
+    match = _PERCENT_RE.fullmatch(text)
     if match is None:
-        problems.add(node, "spares", f"'{text}' should be a percentage such as 10 % (extra parts per kit-list "
+        problems.add(node, "spares", f"{excerpt(text)} should be a percentage such as 10 % (extra parts per kit-list "
                                      "line, rounded up)")
         return Fraction(0), "0 %"
     try:
         percent = Fraction(Decimal(match["num"]))
     except InvalidOperation:  # the pattern allows only digits; kept for safety of the conversion
-        problems.add(node, "spares", f"'{text}' is not a number")
+        problems.add(node, "spares", f"{excerpt(text)} is not a number")
         return Fraction(0), "0 %"
     if percent > 100:
         problems.add(node, "spares", f"{match['num']} % is more than 100 %; give the extra share of each line")
@@ -288,22 +258,47 @@ def _spares(node: Node, problems: Problems) -> tuple[Fraction, str]:
     return percent / 100, f"{match['num']} %"
 
 
-def _builds(node: Node, source: str, folder: Path, problems: Problems) -> tuple[Build, ...]:
+class _SpecReader:
+    """Reads the specs an event names, each file once however many builds name it."""
+
+    def __init__(self, source: str, folder: Path, topologies: tuple[str, ...] | None) -> None:
+        self.source, self.folder, self.topologies = source, folder, topologies
+        self._files: dict[Path, Spec | SpecError] = {}
+
+    def file(self, path: Path) -> Spec:
+        path = path if path.is_absolute() else self.folder / path
+        key = path.absolute()
+        if key not in self._files:
+            try:
+                self._files[key] = load_spec(path, topologies=self.topologies)
+            except SpecError as exc:
+                self._files[key] = exc
+        got = self._files[key]
+        if isinstance(got, SpecError):
+            raise got
+        return got
+
+
+def _builds(node: Node, reader: _SpecReader, problems: Problems) -> tuple[Build, ...]:
     if not isinstance(node, SequenceNode) or not node.value:
         problems.add(node, "builds", "should be a list of builds, each with spec: (or design:) and builders: "
                                      "(or count:)")
         return ()
+    if len(node.value) > BUILDERS_MAX:  # every build has a builder: refuse before reading any of them
+        problems.add(node, "builds", f"lists {len(node.value):,} builds; one pack holds at most {BUILDERS_MAX} "
+                                     "builders")
+        return ()
     out = []
     for i, item in enumerate(node.value):
-        build = _build(item, i, source, folder, problems)
+        build = _build(item, i, reader, problems)
         if build is not None:
             out.append(build)
     return tuple(out)
 
 
-def _build(node: Node, i: int, source: str, folder: Path, problems: Problems) -> Build | None:
+def _build(node: Node, i: int, reader: _SpecReader, problems: Problems) -> Build | None:
     key = f"builds[{i}]"
-    fields = _mapping(node, key, _BUILD_KEYS, problems)
+    fields = mapping(node, key, _BUILD_KEYS, problems)
     if not isinstance(node, MappingNode):
         return None
     line = node.start_mark.line + 1
@@ -311,9 +306,9 @@ def _build(node: Node, i: int, source: str, folder: Path, problems: Problems) ->
     if "spec" in fields and "design" in fields:
         problems.add(fields["design"][0], f"{key}.design", "give spec: (a file) or design: (inline), not both")
     elif "spec" in fields:
-        spec, label = _spec_file(fields["spec"][1], key, folder, source, problems)
+        spec, label = _spec_file(fields["spec"][1], key, reader, problems)
     elif "design" in fields:
-        spec, label = _inline(fields["design"][1], key, source, problems)
+        spec, label = _inline(fields["design"][1], key, reader, problems)
     else:
         problems.add(node, key, "needs spec: (a spec file, relative to this file) or design: (an inline spec)")
     builders: tuple[Builder, ...] = ()
@@ -332,29 +327,32 @@ def _build(node: Node, i: int, source: str, folder: Path, problems: Problems) ->
         problems.add(node, key, "needs builders: (a list of names) or count: (how many unnamed builders)")
     if spec is None or not builders:
         return None
-    return Build(index=i, line=line, source=source, spec=spec, spec_label=label, builders=builders)
+    return Build(index=i, line=line, source=reader.source, spec=spec, spec_label=label, builders=builders)
 
 
-def _spec_file(node: Node, key: str, folder: Path, source: str, problems: Problems) -> tuple[Spec | None, str]:
+def _spec_file(node: Node, key: str, reader: _SpecReader, problems: Problems) -> tuple[Spec | None, str]:
     text = _text(node, f"{key}.spec", problems)
     if text is None or not _printable(text, node, f"{key}.spec", problems, limit=4096):
         return None, ""
-    path = Path(text).expanduser()
-    path = path if path.is_absolute() else folder / path
+    if not text.strip().lower().endswith((".yaml", ".yml")):
+        # Never read, and so never quote, a file that does not even claim to be a spec.
+        problems.add(node, f"{key}.spec", f"{excerpt(text)} is not a spec file; name a .yaml or .yml file")
+        return None, text
     try:
-        return load_spec(path), text
+        return reader.file(Path(text).expanduser()), text
     except SpecError as exc:
         line = node.start_mark.line + 1
-        problems.extend(line, [f"{source}:{line}: {key}.spec: {problem}" for problem in exc.problems])
+        problems.extend(line, [f"{reader.source}:{line}: {key}.spec: {problem}" for problem in exc.problems])
         return None, text
 
 
-def _inline(node: Node, key: str, source: str, problems: Problems) -> tuple[Spec | None, str]:
+def _inline(node: Node, key: str, reader: _SpecReader, problems: Problems) -> tuple[Spec | None, str]:
     if not isinstance(node, MappingNode):
         problems.add(node, f"{key}.design", "should be a spec written inline: supply:, load:, fade: ...")
         return None, ""
     try:
-        return spec_from_node(node, source=source, key_prefix=f"{key}.design"), "inline design"
+        return spec_from_node(node, source=reader.source, key_prefix=f"{key}.design",
+                              topologies=reader.topologies), "inline design"
     except SpecError as exc:
         problems.extend(node.start_mark.line + 1, exc.problems)
         return None, ""
@@ -386,7 +384,10 @@ def _count(node: Node, key: str, problems: Problems) -> tuple[Builder, ...]:
     if text is None:
         return ()
     if node.style is not None or not re.fullmatch(r"[+-]?\d+", text.strip()):
-        problems.add(node, path, f"must be a whole number of builders such as 7, got '{text}'")
+        problems.add(node, path, f"must be a whole number of builders such as 7, got {excerpt(text)}")
+        return ()
+    if len(text.strip().lstrip("+-").lstrip("0")) > 6:
+        problems.add(node, path, f"must be at most {COUNT_MAX}, got {excerpt(text.strip())}")
         return ()
     count = int(text)
     if count < 1:

@@ -19,7 +19,6 @@ repository's folder directly.
 
 from __future__ import annotations
 
-import difflib
 import os
 import re
 from dataclasses import dataclass
@@ -30,7 +29,9 @@ from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
 
 from sheetgen.errors import SpecError
 from sheetgen.inputs.blocknames import CARD_BLOCKS, SHEET_BLOCKS
-from sheetgen.inputs.yamltree import Problems, compose
+from sheetgen.reader.files import read_text
+from sheetgen.reader.text import line_problem
+from sheetgen.reader.yamltree import Problems, compose, excerpt, given_twice, mapping, suggest
 
 __all__ = [
     "BLOCK_NAMES",
@@ -65,12 +66,16 @@ PAGE_SIZES_PT = {"A4": (595.2756, 841.8898), "letter": (612.0, 792.0)}
 CARD_SIZES_MM = {"A6": (105.0, 148.0), "4x6in": (101.6, 152.4)}
 
 FULL = "full"
+NAME_MAX_CHARS = 60  # the title block prints it on one line
 DEFAULT_LAYOUT = "a4-sheet"
 DEFAULT_CARD_LAYOUT = "a6-card"
 CARD_RANGE_MM = (60.0, 200.0)  # smaller holds nothing readable; larger is a sheet, not a card
 CARD_GAP_RANGE_MM = (6.0, 30.0)  # the cut marks of two neighbours sit in the gap without touching
 MARGIN_RANGE_MM = (5.0, 40.0)  # below 5 mm most printers clip; above 40 mm nothing fits
 GUTTER_RANGE_MM = (0.0, 25.0)
+#: The narrowest column: a five-column table of 6.5 pt type still sets its header words whole
+#: (common practice, no source).
+COLUMN_MIN_MM = 40.0
 
 _MM_PER = {"mm": 1.0, "cm": 10.0, "in": 25.4, "pt": 25.4 / 72.0}
 _LENGTH_RE = re.compile(r"^\s*(?P<num>\d+(?:\.\d*)?|\.\d+)\s*(?P<unit>mm|cm|in|pt)\s*$")
@@ -223,47 +228,20 @@ def load_layout(name_or_path: str | os.PathLike[str] | None = None, *,
     if not looks_like_path:
         known = shipped_layouts()
         if choice not in known:
-            hint = [k for k in known if k.startswith(choice.lower())] or difflib.get_close_matches(choice, known, n=1)
-            maybe = f" (did you mean {hint[0]}?)" if hint else ""
-            raise SpecError(f"--layout: no shipped layout is named '{choice}'{maybe}; shipped: "
+            hint = [k for k in known if k.startswith(choice.lower())]
+            maybe = f" (did you mean `{hint[0]}`?)" if hint else _suggest(choice, known)
+            raise SpecError(f"--layout: no shipped layout is named {excerpt(choice)}{maybe}; shipped: "
                             f"{', '.join(known)}; or give the path of a layout file")
         entry = _shipped_folder() / f"{choice}.yaml"
         return parse_layout(entry.read_text(encoding="utf-8"), source=f"layouts/{choice}.yaml")
-    try:
-        with open(choice, encoding="utf-8-sig") as handle:
-            text = handle.read()
-    except FileNotFoundError:
-        raise SpecError(f"--layout: {choice}: no such layout file") from None
-    except IsADirectoryError:
-        raise SpecError(f"--layout: {choice}: is a directory, not a layout file") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise SpecError(f"--layout: {choice}: cannot be read ({exc})") from None
+    text = read_text(choice, what="layout", shown=f"--layout: {choice}")
     return parse_layout(text, source=choice)
 
 
 # ----------------------------------------------------------------- checking
 def _suggest(word: str, choices) -> str:
-    hint = difflib.get_close_matches(word, list(choices), n=1)
-    return f" (did you mean {hint[0]}?)" if hint else ""
-
-
-def _mapping(node: Node, key: str, allowed: tuple[str, ...], problems: Problems) -> dict[str, tuple[Node, Node]]:
-    """Keys of a mapping node with their key and value nodes; unknown or repeated keys are problems."""
-    out: dict[str, tuple[Node, Node]] = {}
-    if not isinstance(node, MappingNode):
-        problems.add(node, key, "should be a mapping of keys to values")
-        return out
-    for k_node, v_node in node.value:
-        name = k_node.value if isinstance(k_node, ScalarNode) else None
-        path = f"{key}.{name}" if key else str(name)
-        if name not in allowed:
-            problems.add(k_node, path, f"unknown key{_suggest(str(name), allowed)}; "
-                                       f"known here: {', '.join(allowed)}")
-        elif name in out:
-            problems.add(k_node, path, "is given twice; keep one")
-        else:
-            out[name] = (k_node, v_node)
-    return out
+    hint = suggest(word, choices)
+    return f" (did you mean `{hint}`?)" if hint else ""
 
 
 def _scalar(node: Node, key: str, problems: Problems) -> str | None:
@@ -273,17 +251,31 @@ def _scalar(node: Node, key: str, problems: Problems) -> str | None:
     return node.value
 
 
+def _name(node: Node, problems: Problems) -> str | None:
+    """The layout's name, printed in the title block: one short line."""
+    text = _scalar(node, "name", problems)
+    if text is None:
+        return None
+    problem = line_problem(text)
+    if problem is None and len(text) > NAME_MAX_CHARS:
+        problem = f"is {len(text):,} characters long; keep it to {NAME_MAX_CHARS}"
+    if problem:
+        problems.add(node, "name", problem)
+        return None
+    return text
+
+
 def _length_mm(node: Node, key: str, lo: float, hi: float, problems: Problems) -> float | None:
     text = _scalar(node, key, problems)
     if text is None:
         return None
     match = _LENGTH_RE.match(text)
     if match is None:
-        problems.add(node, key, f"'{text}' is not a length; write it with its unit, e.g. 12 mm")
+        problems.add(node, key, f"{excerpt(text)} is not a length; write it with its unit, e.g. 12 mm")
         return None
     mm = float(match["num"]) * _MM_PER[match["unit"]]
     if not lo <= mm <= hi:
-        problems.add(node, key, f"{text} is outside {lo:g}-{hi:g} mm")
+        problems.add(node, key, f"{excerpt(text)} is outside {lo:g}-{hi:g} mm")
         return None
     return mm
 
@@ -293,7 +285,7 @@ def _flag(node: Node, key: str, problems: Problems) -> bool:
     if text in ("true", "false"):
         return text == "true"
     if text is not None:
-        problems.add(node, key, f"'{text}' should be true or false")
+        problems.add(node, key, f"{excerpt(text)} should be true or false")
     return False
 
 
@@ -301,7 +293,7 @@ def _paper(node: Node, problems: Problems) -> str | None:
     """``page:`` as a known paper size, or None (the problem is noted); sheets and cards print on the same papers."""
     page = _scalar(node, "page", problems)
     if page is not None and page not in PAGE_SIZES_PT:
-        problems.add(node, "page", f"'{page}' is not a paper size{_suggest(page, PAGE_SIZES_PT)}; "
+        problems.add(node, "page", f"{excerpt(page)} is not a paper size{_suggest(page, PAGE_SIZES_PT)}; "
                                    f"known: {', '.join(PAGE_SIZES_PT)}")
         return None
     return page
@@ -328,22 +320,22 @@ def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
     problems = Problems(source)
     root = compose(text, source=source)
     if root is None:
-        raise SpecError(f"{source}: is empty; a layout needs at least page and blocks")
+        raise SpecError(f"{source}:1: is empty; a layout needs at least page and blocks")
     if isinstance(root, MappingNode) and any(isinstance(k, ScalarNode) and k.value == "card" for k, _ in root.value):
         return _card_layout(root, source, problems)
-    top = _mapping(root, "", _TOP_KEYS, problems)
+    top = mapping(root, "", _TOP_KEYS, problems)
     for needed in ("name", "page", "blocks"):
         if needed not in top and isinstance(root, MappingNode):
             problems.add(root, needed, "is missing")
 
-    name = _scalar(top["name"][1], "name", problems) if "name" in top else None
+    name = _name(top["name"][1], problems) if "name" in top else None
     page = _paper(top["page"][1], problems) if "page" in top else None
 
     margins: tuple[float, ...] = (12.0, 12.0, 12.0, 12.0)
     if "margins" in top:
         node = top["margins"][1]
         if isinstance(node, MappingNode):
-            sides = _mapping(node, "margins", _SIDES, problems)
+            sides = mapping(node, "margins", _SIDES, problems)
             for side in _SIDES:
                 if side not in sides:
                     problems.add(node, f"margins.{side}", "is missing (give all four sides, or one length)")
@@ -362,7 +354,7 @@ def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
         if not isinstance(node, MappingNode) or not node.value:
             problems.add(node, "columns", "should map column names to relative widths, e.g. {left: 1, right: 1}")
         else:
-            seen: set[str] = set()
+            seen: dict[str, int] = {}
             for k_node, v_node in node.value:
                 col = k_node.value if isinstance(k_node, ScalarNode) else ""
                 key = f"columns.{col}"
@@ -370,16 +362,16 @@ def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
                     problems.add(k_node, key, "a column name is a lower-case word other than 'full'")
                     continue
                 if col in seen:
-                    problems.add(k_node, key, "is given twice; keep one")
+                    problems.add(k_node, key, given_twice(seen[col]))
                     continue
-                seen.add(col)
+                seen[col] = k_node.start_mark.line + 1
                 share_text = _scalar(v_node, key, problems)
                 try:
                     share = float(share_text) if share_text is not None else None
                 except ValueError:
                     share = None
                 if share_text is not None and (share is None or not 0.2 <= share <= 5.0):
-                    problems.add(v_node, key, f"'{share_text}' should be a relative width from 0.2 to 5")
+                    problems.add(v_node, key, f"{excerpt(share_text)} should be a relative width from 0.2 to 5")
                     continue
                 if share is not None:
                     columns.append(Column(name=col, share=share))
@@ -389,9 +381,25 @@ def parse_layout(text: str, *, source: str) -> Layout | CardLayout:
         gutter = got_gutter if got_gutter is not None else gutter
 
     blocks = _blocks(top["blocks"][1], {c.name for c in columns}, problems) if "blocks" in top else ()
+    if page is not None and columns and "columns" in top:
+        _check_column_widths(top["columns"][1], page, margins, gutter, columns, problems)
     problems.raise_if_any()
     return Layout(name=name, source=source, page_size=page, margins_mm=margins, columns=tuple(columns),
                   gutter_mm=gutter, blocks=blocks)
+
+
+def _check_column_widths(node: Node, page: str, margins, gutter: float, columns: list[Column],
+                         problems: Problems) -> None:
+    """Every column wide enough for its blocks' tables at the sheet's type size (6.5 pt at the least)."""
+    frame_mm = PAGE_SIZES_PT[page][0] / _PT_PER_MM - margins[1] - margins[3]
+    usable = frame_mm - gutter * (len(columns) - 1)
+    total = sum(c.share for c in columns)
+    for c in columns:
+        width = usable * c.share / total
+        if width < COLUMN_MIN_MM:
+            problems.add(node, f"columns.{c.name}", f"would be {max(width, 0):.0f} mm wide, too narrow: each column "
+                                                  f"needs at least {COLUMN_MIN_MM:g} mm for its tables at a readable "
+                                                  "size; give it a larger share or use fewer columns")
 
 
 def _blocks(node: Node, column_names: set[str], problems: Problems) -> tuple[BlockPlacement, ...]:
@@ -404,7 +412,7 @@ def _blocks(node: Node, column_names: set[str], problems: Problems) -> tuple[Blo
         key = f"blocks[{i + 1}]"
         column, new_page, name_node = FULL, False, item
         if isinstance(item, MappingNode):
-            fields = _mapping(item, key, _BLOCK_KEYS, problems)
+            fields = mapping(item, key, _BLOCK_KEYS, problems)
             if "block" not in fields:
                 problems.add(item, f"{key}.block", "is missing")
                 continue
@@ -414,7 +422,7 @@ def _blocks(node: Node, column_names: set[str], problems: Problems) -> tuple[Blo
                 column = _scalar(col_node, f"{key}.column", problems) or FULL
                 if column != FULL and column not in column_names:
                     declared = sorted(column_names) + [FULL]
-                    problems.add(col_node, f"{key}.column", f"'{column}' is not a declared column"
+                    problems.add(col_node, f"{key}.column", f"{excerpt(column)} is not a declared column"
                                  f"{_suggest(column, declared)}; use one of: {', '.join(declared)}")
                     column = FULL
             if "new_page" in fields:
@@ -440,11 +448,11 @@ def _blocks(node: Node, column_names: set[str], problems: Problems) -> tuple[Blo
 # ------------------------------------------------------------- card layouts
 def _card_layout(root: MappingNode, source: str, problems: Problems) -> CardLayout:
     """Check a card layout (a file with ``card:``) completely, as ``parse_layout`` does a sheet."""
-    top = _mapping(root, "", _CARD_TOP_KEYS, problems)
+    top = mapping(root, "", _CARD_TOP_KEYS, problems)
     for needed in ("name", "page", "front"):
         if needed not in top:
             problems.add(root, needed, "is missing")
-    name = _scalar(top["name"][1], "name", problems) if "name" in top else None
+    name = _name(top["name"][1], problems) if "name" in top else None
     page = _paper(top["page"][1], problems) if "page" in top else None
     card = _card_size(top["card"][1], problems)
     margins = 10.0
@@ -466,8 +474,8 @@ def _card_layout(root: MappingNode, source: str, problems: Problems) -> CardLayo
     layout = CardLayout(name=name, source=source, page_size=page, card_mm=card, margins_mm=margins, gap_mm=gap,
                         front=front, back=back, balance=balance)
     if layout.per_sheet == 0:
-        w, h = card
-        raise SpecError(f"{source}: card: {w:g} × {h:g} mm does not fit on {page} paper with {margins:g} mm "
+        (w, h), line = card, top["card"][0].start_mark.line + 1
+        raise SpecError(f"{source}:{line}: card: {w:g} × {h:g} mm does not fit on {page} paper with {margins:g} mm "
                         "margins; make the card or the margins smaller")
     return layout
 
@@ -476,7 +484,7 @@ def _card_size(node: Node, problems: Problems) -> tuple[float, float]:
     """A named card size or {width, height}; a fallback size when it is wrong (the problem is noted)."""
     fallback = CARD_SIZES_MM["A6"]
     if isinstance(node, MappingNode):
-        sides = _mapping(node, "card", _CARD_SIZE_KEYS, problems)
+        sides = mapping(node, "card", _CARD_SIZE_KEYS, problems)
         got = []
         for key in _CARD_SIZE_KEYS:
             if key not in sides:
@@ -489,7 +497,7 @@ def _card_size(node: Node, problems: Problems) -> tuple[float, float]:
     if text is None:
         return fallback
     if text not in CARD_SIZES_MM:
-        problems.add(node, "card", f"'{text}' is not a card size{_suggest(text, CARD_SIZES_MM)}; known: "
+        problems.add(node, "card", f"{excerpt(text)} is not a card size{_suggest(text, CARD_SIZES_MM)}; known: "
                                    f"{', '.join(CARD_SIZES_MM)}, or {{width: 100 mm, height: 140 mm}}")
         return fallback
     return CARD_SIZES_MM[text]

@@ -21,13 +21,14 @@ from dataclasses import dataclass
 from typing import Any
 
 import yaml
-from yaml.constructor import ConstructorError, SafeConstructor
-from yaml.nodes import MappingNode, ScalarNode, SequenceNode
 
 from sheetgen.errors import SpecError
 from sheetgen.inputs.units import format_quantity, parse_quantity
 from sheetgen.inputs.wires import RUNS, check_wires
 from sheetgen.parts import installs as profiles
+from sheetgen.reader.files import read_text
+from sheetgen.reader.text import line_problem
+from sheetgen.reader.yamltree import Converter, compose, excerpt, suggest, unknown_key
 
 __all__ = [
     "Supply",
@@ -138,39 +139,25 @@ def default_supply_span(nominal_v: float, install: str = "vehicle", system: str 
 # Reading YAML into plain data with line numbers
 
 
-def load_spec(path: str | os.PathLike[str]) -> Spec:
-    """Read and check a spec file; every problem in it is raised in one ``SpecError``."""
+def load_spec(path: str | os.PathLike[str], *, topologies: tuple[str, ...] | None = None) -> Spec:
+    """Read and check a spec file; every problem in it is raised in one ``SpecError``.
+
+    ``topologies`` are the names ``topology:`` may take (besides auto), when the
+    caller knows the registry; a name outside it is then refused with its line.
+    """
     source = os.fspath(path)
-    try:
-        with open(source, "rb") as handle:
-            raw = handle.read()
-    except FileNotFoundError:
-        raise SpecError([f"{source}: no such file"]) from None
-    except IsADirectoryError:
-        raise SpecError([f"{source}: is a directory, not a spec file"]) from None
-    except OSError as exc:
-        raise SpecError([f"{source}: cannot be read ({exc.strerror or exc})"]) from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise SpecError([f"{source}: is not UTF-8 text (bad byte at offset {exc.start}); save it as UTF-8"]) from None
-    return parse_spec(text, source=source)
+    return parse_spec(read_text(source, what="spec"), source=source, topologies=topologies)
 
 
-def parse_spec(text: str, *, source: str) -> Spec:
+def parse_spec(text: str, *, source: str, topologies: tuple[str, ...] | None = None) -> Spec:
     """Check a spec given as YAML text; ``source`` names it in messages."""
-    problems = _Problems(source)
-    try:
-        root = yaml.compose(text, Loader=yaml.SafeLoader)
-    except yaml.MarkedYAMLError as exc:
-        raise SpecError([_yaml_error_line(exc, text, source)]) from None
-    except yaml.YAMLError as exc:
-        raise SpecError([f"{source}: not valid YAML: {exc}"]) from None
+    problems = _Problems(source, topologies=topologies)
+    root = compose(text, source=source)
     if root is None:
         data: Any = None
     else:
         problems.lines[()] = root.start_mark.line + 1
-        data = _Converter(problems).convert(root, ())
+        data = Converter(problems.add_at, problems.lines).convert(root, ())
     return _build(data, problems)
 
 
@@ -182,95 +169,17 @@ def spec_from_mapping(data: dict, *, source: str) -> Spec:
     return _build(data, _Problems(source))
 
 
-def spec_from_node(node: yaml.Node, *, source: str, key_prefix: str) -> Spec:
+def spec_from_node(node: yaml.Node, *, source: str, key_prefix: str,
+                   topologies: tuple[str, ...] | None = None) -> Spec:
     """Check a spec that sits inside another YAML file (an event's inline design).
 
     ``node`` is the composed mapping from that file, so problems keep its real
     line numbers; each key path is printed after ``key_prefix``
     (``builds[2].design``), so the message says which spec it is about.
     """
-    problems = _Problems(source, key_prefix=key_prefix)
+    problems = _Problems(source, key_prefix=key_prefix, topologies=topologies)
     problems.lines[()] = node.start_mark.line + 1
-    return _build(_Converter(problems).convert(node, ()), problems)
-
-
-def _yaml_error_line(exc: yaml.MarkedYAMLError, text: str, source: str) -> str:
-    """One line for a YAML syntax error: file, line, what the parser said, and a tab hint."""
-    mark = exc.problem_mark or exc.context_mark
-    what = exc.problem or exc.context or "cannot be read"
-    if exc.context and exc.problem and exc.context_mark is not None:
-        what = f"{what} ({exc.context} from line {exc.context_mark.line + 1})"
-    hint = ""
-    if mark is not None:
-        lines = text.splitlines()
-        line_text = lines[mark.line] if mark.line < len(lines) else ""
-        if line_text.strip():
-            # Quote the line: the parser knows no key names, the user knows the line.
-            shown = line_text.strip().replace("\t", "\\t")
-            hint = f'; at "{shown[:60]}"'
-        if "\t" in what or "\t" in line_text:
-            hint += "; YAML does not allow tabs here: indent and separate with spaces"
-    where = f"{source}:{mark.line + 1}" if mark is not None else source
-    return f"{where}: not valid YAML: {what}{hint}"
-
-
-class _Converter:
-    """Turns a composed node tree into dicts, lists and scalars, noting each key's line."""
-
-    #: Aliases are expanded, so a few lines of anchors can stand for millions of
-    #: nodes; a spec never needs more than this many.
-    MAX_NODES = 10_000
-
-    def __init__(self, problems: _Problems) -> None:
-        self._problems = problems
-        self._constructor = SafeConstructor()
-        self._open: set[int] = set()
-        self._left = self.MAX_NODES
-
-    def convert(self, node: yaml.Node, path: tuple[str, ...]) -> Any:
-        self._left -= 1
-        if self._left == -1:
-            self._problems.add(path, f"the file expands to more than {self.MAX_NODES} values; it is not a spec")
-        if self._left < 0:
-            return None
-        if id(node) in self._open:
-            self._problems.add(path, "refers to itself through a YAML alias; write the value out")
-            return None
-        if isinstance(node, ScalarNode):
-            try:
-                return self._constructor.construct_object(node, deep=True)
-            except ConstructorError as exc:
-                self._problems.add(path, f"cannot be read: {exc.problem}", line=node.start_mark.line + 1)
-                return None
-        self._open.add(id(node))
-        try:
-            if isinstance(node, SequenceNode):
-                return [self.convert(item, path + (str(i),)) for i, item in enumerate(node.value)]
-            if isinstance(node, MappingNode):
-                return self._mapping(node, path)
-            return None
-        finally:
-            self._open.discard(id(node))
-
-    def _mapping(self, node: MappingNode, path: tuple[str, ...]) -> dict[str, Any]:
-        out: dict[str, Any] = {}
-        for key_node, value_node in node.value:
-            line = key_node.start_mark.line + 1
-            if not isinstance(key_node, ScalarNode):
-                self._problems.add(path, "has a key that is not a plain name", line=line)
-                continue
-            key = key_node.value  # as written: "on" stays "on", not True
-            if key_node.tag == "tag:yaml.org,2002:merge":
-                self._problems.add(path, "uses a YAML merge key (<<); write the keys out instead", line=line)
-                continue
-            key_path = path + (key,)
-            if key in out:
-                first = self._problems.lines.get(key_path)
-                self._problems.add(key_path, f"is given twice (first on line {first}); keep one", line=line)
-                continue
-            self._problems.lines[key_path] = line
-            out[key] = self.convert(value_node, key_path)
-        return out
+    return _build(Converter(problems.add_at, problems.lines).convert(node, ()), problems)
 
 
 # ---------------------------------------------------------------------------
@@ -280,8 +189,9 @@ class _Converter:
 class _Problems:
     """Collects problems with their lines so they can be reported together, in file order."""
 
-    def __init__(self, source: str, *, key_prefix: str = "") -> None:
+    def __init__(self, source: str, *, key_prefix: str = "", topologies: tuple[str, ...] | None = None) -> None:
         self.source = source
+        self.topologies = topologies  # the registry's names, when the caller gave them
         self.key_prefix = key_prefix  # the spec's own place in a larger file, e.g. "builds[2].design"
         self.lines: dict[tuple[str, ...], int] = {}
         self._items: list[tuple[int, int, str]] = []
@@ -309,6 +219,10 @@ class _Problems:
         key = self.key(path)
         text = f"{where}: {key}: {message}" if key else f"{where}: {message}"
         self._items.append((order, len(self._items), text))
+
+    def add_at(self, path: tuple[str, ...], message: str, line: int | None) -> None:
+        """``add`` as the tree converter calls it."""
+        self.add(path, message, line=line)
 
     def add_keyed(self, path: tuple[str, ...], message: str) -> None:
         """Record a message that already starts with the key path (from units)."""
@@ -364,14 +278,10 @@ def _check_keys(
         if elsewhere and name in elsewhere:
             p.add(key_path, f"does not apply here; {elsewhere[name]}")
             continue
-        close = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
         if not isinstance(key, str):
-            hint = "YAML read this key as true/false (on/off/yes/no do that); rename it"
-        elif close:
-            hint = f"did you mean `{close[0]}`?"
+            p.add(key_path, "unknown key; YAML read this key as true/false (on/off/yes/no do that); rename it")
         else:
-            hint = f"known keys here: {', '.join(known)}"
-        p.add(key_path, f"unknown key; {hint}")
+            p.add(key_path, unknown_key(name, known))
 
 
 def _quantity(p: _Problems, value: Any, path: tuple[str, ...], unit: str, *,
@@ -426,7 +336,7 @@ def _text(p: _Problems, mapping: dict, path: tuple[str, ...]) -> str | None:
 def _voltage(p: _Problems, value: Any, path: tuple[str, ...], *, floor_v: float = COVERED_MIN_V) -> float | None:
     """A DC voltage inside the covered range (down to ``floor_v``); AC and mains are refused outright."""
     if isinstance(value, str) and _AC_RE.search(value):
-        p.add(path, f'"{value}" is an AC supply; {_OUT_OF_SCOPE}')
+        p.add(path, f'{excerpt(value)} is an AC supply; {_OUT_OF_SCOPE}')
         return None
     volts = _quantity(p, value, path, "V")
     if volts is None:
@@ -467,6 +377,7 @@ _KIND_HINTS = {"bulb": "lamp", "incandescent": "lamp", "filament": "lamp", "halo
 def _build(data: Any, p: _Problems) -> Spec:
     """Check plain data (from YAML or a caller) and return the Spec, or raise every problem."""
     if data is None:
+        p.lines.setdefault((), 1)
         p.add((), "the spec is empty; it needs at least supply:, load: and fade:")
         p.raise_if_any()
     if not isinstance(data, dict):
@@ -514,6 +425,9 @@ def _title(p: _Problems, data: dict) -> str:
         p.add(("title",), "is empty; leave the key out or write a title")
     elif "\n" in title or "\r" in title:
         p.add(("title",), "must be one line")
+    elif line_problem(title):
+        p.add(("title",), line_problem(title))
+        return DEFAULT_TITLE
     elif len(title) > TITLE_MAX_CHARS:
         p.add(("title",), f"is {len(title)} characters long; keep it to {TITLE_MAX_CHARS}")
     return title
@@ -610,7 +524,7 @@ def _trigger(p: _Problems, data: dict) -> str:
     hint = f"; did you mean `{suggestion}`?" if suggestion else ""
     p.add(
         path,
-        f'"{value}" is not a trigger; use positive (the feed rises to the supply when on) '
+        f'{excerpt(value)} is not a trigger; use positive (the feed rises to the supply when on) '
         f"or ground (it is pulled to 0 V when on){hint}",
     )
     return "positive"
@@ -638,7 +552,7 @@ def _load(p: _Problems, data: dict, supply: Supply | None) -> LedLoad | LampLoad
         return _lamp(p, raw, path, supply)
     suggestion = _KIND_HINTS.get(kind) or next(iter(difflib.get_close_matches(kind, ("led", "lamp"), n=1)), None)
     hint = f"; did you mean `{suggestion}`?" if suggestion else ""
-    p.add(path + ("kind",), f'"{kind}" is not a load kind; use led or lamp{hint}')
+    p.add(path + ("kind",), f'{excerpt(kind)} is not a load kind; use led or lamp{hint}')
     return None
 
 
@@ -708,7 +622,7 @@ def _colour_vf(p: _Problems, colour: str, path: tuple[str, ...], *, vf_given: bo
         entry = led_colour(colour)
     except (KeyError, LookupError, ValueError) as exc:
         detail = exc.args[0] if exc.args and isinstance(exc.args[0], str) else ""
-        p.add(path, f'"{colour}" is not an LED colour in the catalog' + (f" ({detail})" if detail else "")
+        p.add(path, f'{excerpt(colour)} is not an LED colour in the catalog' + (f" ({detail})" if detail else "")
               + "; give vf: instead")
         return colour, None
     return str(getattr(entry, "name", colour)), float(entry.vf_typ_v)
@@ -801,7 +715,7 @@ def _install(p: _Problems, data: dict) -> str:
     if value.lower() not in INSTALLS:
         close = difflib.get_close_matches(value.lower(), INSTALLS, n=1)
         hint = f"; did you mean `{close[0]}`?" if close else ""
-        p.add(("install",), f'"{value}" is not a place; use one of {", ".join(INSTALLS)}{hint}')
+        p.add(("install",), f'{excerpt(value)} is not a place; use one of {", ".join(INSTALLS)}{hint}')
         return "vehicle"
     return value.lower()
 
@@ -847,7 +761,13 @@ def _topology(p: _Problems, data: dict) -> str:
     name = _text(p, data, ("topology",))
     if name is None:
         return "auto"
-    if not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9_\-]*", name):
-        p.add(("topology",), f'"{name}" is not a topology name; write auto or a name made of letters, digits, - and _')
+    if not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9_\-]{0,40}", name):
+        p.add(("topology",), f"{excerpt(name)} is not a topology name; write auto or a name made of letters, "
+                             "digits, - and _")
+        return "auto"
+    if p.topologies is not None and name != "auto" and name.removesuffix("-ground") not in p.topologies:
+        close = suggest(name, p.topologies)
+        hint = f"; did you mean `{close}`?" if close else ""
+        p.add(("topology",), f'"{name}" is not one of: auto, {", ".join(p.topologies)}{hint}')
         return "auto"
     return name

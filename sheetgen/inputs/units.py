@@ -21,6 +21,7 @@ import re
 from decimal import Decimal
 
 from sheetgen.errors import SpecError
+from sheetgen.reader.yamltree import excerpt
 
 __all__ = [
     "BASE_UNITS",
@@ -110,8 +111,12 @@ _PLAIN_SPELLINGS: dict[str, tuple[str, float]] = {
     "C": ("degC", 1.0),
 }
 
-_NUMBER = r"[+-]?(?:\d{1,3}(?: \d{3})+(?:\.\d*)?|\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
-_QUANTITY_RE = re.compile(rf"^(?P<num>{_NUMBER})\s*(?P<suffix>.*)$")
+# Each alternative splits its digits one way only, and the rest of the text is taken whole, so a
+# match takes time linear in the text however it is written.
+_NUMBER = r"[+-]?(?:\d{1,3}(?: \d{3})+(?:\.\d*)?|\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
+_QUANTITY_RE = re.compile(rf"(?P<num>{_NUMBER})\s*(?P<suffix>.*)", re.DOTALL)
+#: The longest quantity read: "1 000 000.000 µF" and its like are far shorter.
+QUANTITY_MAX_CHARS = 40
 # IEC 60062 letter code: digits, one letter in place of the decimal point, digits.
 _RKM_OHM_RE = re.compile(r"^(?P<int>\d*)(?P<letter>[LRrKkMGg])(?P<frac>\d*)$")
 _RKM_FARAD_RE = re.compile(r"^(?P<int>\d*)(?P<letter>[pnumF])(?P<frac>\d*)$")
@@ -157,7 +162,7 @@ def _write_in(unit: str) -> str:
 
 
 def _quoted(raw: object) -> str:
-    return f'"{raw}"'
+    return excerpt(raw)
 
 
 def _parse(raw: object, unit: str, typical: float | None = None) -> float:
@@ -179,6 +184,9 @@ def _parse(raw: object, unit: str, typical: float | None = None) -> float:
         kind = {list: "a list", dict: "a mapping", tuple: "a list"}.get(type(raw), type(raw).__name__)
         raise ValueError(f"expected a {what} such as {_bare_hint('12', unit)}, got {kind}")
 
+    if len(raw) > QUANTITY_MAX_CHARS:
+        raise ValueError(f"{_quoted(raw)} is {len(raw):,} characters long; a {what} is a number and a unit, "
+                         f"such as {_bare_hint('12', unit)}")
     text = _normalise(raw)
     if not text:
         raise ValueError(f"is empty; write a {what} such as {_bare_hint('12', unit)}")
@@ -200,7 +208,7 @@ def _parse(raw: object, unit: str, typical: float | None = None) -> float:
         if value is not None:
             return value
 
-    match = _QUANTITY_RE.match(text)
+    match = _QUANTITY_RE.fullmatch(text)
     if match is None:
         raise ValueError(f"{_quoted(raw)} is not a {what}; write it like {_bare_hint('12', unit)}")
     number_text = match["num"]
@@ -233,8 +241,11 @@ def _parse(raw: object, unit: str, typical: float | None = None) -> float:
 
 
 def _scaled(number: Decimal, exponent: int, factor: float) -> float:
-    """number x 10^exponent x factor, rounded once to the nearest float."""
-    return float(number.scaleb(exponent)) * factor
+    """number x 10^exponent x factor, rounded once to the nearest float; ValueError past a float's range."""
+    value = float(number.scaleb(exponent)) * factor
+    if not math.isfinite(value):
+        raise ValueError(f"{number} is too large a number to be a setting")
+    return value
 
 
 def _split_suffix(suffix: str) -> tuple[str | None, float, str]:

@@ -11,9 +11,12 @@ default) or one job is asked for, the documents are rendered one after the other
 from __future__ import annotations
 
 import multiprocessing
+import os
+import signal
 from typing import Callable, Sequence
 
 from sheetgen.errors import SheetgenError
+from sheetgen.pack.batch import die_with_parent
 
 __all__ = ["render_all"]
 
@@ -22,7 +25,11 @@ def _can_fork() -> bool:
     return "fork" in multiprocessing.get_all_start_methods() and multiprocessing.get_start_method() == "fork"
 
 
-def _child(make: Callable[[], bytes], conn) -> None:
+def _child(make: Callable[[], bytes], conn, parent: int) -> None:
+    # Stopping is the parent's to handle: it terminates its children, which then simply end.
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    die_with_parent(parent)
     try:
         conn.send(("ok", make()))
     except BaseException as exc:  # handed back to the parent, which raises it as it was
@@ -40,7 +47,7 @@ def render_all(makers: Sequence[Callable[[], bytes]], *, jobs: int) -> list[byte
     try:
         for make in makers[1:jobs]:
             receive, send = ctx.Pipe(duplex=False)
-            child = ctx.Process(target=_child, args=(make, send), daemon=True)
+            child = ctx.Process(target=_child, args=(make, send, os.getpid()), daemon=True)
             child.start()
             send.close()
             children.append((child, receive))

@@ -79,9 +79,31 @@ def _size_and_analyse(spec: Spec) -> Report:
     return analyse(size(spec))
 
 
-def _worker_start() -> None:
-    """Ctrl-C is the parent's to handle: it stops the workers itself, so they never print a traceback."""
+def _worker_start(parent: int) -> None:
+    """Ctrl-C is the parent's to handle: it stops the workers itself, so they never print a traceback.
+
+    SIGTERM (how the parent stops them) ends a worker at once, and on Linux a
+    worker is killed with its parent, so none is left blocked on the pool's pipe.
+    """
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    die_with_parent(parent)
+
+
+def die_with_parent(parent: int) -> None:
+    """Ask the kernel to kill this process when its parent goes (Linux prctl PR_SET_PDEATHSIG).
+
+    A parent gone before the request was made is seen by its changed pid, and the process ends at once.
+    """
+    try:
+        import ctypes
+
+        libc = ctypes.CDLL(None, use_errno=True)
+        libc.prctl(1, int(signal.SIGKILL), 0, 0, 0)  # 1 = PR_SET_PDEATHSIG
+    except (OSError, AttributeError):  # not Linux: the pool's own checks remain
+        pass
+    if os.getppid() != parent:
+        os._exit(0)
 
 
 def _job(item: tuple[int, Spec, bool]) -> tuple[int, str, object]:
@@ -117,7 +139,8 @@ def analyse_all(specs: Sequence[Spec], *, jobs: int = 1, use_cache: bool = True,
             if on_done is not None:
                 on_done(k)
         return reports
-    pool = multiprocessing.get_context().Pool(processes=min(jobs, len(todo)), initializer=_worker_start)
+    pool = multiprocessing.get_context().Pool(processes=min(jobs, len(todo)), initializer=_worker_start,
+                                           initargs=(os.getpid(),))
     try:
         for k, status, value in pool.imap_unordered(_job, todo):
             if status == "error":

@@ -12,10 +12,10 @@ from dataclasses import dataclass
 from functools import lru_cache
 from importlib import resources
 
-import yaml
-
+from sheetgen.errors import SpecError
 from sheetgen.model.netlist import Part
 from sheetgen.parts.catalog import CatalogDataError
+from sheetgen.reader.yamltree import load_data
 
 
 @dataclass(frozen=True)
@@ -61,7 +61,10 @@ _KEYS = {"pitch_mm", "axial", "inline", "radial", "radial_bend_mm", "cases", "le
 @lru_cache(maxsize=1)
 def _data() -> _Data:
     text = resources.files("sheetgen.parts.catalog").joinpath("footprints.yaml").read_text(encoding="utf-8")
-    raw = yaml.safe_load(text)
+    try:
+        raw = load_data(text, source="footprints.yaml")
+    except SpecError as exc:
+        raise CatalogDataError("\n".join(exc.problems)) from None
     if not isinstance(raw, dict) or set(raw) != _KEYS:
         raise CatalogDataError(f"footprints.yaml: keys must be {sorted(_KEYS)}")
     cases = tuple(sorted((float(c["rated_v"]), tuple((float(a), float(b)) for a, b in c["sizes"]))

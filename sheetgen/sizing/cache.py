@@ -49,7 +49,7 @@ SUFFIX = ".entry"
 STALE_TEMP_S = 3600.0  # a temporary file this old was left by a process that died mid-write
 PACKAGE = Path(__file__).resolve().parents[1]
 #: what sizing and analysis read: a change to any file here changes every key
-LAYERS = ("__init__.py", "errors.py", "model", "parts", "inputs", "engine", "circuits", "board", "sizing")
+LAYERS = ("__init__.py", "errors.py", "reader", "model", "parts", "inputs", "engine", "circuits", "board", "sizing")
 FINGERPRINTED = (".py", ".yaml", ".ttf")
 
 _bypassed = False

@@ -301,7 +301,7 @@ def test_build_with_a_card_layout_writes_a_sheet_of_cards(camper_report, tmp_pat
 @pytest.mark.parametrize("args, needle", [
     (["--layout", "a6-card"], "a6-card is a card layout"),
     (["--cards", "a4-sheet"], "a4-sheet is a sheet layout"),
-    (["--cards", "a7-card"], "no shipped layout is named 'a7-card'"),
+    (["--cards", "a7-card"], "no shipped layout is named \"a7-card\""),
 ])
 def test_pack_refuses_the_wrong_kind_of_layout(tmp_path, capsys, args, needle):
     from pathlib import Path

@@ -271,7 +271,7 @@ def test_help_of_the_sheet_commands(command, capsys):
 @pytest.mark.parametrize("args, needle", [
     (["build", "/nonexistent/van.yaml"], "/nonexistent/van.yaml: no such file"),
     (["build", str(CAMPER), "-o", "/nonexistent/folder/van.pdf"], "does not exist"),
-    (["build", str(CAMPER), "--layout", "a5-sheet"], "no shipped layout is named 'a5-sheet'"),
+    (["build", str(CAMPER), "--layout", "a5-sheet"], "no shipped layout is named \"a5-sheet\""),
 ])
 def test_cli_bad_input_exits_2_with_one_clear_line(tmp_path, monkeypatch, capsys, args, needle):
     monkeypatch.chdir(tmp_path)

@@ -186,7 +186,7 @@ def test_a_name_given_twice_warns_naming_both_places(tmp_path, sized, capsys):
     text = ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    builders: [Ana, Bo]\n"
             "  - spec: model-railway-station.yaml\n    builders: [ana]\n")
     event = load_event(_event(tmp_path, text))
-    assert event.warnings == (f"{tmp_path / 'spring.yaml'}:6: builds[1].builders[0]: 'ana' is named already "
+    assert event.warnings == (f"{tmp_path / 'spring.yaml'}:6: builds[1].builders[0]: \"ana\" is named already "
                               "(builds[0].builders[0], line 4); two cards will carry the same name",)
     assert _pack(tmp_path, tmp_path / "spring.yaml") == 0  # a warning, not an error
     assert capsys.readouterr().err.strip() == f"warning: {event.warnings[0]}"
@@ -224,22 +224,22 @@ def test_inline_design_keeps_its_lines(tmp_path):
     ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n    colour: red\n",
      "spring.yaml:5: builds[0].colour: unknown key"),
     ("title: t\nvenu: hall\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n",
-     "spring.yaml:2: venu: unknown key (did you mean venue?)"),
+     "spring.yaml:2: venu: unknown key; did you mean `venue`?"),
     ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 0\n    builders: [Ana]\n",
      "spring.yaml:4: builds[0].count: must be at least 1"),
     ("title: t\nspares: ten\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n",
-     "spring.yaml:2: spares: 'ten' should be a percentage"),
+     "spring.yaml:2: spares: \"ten\" should be a percentage"),
     ("title: t\ndate: 20 March\nbuilds:\n  - spec: camper-van-step-light.yaml\n    count: 2\n",
-     "spring.yaml:2: date: '20 March' is not a date"),
+     "spring.yaml:2: date: \"20 March\" is not a date"),
     ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    builders: [Ana, \"\"]\n",
      "spring.yaml:4: builds[0].builders[1]: is empty"),
     ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    builders: [\"Ana\\tBo\"]\n",
      "builds[0].builders[0]: must be one line without control characters"),
     ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    builders: [山田]\n",
-     "spring.yaml:4: builds[0].builders[0]: '山田' has characters the card font cannot print"),
+     "spring.yaml:4: builds[0].builders[0]: \"山田\" has characters the card font cannot print"),
     # 田 is U+7530 and 中 U+4E2D: the characters are listed as written, not by code point.
     ("title: t\nbuilds:\n  - spec: camper-van-step-light.yaml\n    builders: [田中田]\n",
-     "'田中田' has characters the card font cannot print (田中)"),
+     "\"田中田\" has characters the card font cannot print (田中)"),
     ("title: t\nbuilds: []\n", "spring.yaml:2: builds: should be a list of builds"),
 ])
 def test_bad_events_exit_2_naming_the_build_and_leave_nothing(tmp_path, capsys, sized, text, needle):

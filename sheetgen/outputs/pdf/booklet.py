@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import hashlib
 import os
-from dataclasses import dataclass, replace
+from dataclasses import replace
 from pathlib import Path
 from typing import Sequence
 
@@ -21,6 +21,7 @@ from reportlab.platypus import Spacer, TableStyle
 
 from sheetgen.inputs.event import Build, Event
 from sheetgen.pack.kit import KitLine, WIRE_M_PER_RUN
+from sheetgen.pack.plan import PackDesign
 from sheetgen.sizing.report import Report
 
 from sheetgen.outputs.pdf.blocks import Block, SizedToWidth, markup_paragraph, plain_paragraph, ruled_table, styles, width_shares
@@ -29,19 +30,6 @@ from sheetgen.inputs.layout import CardLayout, Layout
 from sheetgen.outputs.pdf.sheet import Section, SheetInfo, design_digest, frame_box, render_sections, sheet_date, sheet_section
 
 __all__ = ["PackDesign", "render_booklet", "pack_digest"]
-
-
-@dataclass(frozen=True)
-class PackDesign:
-    """A distinct design of the event: its letter, its report and the builds that use it."""
-
-    letter: str
-    report: Report
-    builds: tuple[Build, ...]
-
-    @property
-    def kits(self) -> int:
-        return sum(len(b.builders) for b in self.builds)
 
 
 def pack_digest(event: Event, designs: Sequence[PackDesign]) -> str:
@@ -69,11 +57,17 @@ def _event_line(event: Event) -> str:
     return " \u00b7 ".join(x for x in (event.date.isoformat() if event.date else "", event.venue or "") if x)
 
 
-def _builders_text(build: Build) -> str:
+#: Names in one row of the builds table: a row never splits, so a long list takes several rows.
+NAMES_PER_ROW = 12
+
+
+def _builders_texts(build: Build) -> list[str]:
+    """The builders as the table's rows hold them: names a dozen to a row, or one line for unnamed ones."""
     if build.named:
-        return ", ".join(b.name for b in build.builders)
+        names = [b.name for b in build.builders]
+        return [", ".join(names[k:k + NAMES_PER_ROW]) for k in range(0, len(names), NAMES_PER_ROW)]
     n = len(build.builders)
-    return f"{n} unnamed (cards say Builder 1 of {n} \u2026 {n} of {n})" if n > 1 else "1 unnamed"
+    return [f"{n} unnamed (cards say Builder 1 of {n} \u2026 {n} of {n})" if n > 1 else "1 unnamed"]
 
 
 def _builds_block(event: Event, designs: Sequence[PackDesign]) -> Block:
@@ -84,12 +78,14 @@ def _builds_block(event: Event, designs: Sequence[PackDesign]) -> Block:
     rows = [[plain_paragraph(h, s.cell_bold) for h in head]]
     for b in event.builds:
         d = report_of[id(b)].design
+        first, *more = _builders_texts(b)
         rows.append([plain_paragraph(letter_of[id(b)], _cover_styles()["kit"]),
                      markup_paragraph(f"<b>{_esc(d.spec.title)}</b><br/>{_esc(d.topology.title)}", s.cell),
                      plain_paragraph(Path(b.spec_label).name if b.spec_label != "inline design" else b.spec_label,
                                      s.cell),
-                     plain_paragraph(_builders_text(b), s.cell),
+                     plain_paragraph(first, s.cell),
                      plain_paragraph(str(len(b.builders)), s.cell)])
+        rows += [["", "", "", plain_paragraph(text, s.cell), ""] for text in more]
 
     def build(aw):
         return ruled_table(rows, width_shares(aw, (0.4, 2.2, 1.75, 2.7, 0.45)))

@@ -61,18 +61,23 @@ class Section:
     story: tuple  # flowables, in order
 
 
+_LAST_EPOCH_S = 253_402_300_799  # 9999-12-31 23:59:59 UTC, the last moment a four-digit year holds
+
+
 def sheet_date(environ=None) -> _dt.date:
     """The date printed on the sheet: SOURCE_DATE_EPOCH (UTC) when set, else today."""
     env = os.environ if environ is None else environ
     raw = env.get("SOURCE_DATE_EPOCH", "").strip()
     if not raw:
         return _dt.date.today()
-    try:
-        seconds = int(raw)
-    except ValueError:
-        raise SpecError(f"SOURCE_DATE_EPOCH: '{raw}' is not a whole number of seconds since 1970-01-01") from None
+    shown = raw if len(raw) <= 24 else raw[:24] + "…"
+    if len(raw) > 24 or not raw.lstrip("+-").isdigit() or not raw.isascii():
+        raise SpecError(f"SOURCE_DATE_EPOCH: '{shown}' is not a whole number of seconds since 1970-01-01")
+    seconds = int(raw)
     if seconds < 0:
         raise SpecError(f"SOURCE_DATE_EPOCH: '{raw}' is before 1970-01-01")
+    if seconds > _LAST_EPOCH_S:
+        raise SpecError(f"SOURCE_DATE_EPOCH: '{raw}' is after 9999-12-31, the last date a sheet can print")
     return _dt.datetime.fromtimestamp(seconds, _dt.timezone.utc).date()
 
 

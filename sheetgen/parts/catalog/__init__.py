@@ -14,11 +14,10 @@ from functools import lru_cache
 from importlib import resources
 from typing import Any, Iterable
 
-import yaml
-
 from sheetgen.parts import eseries
 from sheetgen.model.netlist import Model, Part
-from sheetgen.errors import SheetgenError
+from sheetgen.errors import SheetgenError, SpecError
+from sheetgen.reader.yamltree import load_data, unknown_key
 
 __all__ = [
     "HfePoint",
@@ -416,11 +415,12 @@ def _held_curve(curve, ic_a: float) -> float:
 
 
 def _read(filename: str) -> Any:
+    """One catalog file through the reader every input file goes through: lines, no tags, no key twice."""
     text = resources.files(__name__).joinpath(filename).read_text(encoding="utf-8")
     try:
-        return yaml.safe_load(text)
-    except yaml.YAMLError as exc:
-        raise CatalogDataError(f"{filename}: {exc}") from exc
+        return load_data(text, source=filename)
+    except SpecError as exc:
+        raise CatalogDataError("\n".join(exc.problems)) from None
 
 
 class _Entry:
@@ -429,9 +429,13 @@ class _Entry:
     def __init__(self, data: Any, where: str, keys: Iterable[str]):
         if not isinstance(data, dict):
             raise CatalogDataError(f"{where}: expected a mapping")
-        unknown = set(data) - set(keys)
+        unknown = [k for k in data if k not in set(keys)]
         if unknown:
-            raise CatalogDataError(f"{where}: unknown keys {sorted(map(str, unknown))}")
+            file, _, key = where.partition(" ")
+            lines = getattr(data, "key_lines", {})
+            raise CatalogDataError("\n".join(
+                f"{file}:{lines.get(k, 0)}: {key + '.' if key else ''}{k}: {unknown_key(str(k), tuple(keys))}"
+                for k in unknown))
         self.data, self.where = data, where
 
     def has(self, key: str) -> bool:
