@@ -33,7 +33,10 @@ def led_model(load: LedLoad) -> Model:
     named = f"_{load.colour.upper().replace(' ', '_')}" if load.colour else ""
     whole, _, fraction = f"{load.vf_v:g}".partition(".")
     name = f"LED{named}_{whole}V{fraction}"  # 3.1 V white: LED_WHITE_3V1, as the RKM code writes it
-    return Model(name=name, kind="D", params=(("IS", float(f"{is_a:.6g}")), ("N", n), ("RS", rs)))
+    # EG (XTI = 0) keeps the colour's temperature coefficient of Vf in the card ngspice reads.
+    eg = float(f"{colour.eg_for(vj_v=v_junction):.6g}")
+    return Model(name=name, kind="D", params=(("IS", float(f"{is_a:.6g}")), ("N", n), ("RS", rs),
+                                              ("EG", eg), ("XTI", 0.0)))
 
 
 def lamp_model(load: LampLoad) -> Model:

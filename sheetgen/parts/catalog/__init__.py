@@ -16,7 +16,7 @@ from typing import Any, Iterable
 
 import yaml
 
-from sheetgen.parts import eseries
+from sheetgen.parts import eseries, led_fit
 from sheetgen.model.netlist import Model, Part
 from sheetgen.errors import SheetgenError
 
@@ -182,8 +182,18 @@ class LedColour:
     vf_typ_v: float         # typical forward voltage at at_a
     vf_max_v: float         # maximum forward voltage at at_a
     at_a: float             # test current
-    model: Model            # diode card giving vf_typ_v at at_a
+    vf_low_v: float         # typical forward voltage at 1 % of at_a
+    tc_v_per_c: float       # temperature coefficient of Vf at at_a, V/°C (negative)
+    model: Model            # diode card (IS, N, RS, EG, XTI) through both points, with the tempco
     sources: tuple[str, ...]
+
+    def is_drift(self, dt_c, *, n: float):
+        """Factor on a card's IS that moves its Vf by the colour's tempco over ``dt_c`` from 27 °C."""
+        return led_fit.is_drift(dt_c, n=n, tc_v_per_c=self.tc_v_per_c)
+
+    def eg_for(self, *, vj_v: float) -> float:
+        """EG of a card of this colour whose junction drops ``vj_v`` at its rated current."""
+        return led_fit.eg_for(vj_v=vj_v, tc_v_per_c=self.tc_v_per_c)
 
 
 @dataclass(frozen=True)
@@ -612,13 +622,22 @@ def _diode(data: Any, where: str) -> Diode:
 
 
 def _led(data: Any, where: str) -> LedColour:
-    e = _Entry(data, where, ("name", "vf_typ_v", "vf_max_v", "at_a", "model", "sources"))
-    model = _model(e.raw("model"), f"{where}.model")
-    if model.kind != "D":
-        raise CatalogDataError(f"{where}.model.kind must be D")
-    led = LedColour(name=_norm_name(e.text("name")), vf_typ_v=e.num("vf_typ_v"),
-                    vf_max_v=e.num("vf_max_v"), at_a=e.num("at_a"), model=model,
-                    sources=e.sources())
+    e = _Entry(data, where, ("name", "vf_typ_v", "vf_max_v", "at_a", "vf_low_v", "tc_v_per_c",
+                             "model", "sources"))
+    given = _model(e.raw("model"), f"{where}.model")
+    if given.kind != "D" or [k for k, _ in given.params] != ["RS"]:
+        raise CatalogDataError(f"{where}.model: kind D with params {{RS}} only; IS, N and EG are fitted")
+    vf, at, vf_low, tc = e.num("vf_typ_v"), e.num("at_a"), e.num("vf_low_v"), e.num("tc_v_per_c")
+    if not 0 < vf_low < vf or tc >= 0:
+        raise CatalogDataError(f"{where}: vf_low_v must lie between 0 and vf_typ_v, tc_v_per_c below 0")
+    rs = given["RS"]
+    is_a, n = led_fit.fit(vf_hi_v=vf, i_hi_a=at, vf_lo_v=vf_low, i_lo_a=at / 100, rs_ohm=rs)
+    eg = led_fit.eg_for(vj_v=vf - at * rs, tc_v_per_c=tc)
+    model = Model(name=given.name, kind="D", params=(
+        ("IS", float(f"{is_a:.6g}")), ("N", float(f"{n:.6g}")), ("RS", rs),
+        ("EG", float(f"{eg:.6g}")), ("XTI", 0.0)))
+    led = LedColour(name=_norm_name(e.text("name")), vf_typ_v=vf, vf_max_v=e.num("vf_max_v"), at_a=at,
+                    vf_low_v=vf_low, tc_v_per_c=tc, model=model, sources=e.sources())
     if led.vf_max_v < led.vf_typ_v:
         raise CatalogDataError(f"{where}: vf_max_v below vf_typ_v")
     return led
