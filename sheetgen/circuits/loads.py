@@ -43,15 +43,14 @@ def lamp_model(load: LampLoad) -> Model:
     """A filament card: hot resistance from the rating, cold from the resistance law.
 
     The radiation constant K makes the rated power balance at the hot
-    temperature; the heat capacity gives the catalog's thermal time constant
-    around the hot point, where the loop gain of radiation (4P/T) and of the
-    rising resistance (ALPHA P/T) add.
+    temperature; the heat capacity is the mass of a wire sized from the rating
+    times tungsten's specific heat, so a 21 W filament warms slower than a 5 W one.
     """
     f = catalog.filament()
     r_hot = load.rated_v**2 / load.power_w
     r0 = r_hot / (f.t_hot_k / f.t_room_k) ** f.alpha
     k = load.power_w / (f.t_hot_k**4 - f.t_room_k**4)
-    cth = f.tau_s * (4.0 + f.alpha) * load.power_w / f.t_hot_k
+    cth = f.heat_capacity_j_per_k(power_w=load.power_w, rated_v=load.rated_v)
     name = f"LAMP_{load.rated_v:g}V_{load.power_w:g}W".replace(".", "P")
     params = (("R0", float(f"{r0:.6g}")), ("TROOM", f.t_room_k), ("THOT", f.t_hot_k),
               ("ALPHA", f.alpha), ("K", float(f"{k:.6g}")), ("CTH", float(f"{cth:.6g}")))

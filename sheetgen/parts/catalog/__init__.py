@@ -49,6 +49,8 @@ __all__ = [
 #: Common practice, no source; not a datasheet figure.
 HFE_MAX_FACTOR = 3.0
 
+STEFAN_BOLTZMANN = 5.670374419e-8  # W/(m² K⁴), CODATA 2018
+
 
 class UnknownPart(LookupError, SheetgenError):
     """A part number or LED colour the catalog does not hold."""
@@ -200,16 +202,21 @@ class LedColour:
 class Filament:
     """Tungsten filament of a small low-voltage bulb, as a thermal state.
 
-    ``tau_s`` is the small-signal time constant at rated voltage:
-    C_th / (4 k t_hot³ + alpha P / t_hot), close to C_th t_hot / ((4 + alpha) P)
-    (see filament.yaml).
+    The wire is sized from the rating: a straight wire of diameter d and length L
+    at ``t_hot_k`` has resistance 4 rho L / (pi d²) = V² / P and radiates
+    emissivity · sigma · T⁴ · pi d L = P from its whole surface (coiling, which
+    shades part of it, is left out).  Its mass times the specific heat is the
+    heat capacity; ``tau_s`` follows per lamp (see filament.yaml).
     """
 
     t_room_k: float         # cold filament temperature
     t_hot_k: float          # filament temperature at rated voltage
     alpha: float            # R(T) = R_cold (T / t_room_k) ** alpha
     cold_fraction: float    # R_cold / R_hot
-    tau_s: float            # thermal time constant at the hot point
+    density_kg_m3: float    # tungsten
+    specific_heat_j_kg_k: float   # tungsten, mean over room to hot
+    resistivity_hot_ohm_m: float  # tungsten at t_hot_k
+    emissivity: float       # total emissivity of tungsten at t_hot_k
     sources: tuple[str, ...]
 
     def hot_resistance_ohm(self, *, power_w: float, rated_v: float) -> float:
@@ -220,11 +227,21 @@ class Filament:
         """Radiation constant k (W/K⁴) so that k (t_hot⁴ − t_room⁴) is the rated power."""
         return power_w / (self.t_hot_k ** 4 - self.t_room_k ** 4)
 
-    def heat_capacity_j_per_k(self, *, power_w: float) -> float:
-        """Filament heat capacity C_th = tau_s (4 k t_hot³ + alpha P / t_hot), J/K."""
-        k = self.radiation_k(power_w=power_w)
-        slope = 4.0 * k * self.t_hot_k ** 3 + self.alpha * power_w / self.t_hot_k
-        return self.tau_s * slope
+    def wire_m(self, *, power_w: float, rated_v: float) -> tuple[float, float]:
+        """(diameter, length) of the filament wire, metres, from the rating."""
+        flux = self.emissivity * STEFAN_BOLTZMANN * self.t_hot_k ** 4           # W/m² of surface
+        d = (4 * self.resistivity_hot_ohm_m * power_w ** 2 / (math.pi ** 2 * rated_v ** 2 * flux)) ** (1 / 3)
+        return d, power_w / (flux * math.pi * d)
+
+    def heat_capacity_j_per_k(self, *, power_w: float, rated_v: float) -> float:
+        """Filament heat capacity C_th = mass · specific heat, J/K."""
+        d, length = self.wire_m(power_w=power_w, rated_v=rated_v)
+        return self.density_kg_m3 * math.pi * d * d / 4 * length * self.specific_heat_j_kg_k
+
+    def tau_s(self, *, power_w: float, rated_v: float) -> float:
+        """Small-signal time constant at rated voltage: C_th / (4 k t_hot³ + alpha P / t_hot)."""
+        slope = 4.0 * self.radiation_k(power_w=power_w) * self.t_hot_k ** 3 + self.alpha * power_w / self.t_hot_k
+        return self.heat_capacity_j_per_k(power_w=power_w, rated_v=rated_v) / slope
 
     def lamp_model(self, *, power_w: float, rated_v: float, name: str = "LAMP") -> Model:
         """A LAMP model card (R0, TROOM, THOT, ALPHA, K, CTH) for a bulb of this rating."""
@@ -240,7 +257,7 @@ class Filament:
                 ("THOT", self.t_hot_k),
                 ("ALPHA", self.alpha),
                 ("K", self.radiation_k(power_w=power_w)),
-                ("CTH", self.heat_capacity_j_per_k(power_w=power_w)),
+                ("CTH", self.heat_capacity_j_per_k(power_w=power_w, rated_v=rated_v)),
             ),
         )
 
@@ -729,7 +746,8 @@ def led_colour(name: str) -> LedColour:
 def filament() -> Filament:
     """The tungsten filament used for every lamp load."""
     e = _Entry(_read("filament.yaml"), "filament.yaml",
-               ("t_room_k", "t_hot_k", "alpha", "cold_fraction", "tau_s", "sources"))
+               ("t_room_k", "t_hot_k", "alpha", "cold_fraction", "density_kg_m3", "specific_heat_j_kg_k",
+                "resistivity_hot_ohm_m", "emissivity", "sources"))
     t_room, t_hot, alpha = e.num("t_room_k"), e.num("t_hot_k"), e.num("alpha")
     if not 0 < t_room < t_hot:
         raise CatalogDataError("filament.yaml: need 0 < t_room_k < t_hot_k")
@@ -737,7 +755,9 @@ def filament() -> Filament:
     if cold is None:
         cold = (t_room / t_hot) ** alpha
     return Filament(t_room_k=t_room, t_hot_k=t_hot, alpha=alpha, cold_fraction=cold,
-                    tau_s=e.num("tau_s"), sources=e.sources())
+                    density_kg_m3=e.num("density_kg_m3"), specific_heat_j_kg_k=e.num("specific_heat_j_kg_k"),
+                    resistivity_hot_ohm_m=e.num("resistivity_hot_ohm_m"), emissivity=e.num("emissivity"),
+                    sources=e.sources())
 
 
 @lru_cache(maxsize=None)
