@@ -15,7 +15,7 @@ from sheetgen.board import layout as board_layout
 from sheetgen.parts import catalog
 from sheetgen.engine import devices
 from sheetgen.parts import eseries
-from sheetgen.sizing import instructions
+from sheetgen.sizing import inrush, instructions
 from sheetgen.engine import simulate
 from sheetgen.engine import thermal
 from sheetgen.sizing import tolerance
@@ -50,6 +50,7 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
     op_on = simulate.operating_point(nl, at_s=on_at, overrides=ov, n=2)
     load = tr.i_source("VSUPPLY")
     steady = op_on.i_source("VSUPPLY")
+    inrush.check_peak(design, load[1], supply_v=float(vmax))
 
     curves = Curves(t_s=tr.t_s, load_a=load[0], light=_light(design, tr)[0], timer_v=tr.v("timer")[0])
     heat = _heat(design, tr, op_on)

@@ -98,6 +98,7 @@ class Transistor:
     package: str                  # "TO-92", "TO-126", "TO-220"
     vmax_v: float                 # VCEO (or VDSS for a MOSFET)
     imax_a: float                 # IC (or ID) continuous
+    ipeak_a: float                # ICM (or IDM): the datasheet's peak (pulsed) rating
     pd_free_air_w: float          # at 25 °C ambient, no heatsink
     tj_max_c: float               # maximum junction temperature
     rth_ja_c_per_w: float         # junction to ambient, free air (max)
@@ -552,7 +553,7 @@ def _list(data: Any, key: str, where: str) -> list:
 
 
 _TRANSISTOR_KEYS = (
-    "part_number", "polarity", "darlington", "package", "vmax_v", "imax_a",
+    "part_number", "polarity", "darlington", "package", "vmax_v", "imax_a", "ipeak_a",
     "pd_free_air_w", "tj_max_c", "rth_ja_c_per_w", "rth_jc_c_per_w", "rth_cs_c_per_w",
     "hfe", "vce_sat", "vgs_th_v", "rds_on_ohm", "rds_on_vgs_v", "vgs_max_v", "model",
     "sources", "pinout",
@@ -600,6 +601,7 @@ def _transistor(data: Any, where: str) -> Transistor:
         package=e.text("package"),
         vmax_v=e.num("vmax_v"),
         imax_a=e.num("imax_a"),
+        ipeak_a=e.num("ipeak_a"),
         pd_free_air_w=e.num("pd_free_air_w"),
         tj_max_c=e.num("tj_max_c"),
         rth_ja_c_per_w=e.num("rth_ja_c_per_w"),
@@ -617,6 +619,8 @@ def _transistor(data: Any, where: str) -> Transistor:
     )
     if sorted(t.pinout) != sorted("DGS" if polarity == "nmos" else "BCE"):
         raise CatalogDataError(f"{where}.pinout: {t.pinout!r} must name each lead once")
+    if t.ipeak_a < t.imax_a:
+        raise CatalogDataError(f"{where}.ipeak_a: below the continuous imax_a")
     for p in t.hfe:
         if p.ic_a <= 0 or p.min <= 0:
             raise CatalogDataError(f"{where}: hFE points need positive current and minimum")
