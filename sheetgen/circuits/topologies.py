@@ -134,6 +134,9 @@ class Pen(Protocol):
     def test_point(self, label: str, net: str, toward: Direction) -> None:
         """A test point on a short stub from the cursor, which must be on ``net``."""
 
+    def net_label(self, text: str, toward: Direction) -> None:
+        """A flag saying where the cursor's net joins the rest of the drawing (an on-board link, not a terminal)."""
+
 
 @dataclass(frozen=True)
 class Stage:
@@ -457,16 +460,83 @@ def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
     pen.wire("up", 0.5)
     pen.test_point(tp[out], out, "right")
     pen.wire("up", 0.5)
-    pen.load(series_branches(netlist, top="supply", bottom=out), top="supply")
-    pen.test_point(tp["supply"], "supply", "up")
+    rail = _rail(netlist)
+    pen.load(series_branches(netlist, top=rail, bottom=out), top=rail)
+    pen.test_point(tp[rail], rail, "up")
     pen.mark("rail")
-    pen.wire("left", until=row)
+    if rail != "supply":
+        pen.go(row)
+        pen.move("right", GUARD_SPAN, net=rail)
+        pen.mark("guard")  # only its x counts: where the guard ends on the rail
+        pen.go("rail")
+        pen.wire("left", until="guard")
+        _draw_supply_guard(pen, netlist, row=row)
+    else:
+        pen.wire("left", until=row)
     pen.terminal(f"+{supply_v:g} V always-on\n(via fuse)", "left")
     pen.go(row)
     pen.move("down", 1.5, net=GROUND)
     pen.terminal("ground", "left")
     pen.wire("right", 0.5)
     pen.ground()
+    if netlist.by_role("cutoff"):
+        pen.pin(q1, common_pin)
+        _draw_cutoff(pen, netlist)
+
+
+def _rail(netlist: Netlist) -> str:
+    """The net the load and the input stage hang from: the protected rail where a supply guard is fitted."""
+    guard = netlist.by_role("reverse_polarity")
+    return guard[0].net("K") if guard else "supply"
+
+
+#: Rail length, from the always-on terminal, that the guard takes: short of the first part a
+#: ground-switched input hangs from the rail (R5, 2 pitches along).
+GUARD_SPAN = 1.75
+
+
+def _draw_supply_guard(pen: Pen, netlist: Netlist, *, row: str) -> None:
+    """On the rail by the always-on terminal: the TVS down to ground, then the series Schottky and TP5."""
+    tp = {net: label for label, net in netlist.probes}
+    guard = _one(netlist, "reverse_polarity")
+    for tvs in netlist.by_role("surge"):
+        pen.junction()
+        pen.mark("tvs")
+        pen.diode(tvs, "down")
+        pen.ground()
+        pen.go("tvs")
+    pen.diode(guard, "left")
+    pen.wire("left", 0.25)
+    pen.test_point(tp["supply"], "supply", "down")
+    pen.wire("left", until=row)
+
+
+def _draw_cutoff(pen: Pen, netlist: Netlist) -> None:
+    """The over-voltage cut-off beside Q1 (the cursor on Q1's grounded pin), joined by flags to the rail and Q1's drive.
+
+    Beside Q1, where no label sits; a card without room for it draws the
+    circuit without the cut-off and names it in its parts list.
+    """
+    tp = {net: label for label, net in netlist.probes}
+    q = _one(netlist, "cutoff")
+    upper, lower = _one(netlist, "cutoff_series"), _one(netlist, "cutoff_bias")
+    rail, drive = upper.net("1"), q.net("C")
+    pen.move("right", 2.0, net=rail)
+    pen.move("down", 0.5, net=rail)
+    pen.net_label(f"rail ({tp[rail].split()[0]})", "left")
+    pen.resistor(upper, "right")
+    pen.junction()
+    pen.mark("cut_b")
+    pen.resistor(lower, "down")
+    pen.ground()
+    pen.go("cut_b")
+    pen.wire("right", 1.0)
+    pen.npn(q)
+    pen.pin(q, "E")
+    pen.ground()
+    pen.pin(q, "C")
+    pen.wire("up", 0.5)
+    pen.net_label(f"{drive} ({tp[drive].split()[0]})", "right")
 
 
 _POSITIVE_WIRING = (("supply", "always-on positive feed"),

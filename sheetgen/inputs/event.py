@@ -6,6 +6,7 @@ The file (YAML; unknown keys are an error, as in a spec)::
     date: 2027-03-20                   # optional, an ISO date
     venue: Community workshop, room 2  # optional, one line
     spares: 10 %                       # optional (default 0 %): extra parts per kit-list line, rounded up
+    wires: {always_on: red, ground: black}  # optional: wire colours for every build whose spec names none
     board: perfboard                   # optional: the board every build uses tonight, over its spec's board:
     builds:                            # required, one entry per group building one design
       - spec: cabinet.yaml             # a spec file, relative to this file; or
@@ -37,6 +38,7 @@ from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
 
 from sheetgen.errors import SpecError
 from sheetgen.inputs.spec import BOARDS, Spec, load_spec, spec_from_node
+from sheetgen.inputs.wires import RUNS, check_wires
 from sheetgen.inputs.yamltree import Problems, compose
 
 __all__ = ["Builder", "Build", "Event", "load_event", "parse_event", "NAME_MAX_CHARS", "COUNT_MAX"]
@@ -45,7 +47,7 @@ NAME_MAX_CHARS = 60  # two lines on the narrowest card at a readable size
 TEXT_MAX_CHARS = 120
 COUNT_MAX = 500  # builders in one build: a big club night, not a production run
 BUILDERS_MAX = 2000  # over the whole event
-_TOP_KEYS = ("title", "date", "venue", "spares", "board", "builds")
+_TOP_KEYS = ("title", "date", "venue", "spares", "wires", "board", "builds")
 _BUILD_KEYS = ("spec", "design", "builders", "count")
 _PERCENT_RE = re.compile(r"^\s*(?P<num>\d+(?:\.\d+)?)\s*%\s*$")
 
@@ -140,6 +142,9 @@ def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".")
     date = _date(top["date"][1], problems) if "date" in top else None
     spares, spares_text = (_spares(top["spares"][1], problems) if "spares" in top else (Fraction(0), "0 %"))
     builds = _builds(top["builds"][1], source, Path(folder), problems) if "builds" in top else ()
+    if "wires" in top:
+        colours = _wires(top["wires"][1], problems)
+        builds = tuple(b if b.spec.wires else replace(b, spec=replace(b.spec, wires=colours)) for b in builds)
     if "board" in top:
         board = _board(top["board"][1], problems)
         if board:
@@ -234,6 +239,20 @@ def _date(node: Node, problems: Problems) -> _dt.date | None:
     except ValueError:
         problems.add(node, "date", f"'{text}' is not a date; write it as year-month-day, e.g. 2027-03-20")
         return None
+
+
+def _wires(node: Node, problems: Problems) -> tuple[tuple[str, str], ...]:
+    """The event's wire colours, each problem on the line of its run."""
+    if not isinstance(node, MappingNode):
+        problems.add(node, "wires", "must be a mapping of runs to colours, e.g. wires: {always_on: red}")
+        return ()
+    lines = {k.value: k for k, _ in node.value if isinstance(k, ScalarNode)}
+    data = {k.value: (v.value if isinstance(v, ScalarNode) else None) for k, v in node.value
+            if isinstance(k, ScalarNode)}
+    chosen, found = check_wires(data)
+    for run, message in found:
+        problems.add(lines.get(run, node) if run else node, f"wires.{run}" if run else "wires", message)
+    return tuple((run, chosen[run]) for run in RUNS if run in chosen)
 
 
 def _board(node: Node, problems: Problems) -> str | None:

@@ -26,6 +26,8 @@ from yaml.nodes import MappingNode, ScalarNode, SequenceNode
 
 from sheetgen.errors import SpecError
 from sheetgen.inputs.units import format_quantity, parse_quantity
+from sheetgen.inputs.wires import RUNS, check_wires
+from sheetgen.parts import installs as profiles
 
 __all__ = [
     "Supply",
@@ -46,6 +48,9 @@ __all__ = [
 #: with their charging swing.  Everything above is refused, not sized.
 COVERED_MIN_V = 5.0
 COVERED_MAX_V = 32.0
+#: A supply's ``min:`` may sit below the covered range: a 5 V USB port is allowed to sag to
+#: 4.40 V (USB 2.0, 7.2.1, low-power port; from memory), so the floor for ``min:`` is lower.
+SUPPLY_MIN_FLOOR_V = 4.0
 #: Volts an LED string must leave free at the lowest supply for the
 #: transistor's saturation voltage and the string's series resistor.
 HEADROOM_V = 1.0
@@ -102,23 +107,31 @@ class Spec:
     load: LedLoad | LampLoad
     fade_in_s: float  # trigger applied -> load current at 90 % of steady
     fade_out_s: float  # trigger removed -> load current at 10 % of steady
-    ambient_c: float = 25.0  # worst-case air temperature around the box
+    ambient_c: float = 25.0  # worst-case air temperature around the box (default: the install's)
     topology: str = "auto"  # "auto" or the name of a topology to force
-    install: str = "vehicle"  # where it goes: vehicle | boat | building | bench (chooses the cautions)
+    install: str = "vehicle"  # where it goes: vehicle | boat | building | bench (profile in parts/catalog/installs.yaml)
     board: str = "stripboard"  # what the builder solders on: stripboard (copper strips) | perfboard (a pad per hole)
     source: str = ""  # file path or "<built-in>", for messages
+    system: str = "battery-12"  # the supply system its span was taken from (installs.yaml)
+    wires: tuple[tuple[str, str], ...] = ()  # (run, colour) the user chose: always_on, switched, ground
+    protection: bool | None = None  # supply-abuse protection: None = where the supply system needs it
+
+    def wire_colour(self, run: str) -> str | None:
+        """The colour chosen for an off-board run, or None (the sheet then names the run only)."""
+        return dict(self.wires).get(run)
 
 
-def default_supply_span(nominal_v: float) -> tuple[float, float]:
+def default_supply_span(nominal_v: float, install: str = "vehicle", system: str | None = None) -> tuple[float, float]:
     """The (min, max) a system of this nominal voltage swings over when the user gives no span.
 
-    A 12 V system spans 11.0–14.6 V: inside ISO 16750-2's 10.5–16 V and
-    8–16 V operating codes, from a low battery with the engine off to a
-    charging alternator.  Other systems scale proportionally
-    (min = 11/12 = 0.9167 × nominal, max = 14.6/12 = 1.2167 × nominal), which
-    gives 22.0–29.2 V for 24 V.
+    The span comes from the install's supply systems (``installs.yaml``): in a
+    vehicle a 12 V system spans 11.0–14.6 V, inside ISO 16750-2's 10.5–16 V and
+    8–16 V operating codes; a 24 V one 22.0–29.2 V; a 5 V USB port on a bench
+    4.75–5.25 V.  A nominal voltage no system of the install has takes the
+    first system scaled proportionally (18 V in a vehicle: 16.5–21.9 V).
     """
-    return round(nominal_v * 11.0 / 12.0, 6), round(nominal_v * 14.6 / 12.0, 6)
+    s = profiles.supply_for(profiles.install(install), nominal_v, named=system)
+    return s.min_v, s.max_v
 
 
 # ---------------------------------------------------------------------------
@@ -410,8 +423,8 @@ def _text(p: _Problems, mapping: dict, path: tuple[str, ...]) -> str | None:
     return value.strip()
 
 
-def _voltage(p: _Problems, value: Any, path: tuple[str, ...]) -> float | None:
-    """A DC voltage inside the covered range; AC and mains are refused outright."""
+def _voltage(p: _Problems, value: Any, path: tuple[str, ...], *, floor_v: float = COVERED_MIN_V) -> float | None:
+    """A DC voltage inside the covered range (down to ``floor_v``); AC and mains are refused outright."""
     if isinstance(value, str) and _AC_RE.search(value):
         p.add(path, f'"{value}" is an AC supply; {_OUT_OF_SCOPE}')
         return None
@@ -421,16 +434,18 @@ def _voltage(p: _Problems, value: Any, path: tuple[str, ...]) -> float | None:
     if volts > COVERED_MAX_V:
         p.add(path, f"{format_quantity(volts, 'V')} is above the 32 V this tool covers; {_OUT_OF_SCOPE}")
         return None
-    if volts < COVERED_MIN_V:
-        p.add(path, f"{format_quantity(volts, 'V')} is below the 5 V this tool covers (low-voltage DC, 5–32 V)")
+    if volts < floor_v:
+        p.add(path, f"{format_quantity(volts, 'V')} is below the {format_quantity(floor_v, 'V')} this tool covers "
+                    "(low-voltage DC, 5–32 V systems)")
         return None
     return volts
 
 
-_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install", "board")
-INSTALLS = ("vehicle", "boat", "building", "bench")
+_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install", "board", "wires",
+             "protection")
+INSTALLS = tuple(i.name for i in profiles.installs())
 BOARDS = ("stripboard", "perfboard")
-_SUPPLY_KEYS = ("nominal", "min", "max")
+_SUPPLY_KEYS = ("nominal", "min", "max", "system")
 _LED_KEYS = ("kind", "current", "vf", "colour", "color", "per_string", "strings")
 _LAMP_KEYS = ("kind", "power", "current", "rated", "count")
 _FADE_KEYS = ("in", "out")
@@ -460,13 +475,15 @@ def _build(data: Any, p: _Problems) -> Spec:
 
     _check_keys(p, data, (), _TOP_KEYS)
     title = _title(p, data)
-    supply = _supply(p, data)
+    install = _install(p, data)
+    supply, system = _supply(p, data, install)
     trigger = _trigger(p, data)
     load = _load(p, data, supply)
     fade_in_s, fade_out_s = _fade(p, data)
-    ambient_c = _ambient(p, data)
+    ambient_c = _ambient(p, data, install)
     topology = _topology(p, data)
-    install = _install(p, data)
+    wires = _wires(p, data)
+    protection = _protection(p, data)
     board = board_kind(p, data.get("board"), ("board",)) if "board" in data else "stripboard"
     p.raise_if_any()
     return Spec(
@@ -481,6 +498,9 @@ def _build(data: Any, p: _Problems) -> Spec:
         install=install,
         board=board,
         source=p.source,
+        system=system,
+        wires=wires,
+        protection=protection,
     )
 
 
@@ -499,36 +519,61 @@ def _title(p: _Problems, data: dict) -> str:
     return title
 
 
-def _supply(p: _Problems, data: dict) -> Supply | None:
+def _supply(p: _Problems, data: dict, install: str) -> tuple[Supply | None, str]:
+    """The supply and the name of the system its default span comes from (the install's, or ``system:``)."""
     path = ("supply",)
+    place = profiles.install(install)
     if "supply" not in data:
         p.add(path, "missing; write the system voltage, e.g. supply: 12 V")
-        return None
+        return None, place.supplies[0]
     raw = data["supply"]
+    named = None
     if isinstance(raw, dict):
         _check_keys(p, raw, path, _SUPPLY_KEYS)
+        named = _system(p, raw)
         if "nominal" not in raw:
             p.add(path, "missing `nominal:`; e.g. supply: {nominal: 12 V, min: 11 V, max: 14.6 V}")
-            return None
+            return None, place.supplies[0]
         nominal = _voltage(p, raw["nominal"], path + ("nominal",))
-        low = _voltage(p, raw["min"], path + ("min",)) if "min" in raw else None
+        low = _voltage(p, raw["min"], path + ("min",), floor_v=SUPPLY_MIN_FLOOR_V) if "min" in raw else None
         high = _voltage(p, raw["max"], path + ("max",)) if "max" in raw else None
         if nominal is None or ("min" in raw and low is None) or ("max" in raw and high is None):
-            return None
-        default_low, default_high = default_supply_span(nominal)
+            return None, place.supplies[0]
         given_low, given_high = "min" in raw, "max" in raw
-        low = low if given_low else default_low
-        high = high if given_high else default_high
     else:
         nominal = _voltage(p, raw, path)
         if nominal is None:
-            return None
-        low, high = default_supply_span(nominal)
+            return None, place.supplies[0]
         given_low = given_high = False
+    chosen = profiles.supply_for(place, nominal, named=named)
+    low = low if given_low else chosen.min_v
+    high = high if given_high else chosen.max_v
+    return _supply_span(p, path, nominal, low, high, given_low, given_high), chosen.name
+
+
+def _system(p: _Problems, raw: dict) -> str | None:
+    """A ``system:`` name inside the supply mapping, checked against installs.yaml."""
+    if "system" not in raw:
+        return None
+    name = _text(p, raw, ("supply", "system"))
+    if name is None:
+        return None
+    known = tuple(s.name for s in profiles.systems())
+    if name.lower() not in known:
+        close = difflib.get_close_matches(name.lower(), known, n=1)
+        hint = f"; did you mean `{close[0]}`?" if close else ""
+        p.add(("supply", "system"), f'"{name}" is not a supply system; use one of {", ".join(known)}{hint}')
+        return None
+    return name.lower()
+
+
+def _supply_span(p: _Problems, path: tuple[str, ...], nominal: float, low: float, high: float,
+                 given_low: bool, given_high: bool) -> Supply | None:
 
     failed = False
     for given, value, name in ((given_low, low, "min"), (given_high, high, "max")):
-        if given or COVERED_MIN_V <= value <= COVERED_MAX_V:
+        floor = SUPPLY_MIN_FLOOR_V if name == "min" else COVERED_MIN_V
+        if given or floor <= value <= COVERED_MAX_V:
             continue
         shown_nominal = format_quantity(nominal, "V")
         clamp_low = format_quantity(max(low, COVERED_MIN_V), "V")
@@ -737,12 +782,14 @@ def _fade(p: _Problems, data: dict) -> tuple[float | None, float | None]:
     return times[0], times[1]
 
 
-def _ambient(p: _Problems, data: dict) -> float:
+def _ambient(p: _Problems, data: dict, install: str) -> float:
+    """The spec's ambient, or the install's default (installs.yaml: a vehicle cabin is hotter than a bench)."""
+    default = profiles.install(install).ambient_c
     if "ambient" not in data:
-        return 25.0
+        return default
     value = _quantity(p, data["ambient"], ("ambient",), "degC")
     value = _in_range(p, value, ("ambient",), "degC", -40.0, 85.0, " (the range the part ratings are taken over)")
-    return 25.0 if value is None else value
+    return default if value is None else value
 
 
 def _install(p: _Problems, data: dict) -> str:
@@ -757,6 +804,26 @@ def _install(p: _Problems, data: dict) -> str:
         p.add(("install",), f'"{value}" is not a place; use one of {", ".join(INSTALLS)}{hint}')
         return "vehicle"
     return value.lower()
+
+
+def _wires(p: _Problems, data: dict) -> tuple[tuple[str, str], ...]:
+    if "wires" not in data:
+        return ()
+    chosen, problems = check_wires(data["wires"])
+    for run, message in problems:
+        p.add(("wires",) if run is None else ("wires", run), message)
+    return tuple((run, chosen[run]) for run in RUNS if run in chosen)
+
+
+def _protection(p: _Problems, data: dict) -> bool | None:
+    """``protection: auto`` (the default), or true / false (YAML also reads on/off and yes/no so)."""
+    value = data.get("protection", "auto")
+    if isinstance(value, bool):
+        return value
+    if isinstance(value, str) and value.strip().lower() == "auto":
+        return None
+    p.add(("protection",), f"must be auto, true or false, got {_describe(value)}")
+    return None
 
 
 def board_kind(p: _Problems, value: Any, path: tuple[str, ...]) -> str:

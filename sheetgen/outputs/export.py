@@ -4,6 +4,9 @@ from __future__ import annotations
 
 import json
 
+from sheetgen.inputs.wires import RUN_NAMES
+from sheetgen.parts import installs
+from sheetgen.sizing import runs
 from sheetgen.sizing.report import Report
 from sheetgen.engine.measure import DEFINITIONS
 from sheetgen.outputs.spice import spice_deck
@@ -27,6 +30,43 @@ def part_entry(part) -> dict:
     return entry
 
 
+def hardware_entry(item, *, on: str) -> dict:
+    """A heatsink or insulating kit as a part: no pins, its thermal resistance as its rating."""
+    return {"ref": item.ref, "kind": item.kind, "role": item.kind, "value": None,
+            "part_number": item.part_number or None, "description": item.description, "pins": {},
+            "rating_c_per_w": item.rating_c_per_w, "package": item.package, "fits": on,
+            "sources": list(item.sources)}
+
+
+def mounting_entry(m) -> dict | None:
+    """The heatsink chain as applied: T_j = T_a + P (R_θJC + R_θCS + R_θSA)."""
+    if m is None:
+        return None
+    return {"transistor": m.transistor, "power_w": m.power_w, "ambient_c": m.ambient_c,
+            "rth_jc_c_per_w": m.rth_jc_c_per_w,
+            "rth_cs_c_per_w": m.rth_cs_c_per_w, "chain_c_per_w": m.chain_c_per_w,
+            "rth_sa_c_per_w": m.heatsink.rating_c_per_w, "needed_sa_c_per_w": m.needed_c_per_w,
+            "junction_c": m.junction_c, "heatsink_c": m.sink_c,
+            "free_air_junction_c": m.free_air_c if m.free_air_c <= m.tj_max_c else None,
+            "tj_max_c": m.tj_max_c}
+
+
+def abuse_entry(case) -> dict:
+    """One simulated supply fault: what is drawn and lit, and every part's worst stress against its limit."""
+    return {"name": case.name, "title": case.title, "supply_v": case.supply_v, "duration_s": case.duration_s,
+            "supply_a": case.supply_a, "feed_a": case.feed_a, "load_fraction": case.load_fraction,
+            "led_max_a": case.led_max_a, "guard": case.guard, "ok": case.ok,
+            "stresses": [{"ref": st.ref, "quantity": st.quantity, "value": st.value, "limit": st.limit,
+                          "unit": st.unit, "ok": st.ok} for st in case.stresses]}
+
+
+def install_entry(spec) -> dict:
+    """Where the design goes, as applied: its profile's name, the ambient sized for and the wire minimum."""
+    place = installs.install(spec.install)
+    return {"name": place.name, "title": place.title, "ambient_c": spec.ambient_c,
+            "wire_min_mm2": place.wire_min_mm2, "supply_system": spec.system}
+
+
 def report_dict(report: Report) -> dict:
     """The JSON report: the contract's keys first, then the rest of what was computed."""
     d = report.design
@@ -34,7 +74,9 @@ def report_dict(report: Report) -> dict:
     out = {
         "title": spec.title,
         "topology": d.topology.name,
-        "parts": [part_entry(p) for p in d.netlist.parts],
+        "parts": [part_entry(p) for p in d.netlist.parts]
+                 + [hardware_entry(h, on=report.mounting.transistor) for h in
+                    (report.mounting.hardware if report.mounting else ())],
         "load_current_a": d.load_current_a,
         "fade_in_s": d.fade_in_s,
         "fade_out_s": d.fade_out_s,
@@ -43,6 +85,7 @@ def report_dict(report: Report) -> dict:
         "definitions": dict(DEFINITIONS),
         "supply": {"nominal_v": spec.supply.nominal_v, "min_v": spec.supply.min_v, "max_v": spec.supply.max_v},
         "ambient_c": spec.ambient_c,
+        "install": install_entry(spec),
         "overdrive_at_min_supply": d.overdrive,
         "reasons": list(d.reasons),
         "steady_load_a": report.steady_a,
@@ -55,9 +98,13 @@ def report_dict(report: Report) -> dict:
             "fade_energy_j": report.heat.fade_energy_j,
             "junction_limit_c": report.heat.junction_limit_c,
             "fade_peak_junction_c": report.heat.fade_peak_junction_c,
+            "mounting": mounting_entry(report.mounting),
             "resistors": [{"ref": r.ref, "power_w": r.power_w, "rating_w": r.rating_w} for r in report.heat.resistors],
         },
+        "wires": [{"run": runs.run_of(net), "name": RUN_NAMES[runs.run_of(net)], "colour": runs.colour(spec, net)}
+                  for net, _ in d.topology.wiring],
         "harness": {"fuse_a": report.harness.fuse_a, "wire_mm2": report.harness.wire_mm2,
+                    "wire_min_mm2": report.harness.wire_min_mm2,
                     "wire_awg": report.harness.wire_awg, "max_current_a": report.harness.max_current_a},
         "bench": [{"point": b.label, "net": b.net, "on_v": list(b.on_v), "off_v": list(b.off_v)}
                   for b in report.bench],
@@ -70,6 +117,7 @@ def report_dict(report: Report) -> dict:
         "tuning": [{"ref": r.ref, "value": r.value, "direction": r.direction, "fade_in_s": r.fade_in_s,
                     "fade_out_s": r.fade_out_s} for r in report.tuning],
         "standby_a": report.standby_a,
+        "abuse": [abuse_entry(c) for c in report.abuse],
         "wiring": list(report.wiring),
         "cautions": list(report.cautions),
         "board": report.board.as_dict() if report.board is not None else None,

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from sheetgen.sizing import mounting
 from sheetgen.sizing.report import Report
 from sheetgen.engine.measure import DEFINITIONS
 from sheetgen.inputs.units import format_quantity
@@ -62,8 +63,7 @@ def summary_text(report: Report) -> str:
         f"{sp.fade_in_s[2]:.2f} s, fade-out {sp.fade_out_s[0]:.2f}–{sp.fade_out_s[2]:.2f} s (5–95 %); "
         f"{sp.full_brightness_yield:.1%} reach full brightness",
         f"  Q1 heat at {h.supply_v:g} V, {h.ambient_c:g} °C: peak {h.peak_power_w:.2f} W while fading, "
-        f"{h.steady_power_w:.2f} W fully on; junction up to {h.peak_junction_c:.0f} °C if the feed hovers "
-        + ("(no heatsink needed)" if h.heatsink_c_per_w is None else f"(heatsink {h.heatsink_c_per_w:.1f} °C/W or better)"),
+        f"{h.steady_power_w:.2f} W fully on; " + _hover_words(report),
         f"  fuse {report.harness.fuse_a:g} A, wire {report.harness.wire_mm2:g} mm² ({report.harness.wire_awg} AWG); "
         f"standby drain {standby_text(report.standby_a)}",
         "",
@@ -73,3 +73,16 @@ def summary_text(report: Report) -> str:
     lines.append("")
     lines += [f"  {r}" for r in d.reasons]
     return "\n".join(lines)
+
+
+def _hover_words(report: Report) -> str:
+    """The hovering-feed junction as the sheet says it: on the heatsink chosen, never a figure past the rating."""
+    h, m = report.heat, report.mounting
+    if m is None:
+        sink = ("no heatsink needed" if h.heatsink_c_per_w is None
+                else f"heatsink {h.heatsink_c_per_w:.1f} °C/W or better")
+        return f"junction up to {h.peak_junction_c:.0f} °C if the feed hovers ({sink})"
+    name = f"{m.heatsink.ref} {m.heatsink.part_number}".strip()
+    return (f"junction up to {m.junction_c:.0f} °C if the feed hovers, on heatsink {name} "
+            f"({m.heatsink.rating_c_per_w:g} °C/W, needed {m.needed_shown_c_per_w:g} °C/W or better); "
+            f"Q1 {mounting.free_air_words(m)}")

@@ -10,8 +10,9 @@ one is needed), and lines that are the same thing to buy
     spares = ceil(needed × spares fraction)   (exact: the fraction is a Fraction)
     total  = needed + spares
 
-Wire is counted in metres: ``WIRE_M_PER_RUN`` per build for each wire colour
-(one colour per off-board run: always-on feed, switched feed, ground).
+Wire is counted in metres: ``WIRE_M_PER_RUN`` per build for each off-board run
+(always-on +, switched feed, ground), one line per run in the colour the spec
+chose, or named by the run when it chose none.
 """
 
 from __future__ import annotations
@@ -24,19 +25,16 @@ from fractions import Fraction
 from typing import Sequence
 
 from sheetgen.model.kinds import KINDS
-from sheetgen.model.netlist import GROUND, Part
+from sheetgen.model.netlist import Part
+from sheetgen.sizing import runs
 from sheetgen.sizing.report import Report
 from sheetgen.inputs.units import format_quantity
 
-__all__ = ["KitUse", "KitLine", "KitItem", "kit_items", "spares_for", "kit_list", "kit_csv", "CSV_COLUMNS", "WIRE_M_PER_RUN", "WIRE_COLOURS"]
+__all__ = ["KitUse", "KitLine", "KitItem", "kit_items", "spares_for", "kit_list", "kit_csv", "CSV_COLUMNS", "WIRE_M_PER_RUN"]
 
 #: Metres of wire per build for each colour: enough to reach a fuse box, a switch and a ground
 #: point in a van or a cabinet (common practice estimate, no source; measure the real runs).
 WIRE_M_PER_RUN = 2
-#: Wire colour per off-board run: red for the always-on positive feed and black for ground are the
-#: usual convention (common practice, no source); the switched feed takes a third colour.
-WIRE_COLOURS = {"supply": ("red", "always-on feed"), GROUND: ("black", "ground")}
-SWITCHED_COLOUR = ("yellow", "switched feed")
 
 CSV_COLUMNS = ("item", "value", "rating", "tolerance", "package", "unit", "needed", "spares", "total", "designs",
                "note")
@@ -139,9 +137,10 @@ def kit_items(report: Report) -> tuple[KitItem, ...]:
         KitItem(kind="fuse holder", sort_value=h.wire_mm2, item="in-line fuse holder", value="blade fuse",
               rating=f"for {wire} wire", tolerance="", package="in-line", unit="pcs", quantity=1),
     ]
-    runs = len(report.design.topology.wiring)
+    spec = report.design.spec
+    n_runs = len(report.design.topology.wiring)
     lamps = [p for p in report.design.netlist.parts if p.kind == "lamp"]
-    ways = runs + 2 * len(lamps)
+    ways = n_runs + 2 * len(lamps)
     extra += [
         KitItem(kind="board", sort_value=0.0, item="prototype board", value="stripboard or perfboard", rating="",
                 tolerance="", package="", unit="pcs", quantity=1, note="one per kit; cut to the parts"),
@@ -154,20 +153,20 @@ def kit_items(report: Report) -> tuple[KitItem, ...]:
                              value=f"for the {lamp.description}", rating="", tolerance="", package="",
                              unit="pcs", quantity=1, note="rated for the lamp's wattage and base"))
     for net, _what in report.design.topology.wiring:
-        colour, run = WIRE_COLOURS.get(net, SWITCHED_COLOUR)
-        extra.append(KitItem(kind="wire", sort_value=h.wire_mm2, item=f"wire, {colour}", value=wire,
+        chosen = runs.colour(spec, net)
+        item = f"wire, {chosen}" if chosen else f"wire for the {runs.label(spec, net)} run"
+        how = "" if chosen else "; colour as you choose"
+        extra.append(KitItem(kind="wire", sort_value=h.wire_mm2, item=item, value=wire,
                            rating=f"{h.wire_rating_a:g} A", tolerance="", package="", unit="m",
                            quantity=WIRE_M_PER_RUN,
-                           note=f"{run}; {WIRE_M_PER_RUN} m per build per colour (estimate)"))
-    sink = report.heat.heatsink_c_per_w
-    if sink is not None:
-        extra.append(KitItem(kind="heatsink", sort_value=sink, item="heatsink", value=f"{sink:.1f} °C/W or better",
-                           rating="", tolerance="", package=report.heat.package, unit="pcs", quantity=1,
-                           note="for Q1"))
-        # Q1's tab is joined to its collector or drain: a pad and a bush keep the heatsink off that net.
-        extra.append(KitItem(kind="insulating kit", sort_value=0.0, item="insulating kit", value="pad and bush",
-                             rating="", tolerance="", package=report.heat.package, unit="pcs", quantity=1,
-                             note="between Q1's tab and the heatsink"))
+                           note=f"{runs.label(spec, net)}{how}; {WIRE_M_PER_RUN} m per build per run (estimate)"))
+    m = report.mounting
+    for hw in (m.hardware if m is not None else ()):
+        value = hw.part_number or f"{hw.rating_c_per_w:g} °C/W or better"
+        item = "heatsink" if hw.kind == "heatsink" else "insulating kit"
+        extra.append(KitItem(kind=item, sort_value=hw.rating_c_per_w, item=item, value=value,
+                           rating=f"{hw.rating_c_per_w:g} °C/W", tolerance="", package=hw.package, unit="pcs",
+                           quantity=1, note=f"for {m.transistor}: {hw.description}"))
     for it in extra:
         got = merged.get(it.key)
         merged[it.key] = it if got is None else _with_quantity(got, got.quantity + it.quantity)

@@ -15,7 +15,12 @@ from sheetgen.board import layout as board_layout
 from sheetgen.parts import catalog
 from sheetgen.engine import devices
 from sheetgen.parts import eseries
-from sheetgen.sizing import inrush, instructions
+from sheetgen.parts import installs
+from sheetgen.sizing import abuse
+from sheetgen.sizing import feeds
+from sheetgen.sizing import inrush
+from sheetgen.sizing import instructions
+from sheetgen.sizing import mounting
 from sheetgen.engine import simulate
 from sheetgen.engine import thermal
 from sheetgen.sizing import tolerance
@@ -54,15 +59,23 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
 
     curves = Curves(t_s=tr.t_s, load_a=load[0], light=_light(design, tr)[0], timer_v=tr.v("timer")[0])
     heat = _heat(design, tr, op_on)
-    harness = _harness(float(steady[1]))
+    harness = _harness(float(steady[1]), wire_min_mm2=installs.install(spec.install).wire_min_mm2)
     sample = tolerance.draw(design, n=draws, seed=seed)
+    mount = mounting.choose(design, heat)
+    bench = _bench(design, sample)
+    wiring = mounting.with_steps(instructions.wiring_steps(design, harness), design, mount, short=False)
     board = _board(design, heat)
+    brief = instructions.brief(design, harness, heat, board)
+    brief = replace(brief, steps=feeds.with_door_test(brief.steps, design, bench, short=True),
+                    board_steps=(feeds.with_door_test(brief.board_steps, design, bench, short=True)
+                                 if brief.board_steps else ()))
     return Report(design=design, curves=curves, steady_a=float(steady[0]), heat=heat, harness=harness,
-                  bench=_bench(design, sample), spread=tolerance.spread(design, sample),
+                  bench=bench, spread=tolerance.spread(design, sample),
                   tuning=_tuning(design), standby_a=_standby(design),
-                  wiring=instructions.wiring_steps(design, harness),
+                  wiring=feeds.with_door_test(wiring, design, bench, short=False),
+                  mounting=mount, abuse=abuse.abuse_cases(design),
                   cautions=instructions.cautions(design, heat),
-                  brief=instructions.brief(design, harness, heat, board), board=board)
+                  brief=brief, board=board)
 
 
 def _board(design: Design, heat: Heat):
@@ -114,14 +127,17 @@ def _heat(design: Design, tr, op_on) -> Heat:
                 fade_peak_junction_c=float(tj_curve.max()), resistors=tuple(resistors))
 
 
-def _harness(max_current_a: float) -> Harness:
+def _harness(max_current_a: float, *, wire_min_mm2: float) -> Harness:
+    """The fuse for the load and the smallest wire it protects, never below the install's minimum."""
     need = FUSE_FACTOR * max_current_a
     fuse = next((f for f in FUSES_A if f >= need), FUSES_A[-1])
     for mm2, awg, amps in WIRES:
-        if amps >= fuse:
-            return Harness(max_current_a=max_current_a, fuse_a=fuse, wire_mm2=mm2, wire_awg=awg, wire_rating_a=amps)
+        if amps >= fuse and mm2 >= wire_min_mm2:
+            return Harness(max_current_a=max_current_a, fuse_a=fuse, wire_mm2=mm2, wire_awg=awg, wire_rating_a=amps,
+                           wire_min_mm2=wire_min_mm2)
     mm2, awg, amps = WIRES[-1]
-    return Harness(max_current_a=max_current_a, fuse_a=fuse, wire_mm2=mm2, wire_awg=awg, wire_rating_a=amps)
+    return Harness(max_current_a=max_current_a, fuse_a=fuse, wire_mm2=mm2, wire_awg=awg, wire_rating_a=amps,
+                   wire_min_mm2=wire_min_mm2)
 
 
 def _bench(design: Design, sample: tolerance.Draws) -> tuple[BenchReading, ...]:

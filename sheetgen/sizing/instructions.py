@@ -17,8 +17,11 @@ from dataclasses import dataclass
 from sheetgen.board import words
 from sheetgen.board.model import Board
 from sheetgen.parts import catalog
+from sheetgen.parts import installs
 from sheetgen.model.kinds import KINDS
 from sheetgen.model.netlist import GROUND, Part
+from sheetgen.sizing import mounting
+from sheetgen.sizing import runs as offboard
 from sheetgen.sizing.report import Brief, Harness, Heat
 from sheetgen.sizing.size import Design
 from sheetgen.inputs.spec import LampLoad
@@ -118,6 +121,11 @@ class Identify:
     pinout: tuple[str, ...]  # lead letters left to right, printed face towards you, leads down
     part_number: str
     package: str
+    refs: tuple[str, ...] = ()  # every transistor of this part number, told apart in one step
+
+    @property
+    def who(self) -> str:
+        return ", ".join(self.refs) if self.refs else self.part.ref
 
 
 @dataclass(frozen=True)
@@ -166,12 +174,15 @@ def connection_plan(design: Design, *, group_leds: bool = False) -> tuple[Connec
         for pin, net in part.pins:
             pins_on.setdefault(net, []).append((part, pin))
     plan: list[Connection] = []
+    alike: dict[str, list[Part]] = {}  # one step per transistor type: "Q1, Q3 BC337-40"
     for part in nl.parts:
-        if part.kind not in ("npn", "pnp", "nmos"):
-            continue
-        q = catalog.transistor(part.part_number)
+        if part.kind in ("npn", "pnp", "nmos"):
+            alike.setdefault(part.part_number, []).append(part)
+    for number, parts in alike.items():
+        q = catalog.transistor(number)
         if q.pinout:
-            plan.append(Identify(part, tuple(q.pinout), q.part_number, q.package))
+            plan.append(Identify(parts[0], tuple(q.pinout), q.part_number, q.package,
+                                 refs=tuple(p.ref for p in parts)))
     off_board = dict(design.topology.wiring)
     probe_of = {net: label for label, net in nl.probes}
     runs = _led_runs(pins_on) if group_leds else {}
@@ -228,7 +239,7 @@ def _sheet_words(c: Connection, design: Design, harness: Harness) -> str:
     """A connection as the build sheet says it: every lead described, wire sizes in each harness step."""
     if isinstance(c, Identify):
         leads = ", ".join(_LEAD_NAMES[x] for x in c.pinout)
-        return (f"Identify {c.part.ref} ({c.part_number}, {c.package}) leads: printed face towards you, "
+        return (f"Identify {c.who} ({c.part_number}, {c.package}) leads: printed face towards you, "
                 f"leads down, left to right: {leads}. Makers differ; check the data sheet of the part "
                 "in your hand.")
     if isinstance(c, Joint):
@@ -237,14 +248,17 @@ def _sheet_words(c: Connection, design: Design, harness: Harness) -> str:
     if isinstance(c, OffBoard):
         wire = f"{harness.wire_mm2:g} mm² ({harness.wire_awg} AWG)"
         target = _off_board_target(c, short=False)
+        run = offboard.label(design.spec, c.net)  # "always-on +" or "always-on +, red": one name on every output
         if c.net == "supply":
             supply_v = format_quantity(design.spec.supply.nominal_v, "V")
             return (f"Fit a {harness.fuse_a:g} A fuse in the {supply_v} {c.what} as close to its "
-                    f"source (battery or distribution point) as you can, and run {wire} wire from it to "
+                    f"source (battery or distribution point) as you can, and run {wire} wire ({run}) from it to "
                     f"{target}.")
         if c.net == GROUND:
-            return f"Join {target}, and run {wire} wire from there to {c.what}; use a clean, tight ground point."
-        return f"Connect the {c.what} to {target}, with {wire} wire."
+            return (f"Join {target}, and run {wire} wire ({run}) from there to {c.what}; use a clean, tight "
+                    "ground point.")
+        hue = offboard.colour(design.spec, c.net)
+        return f"Connect the {c.what} to {target}, with {wire} wire" + (f" ({hue})." if hue else ".")
     raise ValueError(f"the sheet's plan has no grouped LEDs: {c!r}")
 
 
@@ -252,7 +266,7 @@ def _card_words(c: Connection, design: Design, harness: Harness) -> str:
     """A connection as a card says it: bare lead names (the card prints the lead key once)."""
     if isinstance(c, Identify):
         leads = ", ".join(_LEAD_NAMES[x] for x in c.pinout)
-        return (f"{c.part.ref} {c.part_number} ({c.package}), printed face to you, leads down: {leads} "
+        return (f"{c.who} {c.part_number} ({c.package}), printed face to you, leads down: {leads} "
                 "(check its data sheet).")
     if isinstance(c, Strings):
         return _strings_step(c.group)
@@ -262,12 +276,15 @@ def _card_words(c: Connection, design: Design, harness: Harness) -> str:
         return ("Join " + ", ".join(_lead(lead, short=True) for lead in c.leads)
                 + (f": test point {c.probe.split()[0]}." if c.probe else "."))
     target = _off_board_target(c, short=True)
+    hue = offboard.colour(design.spec, c.net)  # the card's harness box names the runs; a colour is said here
+    hue = f" ({hue})" if hue else ""
     if c.net == "supply":  # the card's harness box gives the wire size once
         supply_v = format_quantity(design.spec.supply.nominal_v, "V")
-        return f"Fit the {harness.fuse_a:g} A fuse in the {supply_v} {c.what} near its source; wire it to {target}."
+        return (f"Fit the {harness.fuse_a:g} A fuse in the {supply_v} {c.what} near its source; wire it{hue} "
+                f"to {target}.")
     if c.net == GROUND:
-        return f"Join {target}; wire them to {c.what}."
-    return f"Wire the {c.what.split(' (')[0]} to {target}."  # the card's harness box says which way the feed switches
+        return f"Join {target}; wire them{hue} to {c.what}."
+    return f"Wire the {c.what.split(' (')[0]}{hue} to {target}."  # the card's harness box says which way the feed switches
 
 
 def wiring_steps(design: Design, harness: Harness, *, short: bool = False) -> tuple[str, ...]:
@@ -277,8 +294,8 @@ def wiring_steps(design: Design, harness: Harness, *, short: bool = False) -> tu
     (the card prints ``lead_key`` once) and the LED strings in one step.
     """
     word = _card_words if short else _sheet_words
-    steps = ["Disconnect the battery first: a short can start a fire." if short else
-             "Disconnect the battery (or switch off and unplug the bench supply) before you start."]
+    place = installs.install(design.spec.install)
+    steps = [place.isolate_short if short else place.isolate]
     steps += [word(c, design, harness) for c in connection_plan(design, group_leds=short)]
     steps.append("Check every joint against the schematic, reconnect, then take the readings: feed off, then on."
                  if short else
@@ -303,7 +320,7 @@ def board_steps(design: Design, harness: Harness, board: Board) -> tuple[str, ..
     They replace the "join X to Y" steps, which the copper now does.
     """
     nl = design.netlist
-    steps = ["Disconnect the battery first: a short can start a fire."]
+    steps = [installs.install(design.spec.install).isolate_short]
     steps += [_card_words(c, design, harness) for c in connection_plan(design) if isinstance(c, Identify)]
     if board.cuts:
         steps.append(words.cuts(board) + " on the copper side, as the copper view shows.")
@@ -326,10 +343,35 @@ def board_steps(design: Design, harness: Harness, board: Board) -> tuple[str, ..
 
 
 def brief(design: Design, harness: Harness, heat: Heat, board: Board | None = None) -> Brief:
-    """The card's words: the short steps (and, with a board, the board's steps), the lead key and cautions."""
-    return Brief(steps=wiring_steps(design, harness, short=True), leads=lead_key(design),
-                 cautions=cautions(design, heat, short=True),
-                 board_steps=board_steps(design, harness, board) if board is not None else ())
+    """The card's words: the short steps (and, with a board, the board's steps), the lead key and cautions.
+
+    Where Q1 needs a heatsink, the steps to mount it come right after making safe, in both.
+    """
+    mount = mounting.choose(design, heat)
+    steps = mounting.with_steps(wiring_steps(design, harness, short=True), design, mount, short=True)
+    on_board = (mounting.with_steps(board_steps(design, harness, board), design, mount, short=True)
+                if board is not None else ())
+    return Brief(steps=steps, leads=lead_key(design), cautions=cautions(design, heat, short=True),
+                 board_steps=on_board)
+
+
+def guard_cautions(design: Design) -> list[tuple[str, str | None]]:
+    """What the supply protection does and does not cover, from the parts actually fitted."""
+    nl = design.netlist
+    guard, cut = nl.by_role("reverse_polarity"), nl.by_role("cutoff")
+    if not guard:
+        return []
+    out: list[tuple[str, str | None]] = [(
+        f"{guard[0].ref} blocks a reversed battery and {nl.by_role('surge')[0].ref} takes fast spikes; fit both "
+        f"the way round the schematic shows (banded ends to the rail): fitted backwards, {guard[0].ref} leaves the "
+        f"board dead and {nl.by_role('surge')[0].ref} shorts the supply until the fuse blows.",
+        None)]  # a card's steps already name each cathode (banded end)
+    if not cut:
+        out.append(("This design has no over-voltage cut-off (its supply's jump-start voltage is too close to the "
+                    "charging voltage for one): a jump start from a higher voltage overruns the load. Jump-start "
+                    "with the light switched off.",
+                    "No over-voltage cut-off: jump-start with the light off."))
+    return out
 
 
 def cautions(design: Design, heat: Heat, *, short: bool = False) -> tuple[str, ...]:
@@ -342,37 +384,20 @@ def cautions(design: Design, heat: Heat, *, short: bool = False) -> tuple[str, .
     footer on both sides.
     """
     spec = design.spec
+    place = installs.install(spec.install)
     out = [
         ("Fuse the always-on feed close to its source, sized to protect the wire (the fuse protects the wire, "
          "not the lamp).",
          "Fuse the always-on feed near its source: the fuse protects the wire."),
-        ("Disconnect the battery before working on the wiring; a short on a battery feed can start a fire.",
-         None),
+        (place.isolate, None),
     ]
-    if heat.heatsink_c_per_w is not None:
-        out.append((f"Q1 needs a heatsink of {heat.heatsink_c_per_w:.1f} °C/W or better: without one its junction "
-                    f"could reach {heat.peak_junction_c:.0f} °C if the feed hovers half-on.",
-                    f"Q1 needs a heatsink of {heat.heatsink_c_per_w:.1f} °C/W or better."))
-    if heat.peak_junction_c > 60.0:
-        hot = min(heat.peak_junction_c, 150)
-        out.append((f"Q1 can get hot enough to burn (up to about {hot:.0f} °C at the "
-                    "junction in the worst case): keep it clear of wiring, trim and fingers.",
-                    f"Q1 can reach about {hot:.0f} °C: keep it clear of wiring and fingers."))
+    out += mounting.heat_cautions(heat, mounting.choose(design, heat))
     if isinstance(spec.load, LampLoad):
         out.append(("Lamp glass and holders run hot: use heat-rated holders, keep them clear of fabric, trim and "
                     "wiring, and let them cool before touching.",
                     "Lamps run hot: heat-rated holders, clear of fabric and trim."))
-    if spec.install == "vehicle":
-        out.append(("Airbag and seat-belt restraint wiring runs in pillars and headliners (often in yellow "
-                    "sleeving): do not cut, splice or pierce it, and do not route new wiring over it.",
-                    "Never cut or splice airbag or seat-belt wiring (often yellow)."))
-        out.append(("Vehicles whose interior lights are run by a body controller (dimmed, pulsed or load-sensed "
-                    "feeds) may not suit a plain fader: measure the feed before you fit it.",
-                    "A body-controlled feed (dimmed, pulsed, load-sensed) may not suit a fader: measure it first."))
-    if spec.install == "boat":
-        out.append(("On a boat use tinned marine wire, sealed connections and ignition-protected parts where "
-                    "fuel vapour can collect.",
-                    "Boats: tinned wire, sealed joints, ignition-protected parts near fuel vapour."))
+    out += place.cautions
+    out += guard_cautions(design)
     out.append(("sheetgen covers low-voltage DC (5–32 V) only. Follow your local vehicle, marine and electrical "
                 "codes; where they call for licensed work, have it done by a licensed installer.",
                 None))

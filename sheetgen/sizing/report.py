@@ -6,6 +6,7 @@ names carry their SI unit.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -67,6 +68,102 @@ class Heat:
 
 
 @dataclass(frozen=True)
+class Hardware:
+    """A part that is bought and fitted but has no place in the netlist: a heatsink, an insulating kit."""
+
+    ref: str  # "HS1", "MK1"
+    kind: str  # "heatsink" | "insulator"
+    description: str
+    part_number: str  # "" when no catalog part is good enough
+    rating_c_per_w: float  # its thermal resistance in the chain
+    package: str  # the outline it fits: "TO-220"
+    sources: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Mounting:
+    """Q1 on a heatsink through an insulating kit, and what that chain does at worst case.
+
+    The worst case is the feed hovering half-on at maximum supply and the
+    spec's ambient: ``power_w`` steady in Q1.  ``junction_c`` is
+    T_a + P (R_θJC + R_θCS + R_θSA) with the parts chosen; ``sink_c`` the
+    heatsink's own temperature (what a finger touches); ``free_air_c`` the
+    junction without the heatsink, which is only meaningful up to ``tj_max_c``.
+    """
+
+    transistor: str  # ref, "Q1"
+    heatsink: Hardware
+    insulator: Hardware | None
+    rth_jc_c_per_w: float
+    rth_cs_c_per_w: float  # through the insulating kit, or compound alone when there is none
+    power_w: float
+    ambient_c: float
+    junction_c: float
+    sink_c: float
+    free_air_c: float
+    tj_max_c: float
+    needed_c_per_w: float  # the largest R_θSA that keeps the junction under the limit with this kit
+
+    @property
+    def needed_shown_c_per_w(self) -> float:
+        """The needed R_θSA as printed: rounded down to 0.1 °C/W, so a part of the printed figure is good enough."""
+        return math.floor(self.needed_c_per_w * 10.0) / 10.0
+
+    @property
+    def chain_c_per_w(self) -> float:
+        """R_θJC + R_θCS + R_θSA: junction to air through the heatsink."""
+        return self.rth_jc_c_per_w + self.rth_cs_c_per_w + self.heatsink.rating_c_per_w
+
+    @property
+    def hardware(self) -> tuple[Hardware, ...]:
+        return (self.heatsink,) + ((self.insulator,) if self.insulator else ())
+
+
+@dataclass(frozen=True)
+class Stress:
+    """One part's worst figure in one supply fault, beside the limit it must stay under."""
+
+    ref: str
+    quantity: str  # "reverse voltage", "VCE", "power", "current", "voltage"
+    value: float
+    limit: float
+    unit: str  # "V", "W", "A"
+
+    @property
+    def ok(self) -> bool:
+        return self.value <= self.limit
+
+
+@dataclass(frozen=True)
+class AbuseCase:
+    """A supply fault simulated at DC with the feed on and off: what is drawn, what lights, what is stressed.
+
+    ``load_fraction`` is the load current with the feed on relative to the
+    nominal steady current (0 = dark).  ``stresses`` holds every part's worst
+    figure over both feed states; ``worst`` the one closest to its limit.
+    """
+
+    name: str  # "reverse" | "jump" | "dump"
+    title: str  # "Battery reversed"
+    supply_v: float  # the always-on wire's voltage against ground (negative when reversed)
+    duration_s: float | None  # how long the standard holds it; None for a steady fault
+    supply_a: float  # the largest current drawn from the always-on wire, either feed state
+    feed_a: float  # the largest current through the switched-feed wire
+    load_fraction: float
+    led_max_a: float | None  # the highest LED string current, feed on
+    stresses: tuple[Stress, ...]
+    guard: str  # which part deals with it, in words
+
+    @property
+    def worst(self) -> Stress:
+        return max(self.stresses, key=lambda st: st.value / st.limit)
+
+    @property
+    def ok(self) -> bool:
+        return all(st.ok for st in self.stresses)
+
+
+@dataclass(frozen=True)
 class Harness:
     """Off-board wiring: fuse in the always-on feed and the wire it protects."""
 
@@ -75,6 +172,7 @@ class Harness:
     wire_mm2: float
     wire_awg: int
     wire_rating_a: float
+    wire_min_mm2: float = 0.0  # the install's smallest conductor (installs.yaml); wire_mm2 is never below it
 
 
 @dataclass(frozen=True)
@@ -126,4 +224,6 @@ class Report:
     wiring: tuple[str, ...]  # numbered steps, in order, without their numbers
     cautions: tuple[str, ...]
     brief: Brief  # the steps and cautions in a card's words
+    mounting: Mounting | None = None  # Q1's heatsink and insulating kit, where one is needed
+    abuse: tuple[AbuseCase, ...] = ()  # reversed battery, jump start, load dump, where protection is fitted
     board: Board | None = None  # where every on-board part goes, proven against the netlist

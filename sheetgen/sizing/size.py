@@ -26,6 +26,7 @@ import numpy as np
 from sheetgen.parts import catalog
 from sheetgen.parts import eseries
 from sheetgen.engine import simulate
+from sheetgen.sizing import protection
 from sheetgen.sizing import tolerance
 from sheetgen.parts.catalog import Transistor
 from sheetgen.errors import InfeasibleDesign, SpecError
@@ -167,7 +168,7 @@ def _led_resistor(spec: Spec, stage: Stage) -> float | None:
     if not isinstance(load, LedLoad):
         return None
     # R = (Vs - n·Vf - Vce(sat)) / I, rounded up to E24 so the string never exceeds its current.
-    r = (spec.supply.nominal_v - load.per_string * load.vf_v - stage.vce_sat_v) / load.current_a
+    r = (spec.supply.nominal_v - protection.drop_v(spec) - load.per_string * load.vf_v - stage.vce_sat_v) / load.current_a
     if r <= 0:
         raise _NoFit(f"{load.per_string} LEDs of {load.vf_v:g} V plus the switch's {stage.vce_sat_v:g} V "
                      f"leave no headroom at {spec.supply.nominal_v:g} V")
@@ -183,6 +184,7 @@ def _transistor_candidates(spec: Spec, topology: Topology, refusals: list[str]) 
         return []
     i_load = rated_current_a(spec.load) * spec.supply.max_v / spec.supply.nominal_v
     p_peak = load_line_peak_w(spec, supply_v=spec.supply.max_v, r_led_ohm=r_led)
+    v_surge = protection.surge_v(spec)
     if p_peak > HOVER_MAX_W:
         refusals.append(f"a feed that hovers half-on would put about {p_peak:.0f} W into the switch at "
                         f"{spec.supply.max_v:g} V, more than the {HOVER_MAX_W:g} W this tool designs for; "
@@ -193,8 +195,9 @@ def _transistor_candidates(spec: Spec, topology: Topology, refusals: list[str]) 
         wanted = "nmos" if topology.stage.kind == "mosfet" else "npn"
         if q.polarity != wanted or q.darlington != topology.stage.darlington:
             continue
-        if q.vmax_v < 1.25 * spec.supply.max_v:
-            refusals.append(f"{q.part_number}: VCEO {q.vmax_v:g} V is too low for {spec.supply.max_v:g} V")
+        if q.vmax_v < max(1.25 * spec.supply.max_v, v_surge):
+            refusals.append(f"{q.part_number}: VCEO {q.vmax_v:g} V is too low for {spec.supply.max_v:g} V"
+                            + (f" and a {v_surge:g} V load dump" if v_surge > spec.supply.max_v else ""))
             continue
         if i_load > IC_DERATE * q.imax_a:
             refusals.append(f"{q.part_number}: at {spec.supply.max_v:g} V the load would draw more than "
@@ -293,7 +296,7 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_m
         if not picks:
             break
         window = _window(spec, drive, picks)
-        picks = drive.check(topology.build(spec, _values(base_values, picks[0]), window), picks, window)
+        picks = drive.check(_netlist(topology, spec, _values(base_values, picks[0]), window), picks, window)
         _simulate(spec, topology, base_values, _window(spec, drive, picks), picks)
         good = [t for t in picks if math.isfinite(t.error(spec))]
         if good:
@@ -314,6 +317,11 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_m
     if best is None or best.error(spec) > ACCURACY:
         raise _NoFit(_why_not(spec, best, c_max, drive.limit_note))
     return _finish(spec, topology, base_values, _window(spec, drive, [best]), best, drive.reason(best))
+
+
+def _netlist(topology: Topology, spec: Spec, values: Values, window: Window):
+    """The stage's netlist with the supply protection its install needs (a step that fits any stage)."""
+    return protection.apply(topology.build(spec, values, window), spec)
 
 
 def _window(spec: Spec, drive, trials) -> Window:
@@ -521,7 +529,7 @@ def _simulate(spec, topology, base, window, trials) -> None:
     """Nominal transient of every candidate in one batch; fills t_in, t_out, i_load."""
     if not trials:
         return
-    netlist = topology.build(spec, _values(base, trials[0]), window)
+    netlist = _netlist(topology, spec, _values(base, trials[0]), window)
     ov = _batch_overrides(trials)
     n = len(trials)
     op = simulate.operating_point(netlist, at_s=window.release_s / 2, overrides=ov, n=n)
@@ -588,17 +596,20 @@ def _cap_rating(v: float) -> float:
 
 def _finish(spec, topology, base, window, best: _Trial, reason: str) -> Design:
     values = _values(base, best)
-    netlist = topology.build(spec, values, window)
+    netlist = _netlist(topology, spec, values, window)
     vmax = spec.supply.max_v
-    ov = {("VSUPPLY", "level"): np.array([vmax]), ("VFEED", "level"): np.array([vmax])}
-    op = simulate.operating_point(netlist, at_s=window.release_s / 2, overrides=ov, n=1)
+    # The highest supply, and a 60 s jump start where the supply protection is fitted: with the cut-off
+    # holding the drive down, the charge and base resistors carry more than at full light.
+    levels = np.array([vmax, protection.jump_v(spec) or vmax])
+    ov = {("VSUPPLY", "level"): levels, ("VFEED", "level"): levels}
+    op = simulate.operating_point(netlist, at_s=window.release_s / 2, overrides=ov, n=2)
     ratings = []
     for part in netlist.parts:
         if part.kind == "resistor":
-            v = float(op.v(part.net("1"))[0] - op.v(part.net("2"))[0])
-            ratings.append((part.ref, None, _power_rating(part.ref, v * v / part.value)))
+            v = op.v(part.net("1")) - op.v(part.net("2"))
+            ratings.append((part.ref, None, _power_rating(part.ref, float(np.max(v * v)) / part.value)))
     ratings.append(("C1", _cap_rating(vmax), None))
     values = replace(values, ratings=tuple(ratings))
-    netlist = topology.build(spec, values, window)
+    netlist = _netlist(topology, spec, values, window)
     return Design(spec=spec, topology=topology, values=values, netlist=netlist, load_current_a=best.i_load,
                   fade_in_s=best.t_in, fade_out_s=best.t_out, overdrive=best.overdrive, reasons=(reason,))

@@ -107,7 +107,8 @@ def test_defaults():
     spec = parse_spec(textwrap.dedent(text), source="<built-in>")
     assert spec.title == "Untitled fader"
     assert spec.trigger == "positive"
-    assert spec.ambient_c == 25.0
+    assert spec.install == "vehicle"
+    assert spec.ambient_c == 60.0  # the vehicle profile's cabin air (installs.yaml; tests/parts/test_installs.py)
     assert spec.topology == "auto"
     assert spec.load == LedLoad(current_a=0.010, vf_v=2.0, per_string=1, strings=1)
     assert spec.fade_in_s == pytest.approx(0.33)

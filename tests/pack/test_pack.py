@@ -126,7 +126,10 @@ def test_kit_list_matches_an_independent_count_of_the_netlists(camper_report, ra
     assert sum(line.needed for line in lines if line.item == "blade fuse") == total_kits
     assert sum(line.needed for line in lines if line.item == "in-line fuse holder") == total_kits
     wires = [line for line in lines if line.item.startswith("wire")]
-    assert {line.item for line in wires} == {"wire, red", "wire, yellow", "wire, black"}
+    # No colours chosen in these specs: one line per run, named by what it does (never a fixed colour
+    # that clashes with a vehicle's or a boat's own harness convention).
+    assert {line.item for line in wires} == {"wire for the always-on + run", "wire for the switched feed run",
+                                             "wire for the ground run"}
     assert all(line.unit == "m" and line.needed == WIRE_M_PER_RUN * total_kits for line in wires)
     assert sum(line.needed for line in lines if line.item == "prototype board") == total_kits
     # One screw terminal per off-board run (the topology's wiring list), two more per lamp.
@@ -166,7 +169,7 @@ def test_csv_has_the_columns_and_the_lines(camper_report):
         assert row["item"] == line.item and int(row["needed"]) == line.needed
         assert int(row["total"]) == int(row["needed"]) + int(row["spares"])
         assert int(row["spares"]) == math.ceil(int(row["needed"]) / 4)
-    assert any(row["note"].startswith("ground; 2 m per build") for row in rows)
+    assert any(row["note"].startswith("ground; colour as you choose; 2 m per build") for row in rows)
 
 
 # ----------------------------------------------------------------- event

@@ -23,6 +23,8 @@ from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 
 from sheetgen.engine.measure import DEFINITIONS
+from sheetgen.sizing import mounting, runs
+from sheetgen.sizing.analyse import WIRES
 from sheetgen.sizing.report import Report
 from sheetgen.inputs.spec import LedLoad
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
@@ -596,6 +598,13 @@ def parts_block(report: Report, frame: Frame) -> Block:
                      _p(part_rating(p), s.cell), _p(tol, s.cell), _p(package, s.cell),
                      _p(part_bands(p) or EN_DASH, s.cell), _p(does, s.cell)])
 
+    m = report.mounting
+    for item in (m.hardware if m is not None else ()):
+        rows.append([_p(item.ref, s.cell_bold), _p("1", s.cell), _p(item.part_number or EN_DASH, s.cell_bold),
+                     _p(EN_DASH, s.cell), _p(f"{item.rating_c_per_w:g} °C/W", s.cell), _p(EN_DASH, s.cell),
+                     _p(item.package, s.cell), _p(EN_DASH, s.cell),
+                     _p(f"{item.description}; for {m.transistor}", s.cell)])
+
     def build(aw):
         return _table(rows, _fractions(aw, (1.15, 0.4, 0.85, 0.55, 0.95, 0.55, 0.95, 1.5, 2.0)))
 
@@ -672,19 +681,27 @@ def heat_block(report: Report, frame: Frame) -> Block:
     s = styles()
     h = report.heat
     limit = f"{h.junction_limit_c:g} °C"
-    if h.heatsink_c_per_w is None:
+    m = report.mounting
+    hover = f"{escape(format_quantity(h.hover_power_w, 'W'))} steady: "
+    if m is None:
         sink = _pm(f"<b>Not needed</b>: under {escape(limit)} in free air", s.cell)
+        stuck = _pm(hover + f"junction <b>{h.peak_junction_c:.0f} °C</b> without heatsink (limit {escape(limit)})",
+                    s.cell)
     else:
-        sink = _pm(f"<b>Needed: {h.heatsink_c_per_w:.1f} °C/W or better</b> (heatsink to air) to stay "
-                   f"under {escape(limit)}", s.cell)
+        kit = f"{m.insulator.ref} kit" if m.insulator else "compound"
+        name = f"{m.heatsink.ref} {m.heatsink.part_number}".strip()
+        sink = _pm(f"<b>{escape(name)}, {m.heatsink.rating_c_per_w:g} °C/W</b> (needed: "
+                   f"{m.needed_shown_c_per_w:g} °C/W or better). Chain: junction–case {m.rth_jc_c_per_w:g} + {kit} "
+                   f"{m.rth_cs_c_per_w:g} + heatsink {m.heatsink.rating_c_per_w:g} = {m.chain_c_per_w:.2f} °C/W; "
+                   f"heatsink up to {m.sink_c:.0f} °C", s.cell)
+        stuck = _pm(hover + f"junction <b>{m.junction_c:.0f} °C</b> on {m.heatsink.ref} (limit {escape(limit)}); "
+                    f"{escape(mounting.free_air_words(m))}", s.cell)
     rows = [
         [_p("Peak power in a fade", s.cell_bold), _p(format_quantity(h.peak_power_w, "W"), s.cell)],
         [_p("Energy per fade", s.cell_bold), _p(joules(h.fade_energy_j), s.cell)],
         [_p("Steady, fully on", s.cell_bold), _p(watts(h.steady_power_w), s.cell)],
         [_p("Junction in use", s.cell_bold), _p(f"{h.fade_peak_junction_c:.0f} °C at most, fading on and off", s.cell)],
-        [_p("Feed stuck half on", s.cell_bold),
-         _pm(f"{escape(format_quantity(h.hover_power_w, 'W'))} steady: junction <b>{h.peak_junction_c:.0f} °C</b> "
-             f"without heatsink (limit {escape(limit)})", s.cell)],
+        [_p("Feed stuck half on", s.cell_bold), stuck],
         [_p("Heatsink", s.cell_bold), sink],
     ]
     head = [_p(x, s.cell_bold) for x in ("Ref", "Power", "Rating")]
@@ -732,7 +749,33 @@ def bench_block(report: Report, frame: Frame) -> Block:
              for b in report.bench]
     intro = _p("Meter on DC volts, black lead on ground. Read after each fade has settled; "
                "a reading inside the range is right.", s.small)
-    return Block("Bench readings", [intro, _Sized(lambda aw: _table(rows, _fractions(aw, (1.5, 1, 1))))])
+    items = [intro, _Sized(lambda aw: _table(rows, _fractions(aw, (1.5, 1, 1))))]
+    if report.abuse:
+        items += _abuse_items(report)
+    return Block("Bench readings", items)
+
+
+def _abuse_items(report: Report) -> list[Flowable]:
+    """The simulated supply faults: what the board does and its most stressed part against the rating."""
+    s = styles()
+    rows = [[_p(x, s.cell_bold) for x in ("Supply fault", "What happens", "Most stressed")]]
+    for c in report.abuse:
+        held = f", {seconds(c.duration_s)}" if c.duration_s else ""
+        happens = (f"{c.guard}; {escape(format_quantity(c.supply_a, 'A'))} drawn, light "
+                   + ("off" if c.load_fraction < 0.05 else f"at {c.load_fraction:.0%} of its current"))
+        w = c.worst
+        worst = (f"{w.ref} {w.quantity} {escape(format_quantity(w.value, w.unit))} of "
+                 f"{escape(format_quantity(w.limit, w.unit))}")
+        if not c.ok:
+            worst = "<b>EXCEEDS:</b> " + "; ".join(
+                f"{st.ref} {st.quantity} {escape(format_quantity(st.value, st.unit))} of "
+                f"{escape(format_quantity(st.limit, st.unit))}" for st in c.stresses if not st.ok)
+        rows.append([_p(f"{c.title}, {format_quantity(abs(c.supply_v), 'V')}{held}", s.cell), _pm(happens, s.cell),
+                     _pm(worst, s.cell)])
+    note = _p("Simulated at DC with the feed on and off (the feed follows the supply): a reversed battery at the "
+              "highest charging voltage, a jump start and a load dump as the alternator's own suppression leaves "
+              "it (ISO 16750-2). An unsuppressed load dump (up to about 100 V) is beyond these parts.", s.small)
+    return [_Sized(lambda aw: _table(rows, _fractions(aw, (1.1, 1.45, 1.45)))), note]
 
 
 @SHEET_BLOCKS.register("tuning")
@@ -761,7 +804,10 @@ def wiring_block(report: Report, frame: Frame) -> Block:
     harness = _pm(
         f"<b>Fuse {h.fuse_a:g} A</b> in the always-on feed. <b>Wire {h.wire_mm2:g} mm² ({h.wire_awg} AWG)</b>, "
         f"rated {h.wire_rating_a:g} A; the load draws at most {escape(format_quantity(h.max_current_a, 'A'))} "
-        f"at the highest supply, {escape(format_quantity(report.design.spec.supply.max_v, 'V'))}.",
+        f"at the highest supply, {escape(format_quantity(report.design.spec.supply.max_v, 'V'))}"
+        + (f" (at least {h.wire_min_mm2:g} mm² here)" if h.wire_min_mm2 > WIRES_SMALLEST_MM2 else "")
+        + ". Runs: " + ", ".join(escape(runs.label(report.design.spec, net)) for net, _ in report.design.topology.wiring)
+        + ("." if report.design.spec.wires else "; colours as you choose, the same on every build."),
         s.body)
     steps = [_p(text, s.step, bulletText=f"{k}.") for k, text in enumerate(report.wiring, start=1)]
     return Block("Wiring", [harness, *steps])
@@ -781,6 +827,9 @@ def cautions_block(report: Report, frame: Frame) -> Flowable:
     s = styles()
     items = [_p(text, s.caution, bulletText="!") for text in report.cautions]
     return Boxed("CAUTIONS: read before you start", items)
+
+
+WIRES_SMALLEST_MM2 = WIRES[0][0]
 
 
 def _make(name: str, report: Report, frame: Frame) -> Flowable:

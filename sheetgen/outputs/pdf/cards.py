@@ -44,6 +44,7 @@ from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 
 from sheetgen import __version__
+from sheetgen.sizing import protection, runs
 from sheetgen.sizing.report import Report
 
 from sheetgen.outputs.wording import keep_units, refs_text, volts_range
@@ -260,6 +261,10 @@ def _natural_schematic(report: Report, *, compact: bool = False) -> Flowable:
     return schematic_drawing(d.netlist, d.topology, max_width_pt=1e5, max_height_pt=1e5, compact=compact)
 
 
+#: Roles of the supply protection (sizing/protection.py), listed on one card line.
+GUARD_ROLES = ("reverse_polarity", "surge", "cutoff", "cutoff_series", "cutoff_bias")
+
+
 def _card_value(part) -> str:
     """What the tray is labelled with: a value or a part number; an LED by its colour, a lamp by its rating."""
     if part.kind == "led":
@@ -314,9 +319,18 @@ def _schematic_block(report: Report, frame: _Frame) -> Flowable:
 def _parts(report: Report, frame: _Frame) -> Flowable:
     st = frame.st
     texts = [("Ref", "Qty", "Value", "Rating", "Identify")]
+    guard = []
     for parts, p in part_groups(report):
+        if p.role in GUARD_ROLES:  # one line for the supply guard: a card has no room for five
+            guard += parts
+            continue
         texts.append((refs_text([q.ref for q in parts]), str(len(parts)), _card_value(p) or EN_DASH, _card_rating(p),
                       _identify(p) or EN_DASH))
+    if guard:
+        left_out = getattr(frame.art, "left_out", ())
+        note = f" ({', '.join(left_out)}: the cut-off, drawn on the build sheet)" if left_out else ""
+        texts.append((refs_text([q.ref for q in guard]), str(len(guard)), "supply guard", EN_DASH,
+                      ", ".join(f"{q.ref} {_card_value(q)}" for q in guard) + note))
     bold_columns = (0, 2)
     rows = [[_p(t, st.cell_bold) for t in texts[0]]]
     rows += [[_p(t, st.cell_bold if k in bold_columns else st.cell) for k, t in enumerate(row)] for row in texts[1:]]
@@ -351,11 +365,16 @@ def _harness(report: Report, frame: _Frame) -> Flowable:
                else "goes positive when the light should be on")
     lines = [Paragraph(f"<b>Fuse {h.fuse_a:g} A</b> (always-on feed) \u00b7 "
                        f"<b>Wire {h.wire_mm2:g} mm² ({h.wire_awg} AWG)</b>", st.body),
-             Paragraph(f"Switched feed: {trigger}", st.body)]
-    sink = report.heat.heatsink_c_per_w
-    if sink is not None:
-        lines.append(Paragraph(f"<b>Q1 heatsink {sink:.1f} °C/W</b> or better ({escape(report.heat.package)})",
-                               st.body))
+             Paragraph(f"Switched feed: {trigger}", st.body),
+             Paragraph("Wires: " + " \u00b7 ".join(escape(runs.label(report.design.spec, net))
+                                                   for net, _ in report.design.topology.wiring)
+                       + ("" if report.design.spec.wires else " (colours as you choose)"), st.body)]
+    m = report.mounting
+    if m is not None:
+        name = f"{m.heatsink.ref} {m.heatsink.part_number}".strip()
+        kit = f" on kit {m.insulator.ref}" if m.insulator else ""
+        lines.append(Paragraph(f"<b>Q1 on heatsink {escape(name)}</b> ({m.heatsink.rating_c_per_w:g} °C/W, "
+                               f"{escape(m.heatsink.package)}){kit}", st.body))
     return _Framed(lines, pad_pt=4.0 * st.gap_pt / 3.0, line_pt=1.2)
 
 
@@ -522,6 +541,16 @@ def card_sides(report: Report, layout: CardLayout) -> dict[str, _Side]:
                          front_h=front_h, back_h=back_h)
         if compact[0] > best[0]:
             best = compact
+    cutoff = [p.ref for p in report.design.netlist.parts if p.role in protection.CUTOFF_ROLES]
+    if cutoff and not all(side.legible for side in best[1].values()):
+        # Still no room for 6 pt labels: leave the over-voltage cut-off off the card's drawing; the parts
+        # line names it and the build sheet draws it.
+        bare = replace(report, design=replace(report.design, netlist=protection.without_cutoff(report.design.netlist)))
+        art = _natural_schematic(bare, compact=branches > 1)
+        art.__dict__["left_out"] = tuple(cutoff)  # a reportlab Drawing refuses unknown attributes by setattr
+        lean = _sides(report, layout, art, inner_w=inner_w, front_h=front_h, back_h=back_h)
+        if lean[0] > best[0]:
+            best = lean
     return best[1]
 
 

@@ -58,6 +58,9 @@ _HALF = {"resistor": 0.3, "capacitor": 0.3, "diode": 0.3, "led": 0.3, "lamp": 0.
 _LED_ARROWS = 0.85  # how far an LED's light arrows reach on their side
 
 
+_BREAKDOWN_ROLES = ("clamp", "surge", "cutoff")
+
+
 class SchemdrawPen:
     """The ``Pen`` of ``sheetgen.circuits.topologies``, drawing onto one schemdraw ``Drawing``.
 
@@ -134,8 +137,15 @@ class SchemdrawPen:
     def diode(self, part: Part, toward: Direction) -> None:
         import schemdraw.elements as elm
 
-        # A clamp is a zener working in breakdown: its symbol warns the builder off fitting a plain rectifier there.
-        self._two_terminal(part, elm.Zener() if part.role == "clamp" else elm.Diode(), toward)
+        # A clamp, a TVS or a cut-off zener works in breakdown: its symbol warns the builder off fitting a plain
+        # rectifier there; the reverse-battery guard is a Schottky and is drawn as one.
+        if part.role in _BREAKDOWN_ROLES:
+            element = elm.Zener()
+        elif part.role == "reverse_polarity":
+            element = elm.Schottky()
+        else:
+            element = elm.Diode()
+        self._two_terminal(part, element, toward)
 
     def npn(self, part: Part) -> None:
         import schemdraw.elements as elm
@@ -227,6 +237,17 @@ class SchemdrawPen:
         radius = TP_RADIUS * 1.3
         self.drawing.add(elm.Dot(open=True, radius=radius).at(self._here))
         self._ask(text.split("\n"), spots_around(self._here, (toward,), radius + GAP), PART)
+
+    def net_label(self, text: str, toward: Direction) -> None:
+        import schemdraw.elements as elm
+
+        self._current()
+        dx, dy = _unit_vector(toward)
+        x, y = self._here
+        tip = (x + dx * STUB, y + dy * STUB)
+        self._line(self._here, tip)
+        self.drawing.add(elm.Dot(radius=TP_RADIUS * 0.8).at(tip))
+        self._ask([text], spots_around(tip, (toward,), TP_RADIUS + GAP), PART)
 
     def test_point(self, label: str, net: str, toward: Direction) -> None:
         import schemdraw.elements as elm
