@@ -33,22 +33,24 @@ def led_model(load: LedLoad) -> Model:
     named = f"_{load.colour.upper().replace(' ', '_')}" if load.colour else ""
     whole, _, fraction = f"{load.vf_v:g}".partition(".")
     name = f"LED{named}_{whole}V{fraction}"  # 3.1 V white: LED_WHITE_3V1, as the RKM code writes it
-    return Model(name=name, kind="D", params=(("IS", float(f"{is_a:.6g}")), ("N", n), ("RS", rs)))
+    # EG (XTI = 0) keeps the colour's temperature coefficient of Vf in the card ngspice reads.
+    eg = float(f"{colour.eg_for(vj_v=v_junction):.6g}")
+    return Model(name=name, kind="D", params=(("IS", float(f"{is_a:.6g}")), ("N", n), ("RS", rs),
+                                              ("EG", eg), ("XTI", 0.0)))
 
 
 def lamp_model(load: LampLoad) -> Model:
     """A filament card: hot resistance from the rating, cold from the resistance law.
 
     The radiation constant K makes the rated power balance at the hot
-    temperature; the heat capacity gives the catalog's thermal time constant
-    around the hot point, where the loop gain of radiation (4P/T) and of the
-    rising resistance (ALPHA P/T) add.
+    temperature; the heat capacity is the mass of a wire sized from the rating
+    times tungsten's specific heat, so a 21 W filament warms slower than a 5 W one.
     """
     f = catalog.filament()
     r_hot = load.rated_v**2 / load.power_w
     r0 = r_hot / (f.t_hot_k / f.t_room_k) ** f.alpha
     k = load.power_w / (f.t_hot_k**4 - f.t_room_k**4)
-    cth = f.tau_s * (4.0 + f.alpha) * load.power_w / f.t_hot_k
+    cth = f.heat_capacity_j_per_k(power_w=load.power_w, rated_v=load.rated_v)
     name = f"LAMP_{load.rated_v:g}V_{load.power_w:g}W".replace(".", "P")
     params = (("R0", float(f"{r0:.6g}")), ("TROOM", f.t_room_k), ("THOT", f.t_hot_k),
               ("ALPHA", f.alpha), ("K", float(f"{k:.6g}")), ("CTH", float(f"{cth:.6g}")))

@@ -20,10 +20,7 @@ from __future__ import annotations
 
 import numpy as np
 
-BOLTZMANN = 1.380649e-23  # J/K, CODATA 2018 exact
-CHARGE = 1.602176634e-19  # C, CODATA 2018 exact
-T_NOMINAL_K = 300.15  # SPICE's default TNOM and TEMP, 27 °C
-VT_NOMINAL = BOLTZMANN * T_NOMINAL_K / CHARGE
+from sheetgen.model.constants import BOLTZMANN, CHARGE, T_NOMINAL_K, VT_NOMINAL  # noqa: F401  (re-exported)
 GMIN = 1e-12  # S, SPICE's default GMIN across every junction
 
 _EXP_LIMIT = 80.0  # exp() argument cap; pnjlim keeps real iterates far below it

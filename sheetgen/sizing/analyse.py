@@ -18,6 +18,7 @@ from sheetgen.parts import eseries
 from sheetgen.parts import installs
 from sheetgen.sizing import abuse
 from sheetgen.sizing import feeds
+from sheetgen.sizing import inrush
 from sheetgen.sizing import instructions
 from sheetgen.sizing import mounting
 from sheetgen.engine import simulate
@@ -54,6 +55,7 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
     op_on = simulate.operating_point(nl, at_s=on_at, overrides=ov, n=2)
     load = tr.i_source("VSUPPLY")
     steady = op_on.i_source("VSUPPLY")
+    inrush.check_peak(design, load[1], supply_v=float(vmax))
 
     curves = Curves(t_s=tr.t_s, load_a=load[0], light=_light(design, tr)[0], timer_v=tr.v("timer")[0])
     heat = _heat(design, tr, op_on)

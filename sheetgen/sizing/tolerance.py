@@ -8,7 +8,8 @@ simulator as overrides, so N draws cost one batched run:
   maximum at the operating current (BF of the typical card scaled by the drawn
   ratio); a MOSFET's threshold uniform over the catalog's range;
 * each LED's forward voltage uniform from half its colour's upward spread below
-  the stated value to the full spread above it (vf_max − vf_typ of the catalog);
+  the stated value to the full spread above it (vf_max − vf_typ of the catalog), plus
+  the colour's temperature coefficient of Vf over the drawn ambient;
 * the supply uniform between the spec's minimum and maximum (feed and always-on
   alike);
 * ambient uniform over the 25 °C below the spec's worst case, which moves the
@@ -86,7 +87,8 @@ def draw(design: "Design", *, n: int = DEFAULT_DRAWS, seed: int = SEED) -> Draws
         spread = (colour.vf_max_v - colour.vf_typ_v) / colour.vf_typ_v
         for led in (p for p in nl.parts if p.kind == "led"):
             dv = spec.load.vf_v * rng.uniform(-spread / 2, spread, n)
-            ov[(led.ref, "IS")] = led.model["IS"] * np.exp(-dv / (led.model["N"] * VT_NOMINAL))
+            ov[(led.ref, "IS")] = (led.model["IS"] * np.exp(-dv / (led.model["N"] * VT_NOMINAL))
+                                   * colour.is_drift(dt, n=led.model["N"]))
     return Draws(n=n, overrides=ov, supply_v=supply, ambient_c=ambient)
 
 

@@ -14,7 +14,7 @@ from functools import lru_cache
 from importlib import resources
 from typing import Any, Iterable
 
-from sheetgen.parts import eseries
+from sheetgen.parts import eseries, led_fit
 from sheetgen.model.netlist import Model, Part
 from sheetgen.errors import SheetgenError, SpecError
 from sheetgen.reader.yamltree import load_data, unknown_key
@@ -47,6 +47,8 @@ __all__ = [
 #: minimum (or the largest maximum stated anywhere on the sheet, whichever is greater).
 #: Common practice, no source; not a datasheet figure.
 HFE_MAX_FACTOR = 3.0
+
+STEFAN_BOLTZMANN = 5.670374419e-8  # W/(m² K⁴), CODATA 2018
 
 
 class UnknownPart(LookupError, SheetgenError):
@@ -95,6 +97,7 @@ class Transistor:
     package: str                  # "TO-92", "TO-126", "TO-220"
     vmax_v: float                 # VCEO (or VDSS for a MOSFET)
     imax_a: float                 # IC (or ID) continuous
+    ipeak_a: float                # ICM (or IDM): the datasheet's peak (pulsed) rating
     pd_free_air_w: float          # at 25 °C ambient, no heatsink
     tj_max_c: float               # maximum junction temperature
     rth_ja_c_per_w: float         # junction to ambient, free air (max)
@@ -181,24 +184,39 @@ class LedColour:
     vf_typ_v: float         # typical forward voltage at at_a
     vf_max_v: float         # maximum forward voltage at at_a
     at_a: float             # test current
-    model: Model            # diode card giving vf_typ_v at at_a
+    vf_low_v: float         # typical forward voltage at 1 % of at_a
+    tc_v_per_c: float       # temperature coefficient of Vf at at_a, V/°C (negative)
+    model: Model            # diode card (IS, N, RS, EG, XTI) through both points, with the tempco
     sources: tuple[str, ...]
+
+    def is_drift(self, dt_c, *, n: float):
+        """Factor on a card's IS that moves its Vf by the colour's tempco over ``dt_c`` from 27 °C."""
+        return led_fit.is_drift(dt_c, n=n, tc_v_per_c=self.tc_v_per_c)
+
+    def eg_for(self, *, vj_v: float) -> float:
+        """EG of a card of this colour whose junction drops ``vj_v`` at its rated current."""
+        return led_fit.eg_for(vj_v=vj_v, tc_v_per_c=self.tc_v_per_c)
 
 
 @dataclass(frozen=True)
 class Filament:
     """Tungsten filament of a small low-voltage bulb, as a thermal state.
 
-    ``tau_s`` is the small-signal time constant at rated voltage:
-    C_th / (4 k t_hot³ + alpha P / t_hot), close to C_th t_hot / ((4 + alpha) P)
-    (see filament.yaml).
+    The wire is sized from the rating: a straight wire of diameter d and length L
+    at ``t_hot_k`` has resistance 4 rho L / (pi d²) = V² / P and radiates
+    emissivity · sigma · T⁴ · pi d L = P from its whole surface (coiling, which
+    shades part of it, is left out).  Its mass times the specific heat is the
+    heat capacity; ``tau_s`` follows per lamp (see filament.yaml).
     """
 
     t_room_k: float         # cold filament temperature
     t_hot_k: float          # filament temperature at rated voltage
     alpha: float            # R(T) = R_cold (T / t_room_k) ** alpha
     cold_fraction: float    # R_cold / R_hot
-    tau_s: float            # thermal time constant at the hot point
+    density_kg_m3: float    # tungsten
+    specific_heat_j_kg_k: float   # tungsten, mean over room to hot
+    resistivity_hot_ohm_m: float  # tungsten at t_hot_k
+    emissivity: float       # total emissivity of tungsten at t_hot_k
     sources: tuple[str, ...]
 
     def hot_resistance_ohm(self, *, power_w: float, rated_v: float) -> float:
@@ -209,11 +227,21 @@ class Filament:
         """Radiation constant k (W/K⁴) so that k (t_hot⁴ − t_room⁴) is the rated power."""
         return power_w / (self.t_hot_k ** 4 - self.t_room_k ** 4)
 
-    def heat_capacity_j_per_k(self, *, power_w: float) -> float:
-        """Filament heat capacity C_th = tau_s (4 k t_hot³ + alpha P / t_hot), J/K."""
-        k = self.radiation_k(power_w=power_w)
-        slope = 4.0 * k * self.t_hot_k ** 3 + self.alpha * power_w / self.t_hot_k
-        return self.tau_s * slope
+    def wire_m(self, *, power_w: float, rated_v: float) -> tuple[float, float]:
+        """(diameter, length) of the filament wire, metres, from the rating."""
+        flux = self.emissivity * STEFAN_BOLTZMANN * self.t_hot_k ** 4           # W/m² of surface
+        d = (4 * self.resistivity_hot_ohm_m * power_w ** 2 / (math.pi ** 2 * rated_v ** 2 * flux)) ** (1 / 3)
+        return d, power_w / (flux * math.pi * d)
+
+    def heat_capacity_j_per_k(self, *, power_w: float, rated_v: float) -> float:
+        """Filament heat capacity C_th = mass · specific heat, J/K."""
+        d, length = self.wire_m(power_w=power_w, rated_v=rated_v)
+        return self.density_kg_m3 * math.pi * d * d / 4 * length * self.specific_heat_j_kg_k
+
+    def tau_s(self, *, power_w: float, rated_v: float) -> float:
+        """Small-signal time constant at rated voltage: C_th / (4 k t_hot³ + alpha P / t_hot)."""
+        slope = 4.0 * self.radiation_k(power_w=power_w) * self.t_hot_k ** 3 + self.alpha * power_w / self.t_hot_k
+        return self.heat_capacity_j_per_k(power_w=power_w, rated_v=rated_v) / slope
 
     def lamp_model(self, *, power_w: float, rated_v: float, name: str = "LAMP") -> Model:
         """A LAMP model card (R0, TROOM, THOT, ALPHA, K, CTH) for a bulb of this rating."""
@@ -229,7 +257,7 @@ class Filament:
                 ("THOT", self.t_hot_k),
                 ("ALPHA", self.alpha),
                 ("K", self.radiation_k(power_w=power_w)),
-                ("CTH", self.heat_capacity_j_per_k(power_w=power_w)),
+                ("CTH", self.heat_capacity_j_per_k(power_w=power_w, rated_v=rated_v)),
             ),
         )
 
@@ -529,7 +557,7 @@ def _list(data: Any, key: str, where: str) -> list:
 
 
 _TRANSISTOR_KEYS = (
-    "part_number", "polarity", "darlington", "package", "vmax_v", "imax_a",
+    "part_number", "polarity", "darlington", "package", "vmax_v", "imax_a", "ipeak_a",
     "pd_free_air_w", "tj_max_c", "rth_ja_c_per_w", "rth_jc_c_per_w", "rth_cs_c_per_w",
     "hfe", "vce_sat", "vgs_th_v", "rds_on_ohm", "rds_on_vgs_v", "vgs_max_v", "model",
     "sources", "pinout",
@@ -577,6 +605,7 @@ def _transistor(data: Any, where: str) -> Transistor:
         package=e.text("package"),
         vmax_v=e.num("vmax_v"),
         imax_a=e.num("imax_a"),
+        ipeak_a=e.num("ipeak_a"),
         pd_free_air_w=e.num("pd_free_air_w"),
         tj_max_c=e.num("tj_max_c"),
         rth_ja_c_per_w=e.num("rth_ja_c_per_w"),
@@ -594,6 +623,8 @@ def _transistor(data: Any, where: str) -> Transistor:
     )
     if sorted(t.pinout) != sorted("DGS" if polarity == "nmos" else "BCE"):
         raise CatalogDataError(f"{where}.pinout: {t.pinout!r} must name each lead once")
+    if t.ipeak_a < t.imax_a:
+        raise CatalogDataError(f"{where}.ipeak_a: below the continuous imax_a")
     for p in t.hfe:
         if p.ic_a <= 0 or p.min <= 0:
             raise CatalogDataError(f"{where}: hFE points need positive current and minimum")
@@ -616,13 +647,22 @@ def _diode(data: Any, where: str) -> Diode:
 
 
 def _led(data: Any, where: str) -> LedColour:
-    e = _Entry(data, where, ("name", "vf_typ_v", "vf_max_v", "at_a", "model", "sources"))
-    model = _model(e.raw("model"), f"{where}.model")
-    if model.kind != "D":
-        raise CatalogDataError(f"{where}.model.kind must be D")
-    led = LedColour(name=_norm_name(e.text("name")), vf_typ_v=e.num("vf_typ_v"),
-                    vf_max_v=e.num("vf_max_v"), at_a=e.num("at_a"), model=model,
-                    sources=e.sources())
+    e = _Entry(data, where, ("name", "vf_typ_v", "vf_max_v", "at_a", "vf_low_v", "tc_v_per_c",
+                             "model", "sources"))
+    given = _model(e.raw("model"), f"{where}.model")
+    if given.kind != "D" or [k for k, _ in given.params] != ["RS"]:
+        raise CatalogDataError(f"{where}.model: kind D with params {{RS}} only; IS, N and EG are fitted")
+    vf, at, vf_low, tc = e.num("vf_typ_v"), e.num("at_a"), e.num("vf_low_v"), e.num("tc_v_per_c")
+    if not 0 < vf_low < vf or tc >= 0:
+        raise CatalogDataError(f"{where}: vf_low_v must lie between 0 and vf_typ_v, tc_v_per_c below 0")
+    rs = given["RS"]
+    is_a, n = led_fit.fit(vf_hi_v=vf, i_hi_a=at, vf_lo_v=vf_low, i_lo_a=at / 100, rs_ohm=rs)
+    eg = led_fit.eg_for(vj_v=vf - at * rs, tc_v_per_c=tc)
+    model = Model(name=given.name, kind="D", params=(
+        ("IS", float(f"{is_a:.6g}")), ("N", float(f"{n:.6g}")), ("RS", rs),
+        ("EG", float(f"{eg:.6g}")), ("XTI", 0.0)))
+    led = LedColour(name=_norm_name(e.text("name")), vf_typ_v=vf, vf_max_v=e.num("vf_max_v"), at_a=at,
+                    vf_low_v=vf_low, tc_v_per_c=tc, model=model, sources=e.sources())
     if led.vf_max_v < led.vf_typ_v:
         raise CatalogDataError(f"{where}: vf_max_v below vf_typ_v")
     return led
@@ -714,7 +754,8 @@ def led_colour(name: str) -> LedColour:
 def filament() -> Filament:
     """The tungsten filament used for every lamp load."""
     e = _Entry(_read("filament.yaml"), "filament.yaml",
-               ("t_room_k", "t_hot_k", "alpha", "cold_fraction", "tau_s", "sources"))
+               ("t_room_k", "t_hot_k", "alpha", "cold_fraction", "density_kg_m3", "specific_heat_j_kg_k",
+                "resistivity_hot_ohm_m", "emissivity", "sources"))
     t_room, t_hot, alpha = e.num("t_room_k"), e.num("t_hot_k"), e.num("alpha")
     if not 0 < t_room < t_hot:
         raise CatalogDataError("filament.yaml: need 0 < t_room_k < t_hot_k")
@@ -722,7 +763,9 @@ def filament() -> Filament:
     if cold is None:
         cold = (t_room / t_hot) ** alpha
     return Filament(t_room_k=t_room, t_hot_k=t_hot, alpha=alpha, cold_fraction=cold,
-                    tau_s=e.num("tau_s"), sources=e.sources())
+                    density_kg_m3=e.num("density_kg_m3"), specific_heat_j_kg_k=e.num("specific_heat_j_kg_k"),
+                    resistivity_hot_ohm_m=e.num("resistivity_hot_ohm_m"), emissivity=e.num("emissivity"),
+                    sources=e.sources())
 
 
 @lru_cache(maxsize=None)
