@@ -13,6 +13,19 @@ from sheetgen import __version__
 from sheetgen.errors import InfeasibleDesign, SheetgenError, SpecError
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_INFEASIBLE = 0, 1, 2, 3
+MIN_DRAWS, MAX_DRAWS = 50, 20000  # the default (500) is the tolerance module's
+
+
+def _draws(text: str) -> int:
+    """``--draws N``: a whole number of tolerance draws, enough to say something about a spread."""
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"give a whole number of draws ({MIN_DRAWS} to {MAX_DRAWS})") from None
+    if not MIN_DRAWS <= n <= MAX_DRAWS:
+        raise argparse.ArgumentTypeError(f"{n}: give {MIN_DRAWS} to {MAX_DRAWS} draws (fewer say little about "
+                                         "a spread; more take long and add nothing)")
+    return n
 
 
 def _topologies() -> tuple[str, ...]:
@@ -32,7 +45,7 @@ def cmd_size(args) -> int:
     from sheetgen.outputs.summary import summary_text
     from sheetgen.sizing.cache import report_for
 
-    report = report_for(_spec(args.spec))
+    report = report_for(_spec(args.spec), draws=args.draws)
     print(report_json(report) if args.json else summary_text(report))
     return EXIT_OK
 
@@ -48,7 +61,7 @@ def cmd_check(args) -> int:
     return EXIT_OK
 
 
-def _sheet(spec, *, layout, out: str) -> int:
+def _sheet(spec, *, layout, out: str, draws: int | None = None) -> int:
     """Check the output path first, then size, analyse (or find the stored design) and write the sheet or cards."""
     from sheetgen.inputs.layout import CardLayout
     from sheetgen.outputs.pdf.sheet import build_sheet, sheet_date
@@ -57,7 +70,7 @@ def _sheet(spec, *, layout, out: str) -> int:
 
     check_writable(out)
     sheet_date()  # a malformed SOURCE_DATE_EPOCH is bad input: say so before the slow part
-    report = report_for(spec)
+    report = report_for(spec, draws=draws)
     if isinstance(layout, CardLayout):
         from sheetgen.outputs.pdf.cards import render_cards, single_design_cards
 
@@ -82,7 +95,7 @@ def cmd_build(args) -> int:
                         f"(e.g. {Path(out).with_suffix('.pdf').name})")
     if Path(out).resolve() == Path(args.spec).resolve():
         raise SpecError(f"-o {out}: would overwrite the spec itself; give a .pdf name")
-    return _sheet(spec, layout=layout, out=out)
+    return _sheet(spec, layout=layout, out=out, draws=args.draws)
 
 
 def cmd_demo(args) -> int:
@@ -120,6 +133,9 @@ def parser() -> argparse.ArgumentParser:
                        description="Size a fader for SPEC, simulate it and print a summary.")
     s.add_argument("spec", metavar="SPEC", help="spec file (YAML)")
     s.add_argument("--json", action="store_true", help="print the full JSON report instead of the summary")
+    s.add_argument("--draws", type=_draws, metavar="N",
+                   help=f"tolerance draws the spread and bench ranges are taken over (default 500; {MIN_DRAWS} to "
+                        f"{MAX_DRAWS})")
     s.set_defaults(func=cmd_size)
 
     c = sub.add_parser("check", help="say whether a spec is valid and can be met",
@@ -132,6 +148,9 @@ def parser() -> argparse.ArgumentParser:
                        description="Size a fader for SPEC and write the build sheet: summary, cautions, timing, "
                                    "schematic, parts list, bench readings, heat and wiring steps.")
     b.add_argument("spec", metavar="SPEC", help="spec file (YAML)")
+    b.add_argument("--draws", type=_draws, metavar="N",
+                   help=f"tolerance draws the spread and bench ranges are taken over (default 500; {MIN_DRAWS} to "
+                        f"{MAX_DRAWS})")
     b.add_argument("-o", "--output", metavar="OUT.pdf",
                    help="where to write the sheet (default: the spec's name with .pdf, in the current folder)")
     b.add_argument("--layout", metavar="NAME|FILE",

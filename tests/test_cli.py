@@ -119,3 +119,28 @@ def test_deck_runs_as_it_stands_in_batch_mode(camper_json, tmp_path):
 @pytest.mark.parametrize("example", EXAMPLES, ids=lambda p: p.stem)
 def test_every_example_can_be_met(example, capsys):
     assert main(["check", str(example)]) == 0
+
+
+RAILWAY = Path(__file__).parent.parent / "examples" / "model-railway-station.yaml"
+
+
+def test_draws_sets_how_many_tolerance_draws_the_report_is_taken_over(capsys):
+    assert main(["size", str(RAILWAY), "--json", "--draws", "120"]) == 0
+    report = json.loads(capsys.readouterr().out)
+    assert report["tolerance"]["draws"] == 120
+    spread = report["tolerance"]["fade_in_s"]
+    assert spread["p5"] <= spread["p50"] <= spread["p95"]
+
+
+@pytest.mark.parametrize("value", ["10", "many", "1e9"])
+def test_draws_outside_its_range_is_bad_input(value, capsys):
+    with pytest.raises(SystemExit) as stop:
+        main(["size", str(RAILWAY), "--draws", value])
+    assert stop.value.code == 2
+    assert "--draws" in capsys.readouterr().err
+
+
+def test_build_takes_draws_too(tmp_path, capsys):
+    out = tmp_path / "railway.pdf"
+    assert main(["build", str(RAILWAY), "--draws", "60", "-o", str(out)]) == 0
+    assert out.read_bytes().startswith(b"%PDF")

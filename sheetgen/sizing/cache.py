@@ -180,27 +180,34 @@ def _as_read_from(report: Report, spec: Spec) -> Report:
     return replace(report, design=replace(report.design, spec=spec))
 
 
-def cached_report(spec: Spec, cache: DesignCache | None = None) -> Report | None:
+def cached_report(spec: Spec, cache: DesignCache | None = None, *,
+                  draws: int = tolerance.DEFAULT_DRAWS) -> Report | None:
     """The stored Report for ``spec``, or None when it has not been worked out with this code yet."""
-    found = (cache or DesignCache()).get(design_key(spec))
+    found = (cache or DesignCache()).get(design_key(spec, draws=draws))
     return _as_read_from(found, spec) if isinstance(found, Report) else None
 
 
-def store_report(spec: Spec, report: Report, cache: DesignCache | None = None) -> None:
+def store_report(spec: Spec, report: Report, cache: DesignCache | None = None, *,
+                 draws: int = tolerance.DEFAULT_DRAWS) -> None:
     """Keep ``report`` as the Report of ``spec`` for later runs."""
-    (cache or DesignCache()).put(design_key(spec), report)
+    (cache or DesignCache()).put(design_key(spec, draws=draws), report)
 
 
-def report_for(spec: Spec, *, cache: DesignCache | None = None) -> Report:
-    """The Report for ``spec``: stored, or analysed now (from a stored or a fresh Design) and stored."""
+def report_for(spec: Spec, *, cache: DesignCache | None = None, draws: int | None = None) -> Report:
+    """The Report for ``spec`` over ``draws`` tolerance draws (None: the default): stored, or analysed now and stored.
+
+    The sizer's own yield check keeps its fixed draws; ``draws`` sets how many the
+    report's spread, bench ranges and band of curves are taken over.
+    """
     from sheetgen.sizing.analyse import analyse
 
     cache = cache or DesignCache()
-    found = cached_report(spec, cache)
+    draws = tolerance.DEFAULT_DRAWS if draws is None else draws
+    found = cached_report(spec, cache, draws=draws)
     if found is not None:
         return found
-    report = analyse(design_for(spec, cache=cache))
-    store_report(spec, report, cache)
+    report = analyse(design_for(spec, cache=cache), draws=draws)
+    store_report(spec, report, cache, draws=draws)
     return report
 
 
