@@ -287,7 +287,7 @@ def test_build_with_a_card_layout_writes_a_sheet_of_cards(camper_report, tmp_pat
 
     camper = Path(__file__).parents[2] / "examples" / "camper-van-step-light.yaml"
     monkeypatch.setattr("sheetgen.sizing.size.size", lambda spec: camper_report.design)
-    monkeypatch.setattr("sheetgen.sizing.analyse.analyse", lambda design: camper_report)
+    monkeypatch.setattr("sheetgen.sizing.analyse.analyse", lambda design, **_: camper_report)
     monkeypatch.chdir(tmp_path)
     assert main(["build", str(camper), "--layout", "a6-card"]) == 0
     out = tmp_path / "camper-van-step-light-cards.pdf"

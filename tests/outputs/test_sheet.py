@@ -243,7 +243,7 @@ def test_demo_writes_its_sheet_in_the_current_folder_and_prints_the_path(report,
     assert demo_spec().title.startswith("Camper van")  # the built-in spec passes the spec checker
     seen = []
     monkeypatch.setattr("sheetgen.sizing.size.size", lambda spec: seen.append(spec) or report.design)
-    monkeypatch.setattr("sheetgen.sizing.analyse.analyse", lambda design: report)
+    monkeypatch.setattr("sheetgen.sizing.analyse.analyse", lambda design, **_: report)
     monkeypatch.chdir(tmp_path)
     assert main(["demo"]) == 0
     assert seen and seen[0] == demo_spec()
@@ -253,7 +253,7 @@ def test_demo_writes_its_sheet_in_the_current_folder_and_prints_the_path(report,
 
 def test_build_defaults_to_the_spec_name_in_the_current_folder(report, tmp_path, monkeypatch, capsys):
     monkeypatch.setattr("sheetgen.sizing.size.size", lambda spec: report.design)
-    monkeypatch.setattr("sheetgen.sizing.analyse.analyse", lambda design: report)
+    monkeypatch.setattr("sheetgen.sizing.analyse.analyse", lambda design, **_: report)
     monkeypatch.chdir(tmp_path)
     assert main(["build", str(CAMPER), "--layout", "letter-sheet"]) == 0
     assert capsys.readouterr().out.strip() == str(tmp_path / "camper-van-step-light.pdf")
