@@ -18,7 +18,7 @@ from sheetgen.model.netlist import Part
 from sheetgen.parts import catalog, protective
 from sheetgen.sizing import protection
 from sheetgen.sizing.report import AbuseCase, Stress
-from sheetgen.sizing.size import Design
+from sheetgen.sizing.design import Design
 
 __all__ = ["abuse_cases", "VEBO_V", "LED_VR_V", "CAP_REVERSE_V"]
 

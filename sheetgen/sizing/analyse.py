@@ -27,7 +27,8 @@ from sheetgen.sizing import tolerance
 from sheetgen.model.netlist import GROUND, Part
 from sheetgen.engine.measure import fade_times
 from sheetgen.sizing.report import BenchReading, Curves, Harness, Heat, Report, ResistorHeat, TuningRow
-from sheetgen.sizing.size import C_MAX_F, C_MIN_F, R_BLEED_RANGE, R_CHARGE_RANGE, TJ_LIMIT_C, Design, load_line_peak_w
+from sheetgen.sizing.design import Design
+from sheetgen.sizing.size import C_MAX_F, C_MIN_F, R_BLEED_RANGE, R_CHARGE_RANGE, TJ_LIMIT_C, load_line_peak_w
 from sheetgen.inputs.spec import LampLoad
 
 #: Blade-fuse ratings in amperes (ISO 8820-3 sizes; from memory).

@@ -37,7 +37,7 @@ from sheetgen import __version__
 from sheetgen.inputs.spec import Spec
 from sheetgen.sizing import tolerance
 from sheetgen.sizing.report import Report
-from sheetgen.sizing.size import Design
+from sheetgen.sizing.design import Design
 
 __all__ = ["ENV_DIR", "MAX_BYTES", "DesignCache", "code_fingerprint", "design_key", "cached_report", "store_report",
            "report_for", "design_for", "bypass"]

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from sheetgen.inputs.units import format_quantity
 from sheetgen.sizing.report import BenchReading
-from sheetgen.sizing.size import Design
+from sheetgen.sizing.design import Design
 
 __all__ = ["with_door_test"]
 

@@ -23,7 +23,7 @@ from sheetgen.model.netlist import GROUND, Part
 from sheetgen.sizing import mounting
 from sheetgen.sizing import runs as offboard
 from sheetgen.sizing.report import Brief, Harness, Heat
-from sheetgen.sizing.size import Design
+from sheetgen.sizing.design import Design
 from sheetgen.inputs.spec import LampLoad
 from sheetgen.inputs.units import format_quantity
 

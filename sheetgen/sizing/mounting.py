@@ -16,7 +16,8 @@ import math
 
 from sheetgen.parts import heatsinks
 from sheetgen.sizing.report import Hardware, Heat, Mounting
-from sheetgen.sizing.size import HEATSINK_MIN_C_PER_W, Design
+from sheetgen.sizing.design import Design
+from sheetgen.sizing.size import HEATSINK_MIN_C_PER_W
 
 __all__ = ["choose", "with_steps", "heat_cautions", "free_air_words", "TAB_PIN"]
 

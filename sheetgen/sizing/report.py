@@ -12,7 +12,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from sheetgen.board.model import Board
-from sheetgen.sizing.size import Design
+from sheetgen.sizing.design import Design
 from sheetgen.sizing.tolerance import Spread
 
 

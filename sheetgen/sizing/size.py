@@ -35,6 +35,7 @@ from sheetgen.engine.measure import fade_times
 from sheetgen.inputs.spec import LedLoad, Spec
 from sheetgen.circuits.topologies import INPUT_PNP, TOPOLOGIES, Stage, Topology, Values, Window, topologies_for, window_for
 from sheetgen.inputs.units import format_quantity
+from sheetgen.sizing.design import Design
 
 ACCURACY = 0.10  # achieved fade times within ±10 % of the request
 OVERDRIVE_MIN = 1.5  # Ib ≥ 1.5 · Ic / hFE_min at minimum supply (margin: common practice, no source)
@@ -58,22 +59,6 @@ C_PENALTY = 0.01  # a tenfold larger capacitor must buy 2.3 % of accuracy: cans 
 ROUNDS = 4
 SETTLE_TAUS = 5.0  # the capacitor is within 1 % of its final voltage after five time constants
 YIELD_ATTEMPTS = 3
-
-
-@dataclass(frozen=True)
-class Design:
-    """A sized fader: the chosen parts, its netlist and what it achieves at nominal."""
-
-    spec: Spec
-    topology: Topology
-    values: Values
-    netlist: "object"
-    load_current_a: float
-    fade_in_s: float
-    fade_out_s: float
-    overdrive: float
-    reasons: tuple[str, ...]
-    full_brightness_yield: float = float("nan")  # over the tolerance draws, set once accepted
 
 
 def size(spec: Spec) -> Design:

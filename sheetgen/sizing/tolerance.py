@@ -35,7 +35,7 @@ from sheetgen.engine.measure import fade_times
 from sheetgen.inputs.spec import LedLoad
 
 if TYPE_CHECKING:
-    from sheetgen.sizing.size import Design
+    from sheetgen.sizing.design import Design
 
 DEFAULT_DRAWS = 500
 SEED = 60062  # fixed, so the same spec gives the same report

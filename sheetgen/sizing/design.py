@@ -1,0 +1,28 @@
+"""The sized design: what the sizer chose and what it achieves, read by every analysis after it.
+
+Its own module so that the tolerance draws, the analysis and the sizer, which
+uses both, all build on it without importing one another in a circle.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from sheetgen.circuits.topologies import Topology, Values
+from sheetgen.inputs.spec import Spec
+
+
+@dataclass(frozen=True)
+class Design:
+    """A sized fader: the chosen parts, its netlist and what it achieves at nominal."""
+
+    spec: Spec
+    topology: Topology
+    values: Values
+    netlist: "object"
+    load_current_a: float
+    fade_in_s: float
+    fade_out_s: float
+    overdrive: float
+    reasons: tuple[str, ...]
+    full_brightness_yield: float = float("nan")  # over the tolerance draws, set once accepted
