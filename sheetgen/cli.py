@@ -184,14 +184,18 @@ def parser() -> argparse.ArgumentParser:
 
 
 class _Stopped(BaseException):
-    """SIGTERM or Ctrl-C: unwinds through every clean-up (temporary files, made folders), caught only in main."""
+    """SIGTERM or Ctrl-C: unwinds through every clean-up (temporary files, made folders), caught only in main.
 
-    def __init__(self, signum: int) -> None:
-        super().__init__(signum)
-        self.signum = signum
+    Libraries may re-raise it rebuilt with their own message (reportlab does, from inside a
+    paragraph), so the signal's number is kept in _RECEIVED rather than in the exception.
+    """
+
+
+_RECEIVED: list[int] = []
 
 
 def _stop(signum, _frame) -> None:
+    _RECEIVED.append(int(signum))
     raise _Stopped(signum)
 
 
@@ -202,6 +206,7 @@ def _catch_signals():
 
     if threading.current_thread() is not threading.main_thread():
         return {}
+    _RECEIVED.clear()
     previous = {}
     for signum in (signal.SIGTERM, signal.SIGINT):
         previous[signum] = signal.signal(signum, _stop)
@@ -229,7 +234,7 @@ def main(argv: list[str] | None = None) -> int:
         print(f"error: {exc}", file=sys.stderr)
         return EXIT_INTERNAL
     except (_Stopped, KeyboardInterrupt) as exc:
-        signum = exc.signum if isinstance(exc, _Stopped) else signal.SIGINT
+        signum = _RECEIVED[-1] if isinstance(exc, _Stopped) and _RECEIVED else signal.SIGINT
         print("stopped; nothing new was written", file=sys.stderr)
         return 128 + int(signum)
     except Exception as exc:  # never a traceback for the user; say what broke

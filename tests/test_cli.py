@@ -144,3 +144,22 @@ def test_build_takes_draws_too(tmp_path, capsys):
     out = tmp_path / "railway.pdf"
     assert main(["build", str(RAILWAY), "--draws", "60", "-o", str(out)]) == 0
     assert out.read_bytes().startswith(b"%PDF")
+
+
+def test_a_signal_rebuilt_by_a_library_still_exits_128_plus_its_number(monkeypatch, capsys):
+    """reportlab re-raises an exception from inside a paragraph as type(exc)(its own message),
+    so the signal number cannot ride on the exception (reportlab.lib.utils.rl_reraise)."""
+    import signal
+
+    from sheetgen import cli
+
+    def interrupted(_args):
+        try:
+            cli._stop(signal.SIGTERM, None)
+        except cli._Stopped as exc:
+            raise type(exc)("paragraph text '<para>x</para>' caused exception 2") from exc
+        return 0
+
+    monkeypatch.setattr(cli, "cmd_check", interrupted)
+    assert main(["check", "no-such.yaml"]) == 128 + signal.SIGTERM
+    assert "stopped; nothing new was written" in capsys.readouterr().err
