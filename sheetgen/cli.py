@@ -56,8 +56,8 @@ def cmd_check(args) -> int:
     spec = _spec(args.spec)
     design = design_for(spec)
     print(f"{args.spec}: OK: {design.topology.title} with {design.values.transistor.part_number}; "
-          f"fade-in {design.fade_in_s:.2f} s (asked {spec.fade_in_s:g} s), "
-          f"fade-out {design.fade_out_s:.2f} s (asked {spec.fade_out_s:g} s)")
+          f"light dark {design.delay_on_s:.2f} s, fade-in {design.fade_in_s:.2f} s (asked {spec.fade_in_s:g} s); "
+          f"held {design.hold_off_s:.2f} s, fade-out {design.fade_out_s:.2f} s (asked {spec.fade_out_s:g} s)")
     return EXIT_OK
 
 

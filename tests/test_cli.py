@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 
 from sheetgen.cli import main
-from sheetgen.engine.measure import fade_times
+from sheetgen.engine.measure import TIMES, light_times
 from sheetgen.outputs.spice_run import run_transient
 
 EXAMPLES = sorted((Path(__file__).parent.parent / "examples").glob("*.yaml"))
@@ -99,12 +99,14 @@ def test_json_report_contract(camper_json):
 def test_json_deck_runs_in_ngspice_and_agrees(camper_json):
     """ngspice 39 (Debian) runs the exported deck as it stands and confirms the reported times within 2 %."""
     d = camper_json
-    data = run_transient(d["spice"], vectors=["i(vsupply)"])
+    data = run_transient(d["spice"], vectors=["i(vsupply)", "v(light)"])
     t, i = data["time"], -data["i(vsupply)"]
     steady = np.interp(d["release_s"] * 0.999, t, i)
-    t_in, t_out = fade_times(t, i[None, :], release_s=d["release_s"], steady_a=np.array([steady]))
-    assert t_in[0] == pytest.approx(d["fade_in_s"], rel=0.02)
-    assert t_out[0] == pytest.approx(d["fade_out_s"], rel=0.02)
+    # The deck's own light node, read with the contract's levels, gives the report's four times.
+    times = light_times(t, data["v(light)"][None, :], release_s=d["release_s"], full=np.ones(1))
+    for name in TIMES:
+        assert getattr(times, name)[0] == pytest.approx(d[name], rel=0.02), name
+    assert np.interp(d["release_s"] * 0.999, t, data["v(light)"]) == pytest.approx(1.0, rel=0.01)
     assert steady == pytest.approx(d["load_current_a"], rel=0.01)
 
 

@@ -166,12 +166,3 @@ def lamp(v, t_k, *, r0_ohm, t_room_k, alpha, k_w_per_k4):
     dp_dv = 2.0 * v / r
     dp_dt = v * di_dt - 4.0 * k_w_per_k4 * t_k**3
     return i, di_dv, di_dt, p_net, dp_dv, dp_dt
-
-
-def lamp_light(t_k, *, t_hot_k, exponent=8.8):
-    """Relative light output of a filament at temperature ``t_k`` (1.0 at rated).
-
-    Flux rises as V^3.4 (lamptech.co.uk "Voltage Variation Effects"); with
-    R ∝ T^1.2 and radiation ∝ T^4 at steady state, V ∝ T^2.6, so flux ∝ T^8.8.
-    """
-    return (np.maximum(t_k, 0.0) / t_hot_k) ** exponent

@@ -1,27 +1,53 @@
-"""Fade times measured on simulated load current, by the contract's definitions.
+"""The four times a builder sees, read from the load's relative light output.
 
-``fade_in_s``: from the trigger being applied (t = 0) until the load current
-first reaches 90 % of its steady on value.  ``fade_out_s``: from the trigger
-being removed until the load current falls to 10 % of that steady value and
-stays below.  Crossings are interpolated linearly between time points.
+Reference levels are the 10 % and 90 % of IEEE Std 181-2011 ("IEEE Standard for
+Transitions, Pulses, and Related Waveforms": transition duration is read between
+the 10 % and 90 % reference levels; the clause number not checked here).  Light is relative: 1.0 is the
+steady light with the feed on.
+
+* ``delay_on_s``: feed on → light first reaches the low level (darkness first);
+* ``fade_in_s``: light from the low level to the high level (the visible fade-in);
+* ``hold_off_s``: feed off → light first falls below the high level (still at full);
+* ``fade_out_s``: light from the high level until it falls below the low level and
+  stays there (the visible fade-out).
+
+Crossings are interpolated linearly between time points; NaN marks a crossing
+that does not happen inside the simulated window.
 """
 
 from __future__ import annotations
 
+from typing import NamedTuple
+
 import numpy as np
 
-FADE_IN_LEVEL = 0.90
-FADE_OUT_LEVEL = 0.10
+LOW = 0.10
+HIGH = 0.90
+TIMES = ("delay_on_s", "fade_in_s", "hold_off_s", "fade_out_s")
 
+_low, _high = f"{LOW:.0%}".replace("%", " %"), f"{HIGH:.0%}".replace("%", " %")
 DEFINITIONS = {
-    "fade_in_s": "from the feed switching on until the load current first reaches 90 % of its steady on value",
-    "fade_out_s": "from the feed switching off until the load current falls to 10 % of that steady value",
+    "delay_on_s": f"from the feed switching on until the light first reaches {_low} of full",
+    "fade_in_s": f"the light rising from {_low} to {_high} of full",
+    "hold_off_s": f"from the feed switching off until the light first falls below {_high} of full",
+    "fade_out_s": f"the light falling from {_high} to {_low} of full",
 }
+#: What "full" means on every page that prints the definitions.
+FULL_MEANS = "full: the steady light with the feed on"
 
 
-def _first_crossing_up(t: np.ndarray, y: np.ndarray, level: np.ndarray) -> np.ndarray:
-    """First time each row of ``y`` (N, T) reaches ``level`` (N,); NaN if never."""
-    above = y >= level[:, None]
+class LightTimes(NamedTuple):
+    """The four times, each of shape (N,)."""
+
+    delay_on_s: np.ndarray
+    fade_in_s: np.ndarray
+    hold_off_s: np.ndarray
+    fade_out_s: np.ndarray
+
+
+def _first_crossing_up(t: np.ndarray, y: np.ndarray, level: float) -> np.ndarray:
+    """First time each row of ``y`` (N, T) reaches ``level``; NaN if never."""
+    above = y >= level
     hit = above.any(axis=1)
     k = np.argmax(above, axis=1)
     km = np.maximum(k - 1, 0)
@@ -34,9 +60,14 @@ def _first_crossing_up(t: np.ndarray, y: np.ndarray, level: np.ndarray) -> np.nd
     return np.where(hit, out, np.nan)
 
 
-def _last_crossing_down(t: np.ndarray, y: np.ndarray, level: np.ndarray) -> np.ndarray:
+def _first_crossing_down(t: np.ndarray, y: np.ndarray, level: float) -> np.ndarray:
+    """First time each row falls below ``level``; NaN if never."""
+    return _first_crossing_up(t, -y, -level)
+
+
+def _last_crossing_down(t: np.ndarray, y: np.ndarray, level: float) -> np.ndarray:
     """Time after which each row stays below ``level``; NaN if it never gets there."""
-    above = y > level[:, None]
+    above = y > level
     never_above = ~above.any(axis=1)
     last = y.shape[1] - 1 - np.argmax(above[:, ::-1], axis=1)
     ends_above = above[:, -1]
@@ -50,15 +81,26 @@ def _last_crossing_down(t: np.ndarray, y: np.ndarray, level: np.ndarray) -> np.n
     return np.where(ends_above, np.nan, out)
 
 
-def fade_times(t_s: np.ndarray, load_a: np.ndarray, *, release_s: float, steady_a: np.ndarray):
-    """Fade-in and fade-out times (N,) from load current traces (N, T).
+def light_times(t_s: np.ndarray, light: np.ndarray, *, release_s: float, full: np.ndarray) -> LightTimes:
+    """The four times (N,) from light traces (N, T) in any unit, ``full`` (N,) in the same unit.
 
-    ``steady_a`` is each row's steady on current.  NaN marks a fade that does
-    not complete inside the simulated window.
+    Each row is read against its own ``full`` (its steady light with the feed
+    on), so the times describe the shape of the fade; how bright it gets is a
+    separate figure.
     """
-    steady = np.asarray(steady_a, dtype=float)
+    rel = light / np.asarray(full, dtype=float)[:, None]
     on = t_s <= release_s
-    t_in = _first_crossing_up(t_s[on], load_a[:, on], FADE_IN_LEVEL * steady)
+    t_on, rel_on = t_s[on], rel[:, on]
+    t10 = _first_crossing_up(t_on, rel_on, LOW)
+    t90 = _first_crossing_up(t_on, rel_on, HIGH)
     off = t_s >= release_s
-    t_out = _last_crossing_down(t_s[off], load_a[:, off], FADE_OUT_LEVEL * steady) - release_s
-    return t_in, t_out
+    t_off, rel_off = t_s[off] - release_s, rel[:, off]
+    hold = _first_crossing_down(t_off, rel_off, HIGH)
+    gone = _last_crossing_down(t_off, rel_off, LOW)
+    return LightTimes(delay_on_s=t10, fade_in_s=t90 - t10, hold_off_s=hold, fade_out_s=gone - hold)
+
+
+def steady_light(t_s: np.ndarray, light: np.ndarray, *, release_s: float) -> np.ndarray:
+    """Each row's light just before the feed goes off: the steady light with the feed on (N,)."""
+    k = int(np.searchsorted(t_s, release_s, side="right")) - 1
+    return light[:, max(k, 0)]

@@ -8,7 +8,8 @@ from sheetgen.inputs.wires import RUN_NAMES
 from sheetgen.parts import installs
 from sheetgen.sizing import runs
 from sheetgen.sizing.report import Report
-from sheetgen.engine.measure import DEFINITIONS
+from sheetgen.engine.measure import DEFINITIONS, TIMES
+from sheetgen.sizing.size import delay_limits
 from sheetgen.outputs.spice import spice_deck
 
 
@@ -67,6 +68,13 @@ def install_entry(spec) -> dict:
             "wire_min_mm2": place.wire_min_mm2, "supply_system": spec.system}
 
 
+def corner_entry(c) -> dict:
+    """One corner of supply, gain and temperature, as the JSON contract names its keys."""
+    return {"supply_v": c.supply_v, "gain": c.gain, "temp_c": c.temp_c, **c.times,
+            "light_fraction": c.light_fraction, "drive_fraction": c.drive_fraction,
+            "led_current_max_a": c.led_current_max_a, "tj_max_c": c.tj_max_c}
+
+
 def report_dict(report: Report) -> dict:
     """The JSON report: the contract's keys first, then the rest of what was computed."""
     d = report.design
@@ -78,11 +86,17 @@ def report_dict(report: Report) -> dict:
                  + [hardware_entry(h, on=report.mounting.transistor) for h in
                     (report.mounting.hardware if report.mounting else ())],
         "load_current_a": d.load_current_a,
+        "delay_on_s": d.delay_on_s,
         "fade_in_s": d.fade_in_s,
+        "hold_off_s": d.hold_off_s,
         "fade_out_s": d.fade_out_s,
         "release_s": d.netlist.release_s,
         "requested": {"fade_in_s": spec.fade_in_s, "fade_out_s": spec.fade_out_s},
+        "limits": dict(zip(("delay_on_s", "hold_off_s"), delay_limits(spec))),
         "definitions": dict(DEFINITIONS),
+        "corners": [corner_entry(c) for c in d.corners],
+        "led_current_a": report.led_current_a,
+        "led_rated_a": spec.load.current_a if report.led_current_a is not None else None,
         "supply": {"nominal_v": spec.supply.nominal_v, "min_v": spec.supply.min_v, "max_v": spec.supply.max_v},
         "ambient_c": spec.ambient_c,
         "install": install_entry(spec),
@@ -110,18 +124,17 @@ def report_dict(report: Report) -> dict:
                   for b in report.bench],
         "tolerance": {
             "draws": report.spread.draws,
-            "fade_in_s": dict(zip(("p5", "p50", "p95"), report.spread.fade_in_s)),
-            "fade_out_s": dict(zip(("p5", "p50", "p95"), report.spread.fade_out_s)),
+            **{name: dict(zip(("p5", "p50", "p95"), getattr(report.spread, name))) for name in TIMES},
             "full_brightness_yield": report.spread.full_brightness_yield,
         },
-        "tuning": [{"ref": r.ref, "value": r.value, "direction": r.direction, "fade_in_s": r.fade_in_s,
-                    "fade_out_s": r.fade_out_s} for r in report.tuning],
+        "tuning": [{"ref": r.ref, "value": r.value, "direction": r.direction,
+                    **{name: getattr(r, name) for name in TIMES}} for r in report.tuning],
         "standby_a": report.standby_a,
         "abuse": [abuse_entry(c) for c in report.abuse],
         "wiring": list(report.wiring),
         "cautions": list(report.cautions),
         "board": report.board.as_dict() if report.board is not None else None,
-        "spice": spice_deck(d.netlist),
+        "spice": spice_deck(d.netlist, light_full=report.full_light),
     }
     return out
 

@@ -23,6 +23,7 @@ import re
 import numpy as np
 
 from sheetgen import __version__
+from sheetgen.engine import light as filament_light
 from sheetgen.model.kinds import KINDS
 from sheetgen.model.netlist import GROUND, Model, Netlist, Overrides, Part
 
@@ -314,6 +315,7 @@ def spice_deck(
     overrides: Overrides | None = None,
     index: int = 0,
     title: str | None = None,
+    light_full: float | None = None,
 ) -> str:
     """A complete ngspice deck for ``netlist`` that ``ngspice -b`` runs as it stands.
 
@@ -322,7 +324,9 @@ def spice_deck(
     source's level, any other name a model parameter of that part, which then
     gets its own copy of the card (``<card>__<ref>``) so parts sharing the
     model keep the typical one.  Capacitors start at 0 V and filaments at
-    room temperature (``uic``).
+    room temperature (``uic``).  With ``light_full`` (the load's steady light with
+    the feed on, in :mod:`sheetgen.sizing.light`'s units) the deck carries a node
+    ``light`` whose voltage is the relative light, 1 V at full.
     """
     res = _Resolved(netlist, overrides, index)
     nodes = node_names(netlist)
@@ -383,6 +387,9 @@ def spice_deck(
             lines += card
 
     lamps = [p for p in netlist.parts if p.kind == "lamp"]
+    if light_full is not None:
+        lines += ["", "* --- light: 1 V is the steady light with the feed on (nominal parts and supply) ---"]
+        lines.append(f"Blight light 0 V=({_light_sum(netlist, res, nodes, lamps)})/{_num(light_full)}")
     lines += ["", "* --- analysis ---"]
     if lamps:
         lines.append(".ic " + " ".join(f"v({lamp_thermal_node(p)})={_num(lamp_troom[p.ref])}" for p in lamps))
@@ -391,10 +398,23 @@ def spice_deck(
     vectors = [f"v({nodes[n]})" for n in dict.fromkeys(probe_nets) if n != GROUND]
     vectors += [f"i({names[s.name].lower()})" for s in netlist.sources]
     vectors += [f"v({lamp_thermal_node(p)})" for p in lamps]
+    if light_full is not None:
+        vectors.append("v(light)")
     lines.append(".print tran " + " ".join(vectors))
     lines.append(f".tran {_num(tstep)} {_num(netlist.stop_s)} 0 {_num(tstep)} uic")
     lines.append(".end")
     return "\n".join(lines) + "\n"
+
+
+def _light_sum(netlist: Netlist, res: "_Resolved", nodes: dict[str, str], lamps: list[Part]) -> str:
+    """The load's light as a B-source expression: filament light per lamp, or the LED string currents."""
+    if lamps:
+        return "+".join(filament_light.spice_light_expression(lamp_thermal_node(p), p.model["THOT"]) for p in lamps)
+    terms = [f"(v({nodes[r.net('1')]})-v({nodes[r.net('2')]}))/{_num(res.values.get(r.ref, r.value))}"
+             for r in netlist.by_role("led_series")]
+    if not terms:
+        raise ValueError("an LED load without series resistors: no string current for the light node")
+    return "+".join(terms)
 
 
 __all__ = [

@@ -4,7 +4,9 @@ from __future__ import annotations
 
 from sheetgen.sizing import mounting
 from sheetgen.sizing.report import Report
-from sheetgen.engine.measure import DEFINITIONS
+from sheetgen.engine.measure import DEFINITIONS, FULL_MEANS
+from sheetgen.outputs.wording import led_dimming_words
+from sheetgen.sizing.size import delay_limits
 from sheetgen.inputs.units import format_quantity
 from sheetgen.outputs.wording import refs_text, standby_text
 
@@ -17,6 +19,11 @@ def _value(part) -> str:
         v = f", {part.rating_v:g} V" if part.rating_v else ""
         return f"{format_quantity(part.value, 'F')}{v}"
     return part.part_number or part.description
+
+
+def _led_line(report: Report) -> list[str]:
+    words = led_dimming_words(report)
+    return [f"  {words}"] if words else []
 
 
 def _drive_line(report: Report) -> str:
@@ -50,18 +57,23 @@ def summary_text(report: Report) -> str:
     spec = d.spec
     s = spec.supply
     sp = report.spread
+    on_max, off_max = delay_limits(spec)
     h = report.heat
     lines = [
         spec.title,
         f"  supply {s.nominal_v:g} V (from {s.min_v:g} to {s.max_v:g} V), ambient up to {spec.ambient_c:g} °C",
         f"  topology: {d.topology.title}",
         f"  load current {format_quantity(d.load_current_a, 'A')} (steady, nominal supply)",
+        f"  delay on {d.delay_on_s:6.2f} s  (at most {on_max:g} s): {DEFINITIONS['delay_on_s']}",
         f"  fade-in  {d.fade_in_s:6.2f} s  (asked {spec.fade_in_s:g} s): {DEFINITIONS['fade_in_s']}",
+        f"  hold off {d.hold_off_s:6.2f} s  (at most {off_max:g} s): {DEFINITIONS['hold_off_s']}",
         f"  fade-out {d.fade_out_s:6.2f} s  (asked {spec.fade_out_s:g} s): {DEFINITIONS['fade_out_s']}",
+        f"  ({FULL_MEANS})",
+        *_led_line(report),
         _drive_line(report),
-        f"  over {sp.draws} tolerance draws (parts, gain, supply, ambient): fade-in {sp.fade_in_s[0]:.2f}–"
-        f"{sp.fade_in_s[2]:.2f} s, fade-out {sp.fade_out_s[0]:.2f}–{sp.fade_out_s[2]:.2f} s (5–95 %); "
-        f"{sp.full_brightness_yield:.1%} reach full brightness",
+        f"  on a real build (parts, gain, supply and ambient over {sp.draws} tolerance draws, 5–95 %): the fade-in "
+        f"lasts between {sp.fade_in_s[0]:.1f} s and {sp.fade_in_s[2]:.1f} s, the fade-out between "
+        f"{sp.fade_out_s[0]:.1f} s and {sp.fade_out_s[2]:.1f} s; {sp.full_brightness_yield:.1%} reach full brightness",
         f"  Q1 heat at {h.supply_v:g} V, {h.ambient_c:g} °C: peak {h.peak_power_w:.2f} W while fading, "
         f"{h.steady_power_w:.2f} W fully on; " + _hover_words(report),
         f"  fuse {report.harness.fuse_a:g} A, wire {report.harness.wire_mm2:g} mm² ({report.harness.wire_awg} AWG); "

@@ -42,3 +42,14 @@ _NUMBER_UNIT = re.compile(r"(\d) (?=(?:[pnµmkM]?(?:Ω|V|A|W|F|s|J)|°C|mm²|%|A
 def keep_units(text: str) -> str:
     """Join each number to its unit with a no-break space, so ``125 °C`` never wraps apart on a page."""
     return _NUMBER_UNIT.sub(rf"\1{NBSP}", text)
+
+
+def led_dimming_words(report) -> str | None:
+    """How bright LED strings run at nominal supply, given they are sized for the top of the range."""
+    if report.led_current_a is None:
+        return None
+    spec = report.design.spec
+    rated = spec.load.current_a
+    return (f"each LED string carries {format_quantity(report.led_current_a, 'A')} at "
+            f"{spec.supply.nominal_v:g} V, {report.led_current_a / rated:.0%} of its "
+            f"{format_quantity(rated, 'A')} rating: sized so that at {spec.supply.max_v:g} V it stays within it")

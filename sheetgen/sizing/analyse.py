@@ -13,7 +13,6 @@ import numpy as np
 
 from sheetgen.board import layout as board_layout
 from sheetgen.parts import catalog
-from sheetgen.engine import devices
 from sheetgen.parts import eseries
 from sheetgen.parts import installs
 from sheetgen.sizing import abuse
@@ -25,11 +24,13 @@ from sheetgen.engine import simulate
 from sheetgen.engine import thermal
 from sheetgen.sizing import tolerance
 from sheetgen.model.netlist import GROUND, Part
-from sheetgen.engine.measure import fade_times
+from sheetgen.engine.measure import light_times
 from sheetgen.sizing.report import BenchReading, Curves, Harness, Heat, Report, ResistorHeat, TuningRow
 from sheetgen.sizing.design import Design
-from sheetgen.sizing.size import C_MAX_F, C_MIN_F, R_BLEED_RANGE, R_CHARGE_RANGE, TJ_LIMIT_C, load_line_peak_w
-from sheetgen.inputs.spec import LampLoad
+from sheetgen.sizing.size import C_MAX_F, C_MIN_F, R_BLEED_RANGE, R_CHARGE_RANGE, TJ_LIMIT_C
+from sheetgen.sizing.hover import load_line_peak_w
+from sheetgen.inputs.spec import LedLoad
+from sheetgen.sizing.light import led_currents, light
 
 #: Blade-fuse ratings in amperes (ISO 8820-3 sizes; from memory).
 FUSES_A = (1, 2, 3, 5, 7.5, 10, 15, 20, 25, 30)
@@ -58,7 +59,10 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
     steady = op_on.i_source("VSUPPLY")
     inrush.check_peak(design, load[1], supply_v=float(vmax))
 
-    curves = Curves(t_s=tr.t_s, load_a=load[0], light=_light(design, tr)[0], timer_v=tr.v("timer")[0])
+    glow = light(nl, tr.v, ov)
+    full = light(nl, op_on.v, ov)
+    curves = Curves(t_s=tr.t_s, load_a=load[0], light=glow[0] / full[0], timer_v=tr.v("timer")[0])
+    led = float(led_currents(nl, op_on.v, ov)[:, 0].max()) if isinstance(spec.load, LedLoad) else None
     heat = _heat(design, tr, op_on)
     harness = _harness(float(steady[1]), wire_min_mm2=installs.install(spec.install).wire_min_mm2)
     sample = tolerance.draw(design, n=draws, seed=seed)
@@ -76,7 +80,7 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
                   wiring=feeds.with_door_test(wiring, design, bench, short=False),
                   mounting=mount, abuse=abuse.abuse_cases(design),
                   cautions=instructions.cautions(design, heat),
-                  brief=brief, board=board)
+                  brief=brief, board=board, full_light=float(full[0]), led_current_a=led)
 
 
 def _board(design: Design, heat: Heat):
@@ -87,18 +91,6 @@ def _board(design: Design, heat: Heat):
         off += [p.ref for p in nl.by_role("switch")]
     labels = {net: what.split(" (")[0] for net, what in design.topology.wiring}
     return board_layout(nl, kind=design.spec.board, off_board=tuple(off), source_labels=labels)
-
-
-def _light(design: Design, tr) -> np.ndarray:
-    """Relative light output: LED flux follows current, a filament its temperature."""
-    load = design.spec.load
-    if isinstance(load, LampLoad):
-        lamps = design.netlist.by_role("load")
-        t_hot = lamps[0].model["THOT"]
-        return devices.lamp_light(tr.v(f"{lamps[0].ref}:th"), t_hot_k=t_hot)
-    # LED flux is close to proportional to forward current at these levels (common practice, no source).
-    i = tr.i_source("VSUPPLY")
-    return i / np.max(i[:, tr.t_s <= design.netlist.release_s], axis=1, keepdims=True)
 
 
 def _heat(design: Design, tr, op_on) -> Heat:
@@ -176,10 +168,12 @@ def _tuning(design: Design) -> tuple[TuningRow, ...]:
         arr = ov.setdefault((ref, "value"), np.full(n, nl.part(ref).value))
         arr[k] = value
     tr = simulate.transient(nl, overrides=ov, n=n)
-    steady = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=ov, n=n).i_source("VSUPPLY")
-    t_in, t_out = fade_times(tr.t_s, tr.i_source("VSUPPLY"), release_s=nl.release_s, steady_a=steady)
-    return tuple(TuningRow(ref=ref, value=value, direction=d, fade_in_s=float(a), fade_out_s=float(b))
-                 for (ref, value, d), a, b in zip(rows, t_in, t_out))
+    op = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=ov, n=n)
+    times = light_times(tr.t_s, light(nl, tr.v, ov), release_s=nl.release_s, full=light(nl, op.v, ov))
+    return tuple(TuningRow(ref=ref, value=value, direction=d, fade_in_s=float(times.fade_in_s[k]),
+                           fade_out_s=float(times.fade_out_s[k]), delay_on_s=float(times.delay_on_s[k]),
+                           hold_off_s=float(times.hold_off_s[k]))
+                 for k, (ref, value, d) in enumerate(rows))
 
 
 def _standby(design: Design) -> float:

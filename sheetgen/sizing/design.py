@@ -26,3 +26,6 @@ class Design:
     overdrive: float
     reasons: tuple[str, ...]
     full_brightness_yield: float = float("nan")  # over the tolerance draws, set once accepted
+    delay_on_s: float = float("nan")  # light times per the timing contract (engine.measure)
+    hold_off_s: float = float("nan")
+    corners: tuple = ()  # sizing.corners.Corner, one per corner, set once accepted

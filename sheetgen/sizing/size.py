@@ -27,18 +27,21 @@ from sheetgen.parts import catalog
 from sheetgen.parts import eseries
 from sheetgen.engine import simulate
 from sheetgen.sizing import protection
+from sheetgen.sizing import corners as corner_checks
 from sheetgen.sizing import tolerance
+from sheetgen.sizing.light import light
 from sheetgen.parts.catalog import Transistor
 from sheetgen.errors import InfeasibleDesign, SpecError
 from sheetgen.circuits.loads import rated_current_a
-from sheetgen.engine.measure import fade_times
-from sheetgen.inputs.spec import LedLoad, Spec
+from sheetgen.engine.measure import HIGH, LOW, light_times, steady_light
+from sheetgen.inputs.spec import LampLoad, LedLoad, Spec
 from sheetgen.circuits.topologies import INPUT_PNP, TOPOLOGIES, Stage, Topology, Values, Window, topologies_for, window_for
 from sheetgen.inputs.units import format_quantity
 from sheetgen.sizing.design import Design
+from sheetgen.sizing.hover import load_line_peak_w
 
 ACCURACY = 0.10  # achieved fade times within ±10 % of the request
-OVERDRIVE_MIN = 1.5  # Ib ≥ 1.5 · Ic / hFE_min at minimum supply (margin: common practice, no source)
+OVERDRIVE_MIN = 1.1  # Ib ≥ 1.1 · Ic / hFE_min at minimum supply to start with; the corner checks decide (common practice, no source)
 OVERDRIVE_MAX = 2.0
 C_MIN_F = 1e-6
 C_MAX_F = 4_700e-6  # the largest timing capacitor, chosen or forced: past it a stronger stage is the answer
@@ -59,6 +62,7 @@ C_PENALTY = 0.01  # a tenfold larger capacitor must buy 2.3 % of accuracy: cans 
 ROUNDS = 4
 SETTLE_TAUS = 5.0  # the capacitor is within 1 % of its final voltage after five time constants
 YIELD_ATTEMPTS = 3
+LED_CURRENT_MARGIN = 1.02  # the string resistor 2 % above the exact figure, for the solver's own Vce(sat)
 
 
 def size(spec: Spec) -> Design:
@@ -90,17 +94,24 @@ def size(spec: Spec) -> Design:
 def _size_topology(spec: Spec, topology: Topology, refusals: list[str], c_max: float) -> Design | None:
     """The first transistor of this topology that meets the spec, or None (refusals say why)."""
     for q in _transistor_candidates(spec, topology, refusals):
-        od_min = OVERDRIVE_MIN
+        od_min, led_scale = OVERDRIVE_MIN, 1.0
         try:
             for _ in range(YIELD_ATTEMPTS):
-                design = _size_with(spec, topology, q, od_min, c_max)
-                y = tolerance.full_brightness_yield(design, tolerance.draw(design))
-                if y >= tolerance.YIELD_REQUIRED:
-                    return replace(design, full_brightness_yield=y,
+                design = _size_with(spec, topology, q, od_min, c_max, led_scale)
+                found = corner_checks.corners(design)
+                fails = corner_checks.failures(design, found)
+                if not fails:
+                    y = tolerance.full_brightness_yield(design, tolerance.draw(design))
+                    return replace(design, full_brightness_yield=y, corners=found,
                                    reasons=design.reasons + tuple(f"not {r}" for r in refusals))
-                od_min *= 1.25  # strengthen the base drive and size again
-            raise _NoFit(f"only {y:.1%} of tolerance draws reach full brightness, even driven "
-                         f"{od_min / 1.25:.2g}× harder than saturation needs")
+                over = max((c.led_current_max_a / spec.load.current_a for c in found
+                            if c.led_current_max_a is not None), default=0.0)
+                if over > 1.0:
+                    led_scale *= over * 1.01  # a larger string resistor, then size the timing again
+                else:
+                    od_min *= 1.25  # strengthen the drive and size again
+            raise _NoFit("at the corners of supply, gain and temperature: " + "; ".join(fails[:2])
+                         + (f" (and {len(fails) - 2} more)" if len(fails) > 2 else ""))
         except _NoFit as exc:
             refusals.append(f"{q.part_number}: {exc}")
     return None
@@ -123,40 +134,21 @@ def _topologies(spec: Spec) -> tuple[Topology, ...]:
 
 
 # ------------------------------------------------------------ transistor
-def load_line_peak_w(spec: Spec, *, supply_v: float, r_led_ohm: float | None) -> float:
-    """Largest steady dissipation in the switch as it moves along the load line.
-
-    This is the worst case of a feed that hovers half-way: the transistor holds
-    whatever current the base allows, and the rest of the supply lies across it.
-    """
-    load = spec.load
-    if isinstance(load, LedLoad):
-        # LED string as an ideal drop n·Vf plus its resistor; P = (V - nVf)^2 / 4R.
-        r_total = r_led_ohm / load.strings
-        headroom = max(supply_v - load.per_string * load.vf_v, 0.0)
-        return headroom**2 / (4.0 * r_total)
-    f = catalog.filament()
-    # Steady states of the filament along its own I-V curve (radiation balances V·I).
-    t = np.linspace(f.t_room_k * 1.01, f.t_hot_k * 1.3, 2000)
-    p_rated = load.power_w
-    r_hot = load.rated_v**2 / p_rated
-    r = r_hot * (t / f.t_hot_k) ** f.alpha
-    p = p_rated * (t**4 - f.t_room_k**4) / (f.t_hot_k**4 - f.t_room_k**4)
-    i = np.sqrt(p / r) * load.count
-    v_lamp = np.sqrt(p * r)
-    p_q = (supply_v - v_lamp) * i
-    return float(np.max(np.where(v_lamp <= supply_v, p_q, 0.0)))
-
-
-def _led_resistor(spec: Spec, stage: Stage) -> float | None:
+def _led_resistor(spec: Spec, stage: Stage, scale: float = 1.0) -> float | None:
     load = spec.load
     if not isinstance(load, LedLoad):
         return None
-    # R = (Vs - n·Vf - Vce(sat)) / I, rounded up to E24 so the string never exceeds its current.
-    r = (spec.supply.nominal_v - protection.drop_v(spec) - load.per_string * load.vf_v - stage.vce_sat_v) / load.current_a
-    if r <= 0:
+    # R = (Vmax - n·Vf(hot) - Vce(sat)) / I, at the top of the supply range and the spec's ambient
+    # (the forward voltage falls as the LED warms), rounded up to E24: the string never exceeds its
+    # rated current, and is dimmer at nominal supply.  Vce(sat) is taken at a third of the stage's
+    # figure, as a lightly loaded switch drops less.
+    colour = tolerance.led_colour(spec)
+    vf_hot = load.vf_v + colour.tc_v_per_c * (spec.ambient_c - 25.0)
+    headroom = spec.supply.max_v - protection.drop_v(spec) - load.per_string * vf_hot - stage.vce_sat_v / 3
+    r = headroom / load.current_a * LED_CURRENT_MARGIN * scale
+    if r <= 0 or spec.supply.min_v - load.per_string * load.vf_v - stage.vce_sat_v <= 0:
         raise _NoFit(f"{load.per_string} LEDs of {load.vf_v:g} V plus the switch's {stage.vce_sat_v:g} V "
-                     f"leave no headroom at {spec.supply.nominal_v:g} V")
+                     f"leave no headroom at {spec.supply.min_v:g} V")
     return eseries.above("E24", r)
 
 
@@ -216,21 +208,53 @@ def _snap_below(series: str, x: np.ndarray) -> np.ndarray:
     return grid[np.searchsorted(grid, x * (1 + 1e-9), side="right") - 1]
 
 
-def _predict(v_feed, vbe, r1, r2, r3, c, i_load, beta):
-    """Closed-form fade times of the RC network driving a transistor of gain ``beta``."""
+#: Light ∝ I for an LED; a filament's steady light rises as V^3.4 and its current as V^0.6 (lighting
+#: handbooks' incandescent characteristics, from memory), so light ∝ I^5.7: the current fraction
+#: at which each reference level of light is reached, per load kind (first guess only).
+LAMP_LIGHT_EXPONENT = 3.4 / 0.6
+
+
+def current_fractions(spec: Spec) -> tuple[float, float]:
+    """Fractions of the steady current at which the light crosses the low and the high level."""
+    if isinstance(spec.load, LampLoad):
+        return LOW ** (1 / LAMP_LIGHT_EXPONENT), HIGH ** (1 / LAMP_LIGHT_EXPONENT)
+    return LOW, HIGH
+
+
+def _predict(v_feed, vbe, r1, r2, r3, c, i_load, beta, fractions):
+    """Closed-form light times (4, M) of the RC network driving a transistor of gain ``beta``.
+
+    C1 first charges through R1 against R2 to Q1's base voltage, then against
+    R2 and the base path; the load current follows the base current until the
+    switch saturates.  Rows: delay on, fade-in, hold off, fade-out.
+    """
+    lo, hi = fractions
     g = 1 / r1 + 1 / r2 + 1 / r3
     vc_ss = (v_feed / r1 + vbe / r3) / g
-    vc90 = vbe + 0.9 * i_load * r3 / beta
-    vc10 = vbe + 0.1 * i_load * r3 / beta
+    v_lo = vbe + lo * i_load * r3 / beta
+    v_hi = vbe + hi * i_load * r3 / beta
     v0 = v_feed * r2 / (r1 + r2)
     tau0 = c * r1 * r2 / (r1 + r2)
+    v_inf = vbe * r2 / (r2 + r3)
+    tau_off = c * r2 * r3 / (r2 + r3)
     with np.errstate(divide="ignore", invalid="ignore"):
         t_a = tau0 * np.log(v0 / (v0 - vbe))
-        t_b = (c / g) * np.log((vc_ss - vbe) / (vc_ss - vc90))
-        v_inf = vbe * r2 / (r2 + r3)
-        t_out = c * r2 * r3 / (r2 + r3) * np.log((vc_ss - v_inf) / (vc10 - v_inf))
-    bad = (v0 <= vbe) | (vc_ss <= vc90)
-    return np.where(bad, np.inf, t_a + t_b), np.where(bad, np.inf, t_out)
+        t_lo = t_a + (c / g) * np.log((vc_ss - vbe) / (vc_ss - v_lo))
+        t_hi = t_a + (c / g) * np.log((vc_ss - vbe) / (vc_ss - v_hi))
+        o_hi = tau_off * np.log((vc_ss - v_inf) / (v_hi - v_inf))
+        o_lo = tau_off * np.log((vc_ss - v_inf) / (v_lo - v_inf))
+    p = np.stack([t_lo, t_hi - t_lo, o_hi, o_lo - o_hi])
+    bad = (v0 <= vbe) | (vc_ss <= v_hi)
+    return np.where(bad, np.inf, p)
+
+
+def delay_limits(spec: Spec) -> tuple[float, float]:
+    """Longest darkness after the feed goes on and longest hold at full after it goes off.
+
+    Without a requested delay, darkness may not outlast the fade: at most
+    max(0.3 s, fade-in) and max(0.5 s, fade-out).
+    """
+    return max(0.3, spec.fade_in_s), max(0.5, spec.fade_out_s)
 
 
 @dataclass
@@ -241,17 +265,25 @@ class _Trial:
     r3: float
     t_in: float = math.nan
     t_out: float = math.nan
+    delay_on: float = math.nan
+    hold_off: float = math.nan
     i_load: float = math.nan
     overdrive: float = math.nan
 
     def error(self, spec: Spec) -> float:
-        if not (math.isfinite(self.t_in) and math.isfinite(self.t_out)):
+        """Worst relative miss of the two fades; a delay past its limit counts as a miss beyond the band."""
+        times = (self.t_in, self.t_out, self.delay_on, self.hold_off)
+        if not all(math.isfinite(x) for x in times):
             return math.inf
-        return max(abs(self.t_in / spec.fade_in_s - 1), abs(self.t_out / spec.fade_out_s - 1))
+        err = max(abs(self.t_in / spec.fade_in_s - 1), abs(self.t_out / spec.fade_out_s - 1))
+        on_max, off_max = delay_limits(spec)
+        over = max(self.delay_on / on_max, self.hold_off / off_max) - 1
+        return max(err, ACCURACY * 1.001 + over) if over > 0 else err
 
 
-def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_max: float) -> Design:
-    r_led = _led_resistor(spec, topology.stage)
+def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_max: float,
+               led_scale: float = 1.0) -> Design:
+    r_led = _led_resistor(spec, topology.stage, led_scale)
     drive = _DRIVES[topology.stage.kind](spec, topology, q, od_min)
     base_values = Values(transistor=q, diode=catalog.diode(DIODE), r_charge_ohm=1.0, r_bleed_ohm=1.0,
                          r_base_ohm=1.0, c_timing_f=1.0, r_led_ohm=r_led,
@@ -259,15 +291,18 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_m
                          clamp=drive.clamp)
     C, R1, R2 = (a.ravel() for a in np.meshgrid(_grid("E6", C_MIN_F, c_max), _grid("E12", *R_CHARGE_RANGE),
                                                   _grid("E12", *R_BLEED_RANGE), indexing="ij"))
-    C, R1, R2, R3, p_in, p_out = drive.grid(C, R1, R2)
+    C, R1, R2, R3, P = drive.grid(C, R1, R2)
 
-    k_in, k_out = 1.0, 1.0  # simulator / closed-form ratios, learnt each round
+    k = np.ones((4, 1))  # simulator / closed-form ratios of the four times, learnt each round
+    on_max, off_max = delay_limits(spec)
+    wanted = np.array([[on_max], [spec.fade_in_s], [off_max], [spec.fade_out_s]])
     tried: dict[tuple, _Trial] = {}
     best: _Trial | None = None
     for round_no in range(ROUNDS):
-        e_in = np.log(k_in * p_in / spec.fade_in_s)
-        e_out = np.log(k_out * p_out / spec.fade_out_s)
-        score = np.maximum(np.abs(e_in), np.abs(e_out)) + C_PENALTY * np.log(C / C_MIN_F)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            e = np.log(k * P / wanted)
+        score = (np.maximum(np.abs(e[1]), np.abs(e[3])) + np.maximum(e[0], 0) + np.maximum(e[2], 0)
+                 + C_PENALTY * np.log(C / C_MIN_F))
         order = np.argsort(score)
         picks = []
         for j in order:
@@ -288,8 +323,10 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_m
             # Learn how far the closed form is off near the best candidates.
             near = sorted(good, key=lambda t: t.error(spec))[:8]
             idx = [int(np.flatnonzero((C == t.c) & (R1 == t.r1) & (R2 == t.r2))[0]) for t in near]
-            k_in = float(np.exp(np.median([math.log(t.t_in / p_in[i]) for t, i in zip(near, idx)])))
-            k_out = float(np.exp(np.median([math.log(t.t_out / p_out[i]) for t, i in zip(near, idx)])))
+            seen = np.array([[t.delay_on, t.t_in, t.hold_off, t.t_out] for t in near]).T
+            with np.errstate(divide="ignore", invalid="ignore"):
+                ratio = np.log(np.maximum(seen, 1e-6) / P[:, idx])
+            k = np.exp(np.nan_to_num(np.median(ratio, axis=1), posinf=0.0, neginf=0.0))[:, None]
         for t in good:
             if best is None or _rank(t, spec) < _rank(best, spec):
                 best = t
@@ -399,8 +436,9 @@ class _BaseDrive:
         C, R1, R2 = C[valid], R1[valid], R2[valid]
         R3 = _snap_below("E24", R3[valid])
         v_feed = self.spec.supply.nominal_v - DIODE_DROP_V
-        p_in, p_out = _predict(v_feed, self.vbe_on, R1, R2, R3, C, self.i_nom, self.q.hfe_typ_at(self.i_nom))
-        return C, R1, R2, R3, p_in, p_out
+        P = _predict(v_feed, self.vbe_on, R1, R2, R3, C, self.i_nom, self.q.hfe_typ_at(self.i_nom),
+                     current_fractions(self.spec))
+        return C, R1, R2, R3, P
 
     def check(self, netlist, trials, window) -> list:
         """Step each candidate's R3 along E24 until its drive lies in the window, by DC analysis."""
@@ -468,13 +506,14 @@ class _GateDrive:
         m = self.q.model
         kp, vto = m["KP"], m["VTO"]
         v_inf = (s.nominal_v - DIODE_DROP_V) * R2 / (R1 + R2)
-        v90 = vto + np.sqrt(2 * 0.9 * self.i_nom / kp)  # square law: Id = KP/2 (Vgs - VTO)^2
-        v10 = vto + np.sqrt(2 * 0.1 * self.i_nom / kp)
+        lo, hi = current_fractions(self.spec)
+        v_hi = vto + np.sqrt(2 * hi * self.i_nom / kp)  # square law: Id = KP/2 (Vgs - VTO)^2
+        v_lo = vto + np.sqrt(2 * lo * self.i_nom / kp)
+        tau_in, tau_out = C * R1 * R2 / (R1 + R2), C * R2
         with np.errstate(divide="ignore", invalid="ignore"):
-            p_in = C * R1 * R2 / (R1 + R2) * np.log(v_inf / (v_inf - v90))
-            p_out = C * R2 * np.log(v_inf / v10)
-        p_in = np.where(v_inf > v90, p_in, np.inf)
-        return C, R1, R2, R3, p_in, p_out
+            P = np.stack([tau_in * np.log(v_inf / (v_inf - v_lo)), tau_in * np.log((v_inf - v_lo) / (v_inf - v_hi)),
+                          tau_out * np.log(v_inf / v_hi), tau_out * np.log(v_hi / v_lo)])
+        return C, R1, R2, R3, np.where(v_inf > v_hi, P, np.inf)
 
     def check(self, netlist, trials, window) -> list:
         """Keep candidates whose simulated gate voltage meets both limits."""
@@ -520,9 +559,13 @@ def _simulate(spec, topology, base, window, trials) -> None:
     op = simulate.operating_point(netlist, at_s=window.release_s / 2, overrides=ov, n=n)
     steady = op.i_source("VSUPPLY")
     tr = simulate.transient(netlist, overrides=ov, n=n)
-    t_in, t_out = fade_times(tr.t_s, tr.i_source("VSUPPLY"), release_s=window.release_s, steady_a=steady)
-    for t, a, b, s in zip(trials, t_in, t_out, steady):
-        t.t_in, t.t_out, t.i_load = float(a), float(b), float(s)
+    glow = light(netlist, tr.v, ov)
+    times = light_times(tr.t_s, glow, release_s=window.release_s,
+                        full=steady_light(tr.t_s, glow, release_s=window.release_s))
+    for k, (t, s) in enumerate(zip(trials, steady)):
+        t.delay_on, t.t_in = float(times.delay_on_s[k]), float(times.fade_in_s[k])
+        t.hold_off, t.t_out = float(times.hold_off_s[k]), float(times.fade_out_s[k])
+        t.i_load = float(s)
 
 
 def _why_not(spec: Spec, best: _Trial | None, c_max: float, note: str) -> str:
@@ -532,6 +575,13 @@ def _why_not(spec: Spec, best: _Trial | None, c_max: float, note: str) -> str:
     msg = (f"the closest it gets is fade-in {best.t_in:.2g} s, fade-out {best.t_out:.2g} s "
            f"(C1 {cap}, R1 {format_quantity(best.r1, 'ohm')}, R2 {format_quantity(best.r2, 'ohm')}, "
            f"R3 {format_quantity(best.r3, 'ohm')})")
+    on_max, off_max = delay_limits(spec)
+    if best.delay_on > on_max:
+        return (msg + f"; the light stays dark {best.delay_on:.2g} s before it shows (at most {on_max:.2g} s "
+                "allowed): a saturating switch turns the light on over a narrow slice of C1's voltage")
+    if best.hold_off > off_max:
+        return (msg + f"; the light holds at full {best.hold_off:.2g} s after the feed goes (at most "
+                f"{off_max:.2g} s allowed): the drive that keeps it saturated also keeps it on")
     slow = best.t_out < spec.fade_out_s * (1 - ACCURACY) or best.t_in < spec.fade_in_s * (1 - ACCURACY)
     if best.c >= c_max * 0.999 and slow:
         msg += f"; a slower fade needs a timing capacitor above the {format_quantity(c_max, 'F')} limit, because {note}"
@@ -597,4 +647,5 @@ def _finish(spec, topology, base, window, best: _Trial, reason: str) -> Design:
     values = replace(values, ratings=tuple(ratings))
     netlist = _netlist(topology, spec, values, window)
     return Design(spec=spec, topology=topology, values=values, netlist=netlist, load_current_a=best.i_load,
-                  fade_in_s=best.t_in, fade_out_s=best.t_out, overdrive=best.overdrive, reasons=(reason,))
+                  fade_in_s=best.t_in, fade_out_s=best.t_out, overdrive=best.overdrive, reasons=(reason,),
+                  delay_on_s=best.delay_on, hold_off_s=best.hold_off)

@@ -31,8 +31,9 @@ import numpy as np
 from sheetgen.parts import catalog
 from sheetgen.engine import simulate
 from sheetgen.engine.devices import VT_NOMINAL
-from sheetgen.engine.measure import fade_times
+from sheetgen.engine.measure import light_times
 from sheetgen.inputs.spec import LedLoad
+from sheetgen.sizing.light import light
 
 if TYPE_CHECKING:
     from sheetgen.sizing.design import Design
@@ -82,8 +83,7 @@ def draw(design: "Design", *, n: int = DEFAULT_DRAWS, seed: int = SEED) -> Draws
             ov[(part.ref, "VTO")] = rng.uniform(lo, hi, n)
 
     if isinstance(spec.load, LedLoad):
-        colour = (catalog.led_colour(spec.load.colour) if spec.load.colour else
-                  min(catalog.led_colours(), key=lambda c: abs(c.vf_typ_v - spec.load.vf_v)))
+        colour = led_colour(spec)
         spread = (colour.vf_max_v - colour.vf_typ_v) / colour.vf_typ_v
         for led in (p for p in nl.parts if p.kind == "led"):
             dv = spec.load.vf_v * rng.uniform(-spread / 2, spread, n)
@@ -94,13 +94,23 @@ def draw(design: "Design", *, n: int = DEFAULT_DRAWS, seed: int = SEED) -> Draws
 
 def _draw_bipolar(rng, ov: dict, part, q, i_op: float, dt: np.ndarray) -> None:
     """Gain log-uniform between the catalog's minimum and maximum, plus its temperature drift."""
-    n = dt.size
     lo, hi = q.hfe_min_at(i_op), q.hfe_max_at(i_op)
-    gain = np.exp(rng.uniform(np.log(lo), np.log(hi), n)) / q.hfe_typ_at(i_op)
+    gain = np.exp(rng.uniform(np.log(lo), np.log(hi), dt.size)) / q.hfe_typ_at(i_op)
+    bipolar_at(ov, part, gain, dt)
+
+
+def bipolar_at(ov: dict, part, gain: np.ndarray, dt: np.ndarray) -> None:
+    """Overrides for a bipolar part at ``gain`` × its typical card and ``dt`` °C from the card's 27 °C."""
     ov.update(part.gain_overrides(gain * (1 + HFE_TC_PER_C * dt) ** len(part.model.junctions())))
     for prefix, card in part.model.junctions():  # every junction's Vbe drifts
         nf = card.get("NF", 1.0)
         ov[(part.ref, f"{prefix}IS")] = card["IS"] * np.exp(-VBE_TC_V_PER_C * dt / (nf * VT_NOMINAL))
+
+
+def led_colour(spec):
+    """The catalog colour an LED load is drawn from: the named one, or the nearest forward voltage."""
+    return (catalog.led_colour(spec.load.colour) if spec.load.colour else
+            min(catalog.led_colours(), key=lambda c: abs(c.vf_typ_v - spec.load.vf_v)))
 
 
 def full_brightness_yield(design: "Design", draws: Draws) -> float:
@@ -124,7 +134,9 @@ class Spread:
     """Percentiles of the fade times over the draws, the yield, and the band of curves."""
 
     draws: int
-    fade_in_s: tuple[float, float, float]  # p5, p50, p95
+    delay_on_s: tuple[float, float, float]  # p5, p50, p95
+    fade_in_s: tuple[float, float, float]
+    hold_off_s: tuple[float, float, float]
     fade_out_s: tuple[float, float, float]
     full_brightness_yield: float
     t_s: np.ndarray
@@ -136,16 +148,17 @@ def spread(design: "Design", draws: Draws) -> Spread:
     """One batched transient over all draws: fade-time percentiles and the 5-95 % band."""
     nl = design.netlist
     tr = simulate.transient(nl, overrides=draws.overrides, n=draws.n)
-    steady = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=draws.overrides,
-                                      n=draws.n).i_source("VSUPPLY")
     load = tr.i_source("VSUPPLY")
-    t_in, t_out = fade_times(tr.t_s, load, release_s=nl.release_s, steady_a=steady)
+    op = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=draws.overrides, n=draws.n)
+    times = light_times(tr.t_s, light(nl, tr.v, draws.overrides), release_s=nl.release_s,
+                        full=light(nl, op.v, draws.overrides))
 
     def pct(x):
         x = np.where(np.isfinite(x), x, np.inf)  # an unfinished fade counts as the slowest
         p = np.percentile(x, [5, 50, 95])
         return tuple(float(v) for v in p)
 
-    return Spread(draws=draws.n, fade_in_s=pct(t_in), fade_out_s=pct(t_out),
+    return Spread(draws=draws.n, delay_on_s=pct(times.delay_on_s), fade_in_s=pct(times.fade_in_s),
+                  hold_off_s=pct(times.hold_off_s), fade_out_s=pct(times.fade_out_s),
                   full_brightness_yield=full_brightness_yield(design, draws), t_s=tr.t_s,
                   load_p5_a=np.percentile(load, 5, axis=0), load_p95_a=np.percentile(load, 95, axis=0))

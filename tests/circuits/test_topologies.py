@@ -10,7 +10,7 @@ import pytest
 from sheetgen.parts import catalog
 from sheetgen.engine import simulate
 from sheetgen.errors import InfeasibleDesign
-from sheetgen.engine.measure import fade_times
+from sheetgen.engine.measure import light_times
 from sheetgen.sizing.size import C_MAX_F, size
 from sheetgen.inputs.spec import parse_spec
 from sheetgen.outputs.spice import spice_deck
@@ -55,8 +55,8 @@ CASES = [
 
 def _fades(t, i, release_s):
     steady = np.interp(release_s * 0.999, t, i)
-    t_in, t_out = fade_times(t, i[None, :], release_s=release_s, steady_a=np.array([steady]))
-    return steady, t_in[0], t_out[0]
+    times = light_times(t, i[None, :], release_s=release_s, full=np.array([steady]))  # on the current itself
+    return steady, times.delay_on_s[0] + times.fade_in_s[0], times.hold_off_s[0] + times.fade_out_s[0]
 
 
 @pytest.mark.requires_ngspice

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from sheetgen.engine import simulate
-from sheetgen.engine.measure import fade_times
+from sheetgen.engine.measure import light_times
 from sheetgen.errors import SimulationError
 from sheetgen.inputs.spec import parse_spec
 from sheetgen.parts import catalog
@@ -34,8 +34,8 @@ def _fades(tr):
     nl = tr.netlist
     load = tr.i_source("VSUPPLY")
     steady = simulate.operating_point(nl, at_s=nl.release_s * 0.999).i_source("VSUPPLY")
-    t_in, t_out = fade_times(tr.t_s, load, release_s=nl.release_s, steady_a=steady)
-    return float(t_in[0]), float(t_out[0])
+    times = light_times(tr.t_s, load, release_s=nl.release_s, full=steady)  # on the current itself
+    return float(times.delay_on_s[0] + times.fade_in_s[0]), float(times.hold_off_s[0] + times.fade_out_s[0])
 
 
 def _failing_fast_path(monkeypatch, *, calls: range, rungs_fail: int = 0):

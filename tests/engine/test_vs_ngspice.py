@@ -15,7 +15,7 @@ import pytest
 from sheetgen.parts import catalog
 from sheetgen.engine import simulate
 from sheetgen.model.netlist import Netlist
-from sheetgen.engine.measure import fade_times
+from sheetgen.engine.measure import light_times
 from sheetgen.inputs.spec import parse_spec
 from sheetgen.outputs.spice import spice_deck
 from sheetgen.outputs.spice_run import run_transient
@@ -88,8 +88,8 @@ def _ngspice(nl: Netlist):
 
 def _steady_and_fades(t, i, release_s):
     steady = np.interp(release_s * 0.999, t, i)
-    t_in, t_out = fade_times(t, i[None, :], release_s=release_s, steady_a=np.array([steady]))
-    return steady, t_in[0], t_out[0]
+    times = light_times(t, i[None, :], release_s=release_s, full=np.array([steady]))  # LED light ∝ current
+    return steady, times.delay_on_s[0] + times.fade_in_s[0], times.hold_off_s[0] + times.fade_out_s[0]
 
 
 @pytest.mark.requires_ngspice

@@ -9,7 +9,8 @@ from sheetgen.parts import catalog
 from sheetgen.parts import eseries
 from sheetgen.engine import simulate
 from sheetgen.errors import InfeasibleDesign
-from sheetgen.engine.measure import fade_times
+from sheetgen.engine.measure import light_times
+from sheetgen.sizing.light import light
 from sheetgen.sizing.size import OVERDRIVE_MIN, drive_at_minimum, size
 from sheetgen.inputs.spec import parse_spec
 from sheetgen.circuits.topologies import window_for
@@ -47,10 +48,12 @@ def test_reported_fades_are_what_the_simulator_says(load, fade_in, fade_out, sup
     """The design's own numbers come from an independent re-run of its final netlist."""
     d = size(_spec(load, fade_in, fade_out, supply))
     tr = simulate.transient(d.netlist)
-    steady = simulate.operating_point(d.netlist, at_s=d.netlist.release_s * 0.999).i_source("VSUPPLY")
-    t_in, t_out = fade_times(tr.t_s, tr.i_source("VSUPPLY"), release_s=d.netlist.release_s, steady_a=steady)
-    assert t_in[0] == pytest.approx(d.fade_in_s, rel=0.01)
-    assert t_out[0] == pytest.approx(d.fade_out_s, rel=0.01)
+    op = simulate.operating_point(d.netlist, at_s=d.netlist.release_s * 0.999)
+    times = light_times(tr.t_s, light(d.netlist, tr.v), release_s=d.netlist.release_s, full=light(d.netlist, op.v))
+    assert times.fade_in_s[0] == pytest.approx(d.fade_in_s, rel=0.01)
+    assert times.fade_out_s[0] == pytest.approx(d.fade_out_s, rel=0.01)
+    assert times.delay_on_s[0] == pytest.approx(d.delay_on_s, rel=0.01)
+    assert times.hold_off_s[0] == pytest.approx(d.hold_off_s, rel=0.01)
 
 
 def test_saturates_at_minimum_gain_and_minimum_supply():
@@ -105,8 +108,9 @@ def _fades_with(d, **values):
     ov = {(ref, "value"): np.array([v]) for ref, v in values.items()}
     nl = d.netlist
     tr = simulate.transient(nl, overrides=ov)
-    steady = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=ov).i_source("VSUPPLY")
-    return fade_times(tr.t_s, tr.i_source("VSUPPLY"), release_s=nl.release_s, steady_a=steady)
+    op = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=ov)
+    times = light_times(tr.t_s, light(nl, tr.v, ov), release_s=nl.release_s, full=light(nl, op.v, ov))
+    return times.fade_in_s, times.fade_out_s
 
 
 def test_halving_the_capacitor_roughly_halves_both_fades():

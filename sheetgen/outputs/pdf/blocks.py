@@ -22,7 +22,8 @@ from reportlab.lib.enums import TA_LEFT
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 
-from sheetgen.engine.measure import DEFINITIONS
+from sheetgen.engine.measure import DEFINITIONS, FULL_MEANS
+from sheetgen.sizing.size import delay_limits
 from sheetgen.sizing import mounting, runs
 from sheetgen.sizing.analyse import WIRES
 from sheetgen.sizing.report import Report
@@ -30,7 +31,7 @@ from sheetgen.inputs.spec import LedLoad
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
 
 from sheetgen.outputs.pdf import plot
-from sheetgen.outputs.wording import keep_units, refs_text, standby_text, volts_range
+from sheetgen.outputs.wording import keep_units, led_dimming_words, refs_text, standby_text, volts_range
 from sheetgen.parts.colour_code import bands
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import SHEET_BLOCKS
@@ -400,6 +401,11 @@ def load_text(report: Report) -> str:
     return f"{lamps}, {format_quantity(load.power_w, 'W')} each, rated at {format_quantity(load.rated_v, 'V')}"
 
 
+def _sentence(words: str) -> str:
+    """Words as an escaped sentence: first letter up, a full stop at the end."""
+    return escape(words[:1].upper() + words[1:] + ".") if words else ""
+
+
 def spread_text(p5_p50_p95: tuple[float, float, float]) -> str:
     """``0.96–2.98 s`` from a (p5, p50, p95) triple; fades that never finish are said so."""
     lo, _, hi = p5_p50_p95
@@ -481,6 +487,14 @@ def summary_block(report: Report, frame: Frame) -> Block:
     spec = d.spec
     sup = spec.supply
 
+    on_max, off_max = delay_limits(spec)
+
+    def limit_row(label, achieved, limit, definition):
+        return [_p(label, s.cell_bold),
+                _pm(f"<b>{escape(format_quantity(achieved, 's'))}</b><br/>"
+                    f"at most {escape(format_quantity(limit, 's'))}", s.cell),
+                _p(f"Measured {definition} ({FULL_MEANS}).", s.cell)]
+
     def fade_row(label, achieved, asked, definition):
         return [_p(label, s.cell_bold),
                 _pm(f"<b>{escape(format_quantity(achieved, 's'))}</b> achieved<br/>"
@@ -493,14 +507,19 @@ def summary_block(report: Report, frame: Frame) -> Block:
          _p(f"{format_quantity(sup.nominal_v, 'V')} nominal; sized for {format_quantity(sup.min_v, 'V')} to "
             f"{format_quantity(sup.max_v, 'V')}; ambient up to {spec.ambient_c:g} °C", s.cell), ""],
         [_p("Circuit", s.cell_bold), _p(f"{d.topology.title}. {d.topology.summary}", s.cell), ""],
+        limit_row("Delay on", d.delay_on_s, on_max, DEFINITIONS["delay_on_s"]),
         fade_row("Fade-in", d.fade_in_s, spec.fade_in_s, DEFINITIONS["fade_in_s"]),
+        limit_row("Hold off", d.hold_off_s, off_max, DEFINITIONS["hold_off_s"]),
         fade_row("Fade-out", d.fade_out_s, spec.fade_out_s, DEFINITIONS["fade_out_s"]),
         [_p("Load current", s.cell_bold),
          _pm(f"<b>{escape(format_quantity(report.steady_a, 'A'))}</b> steady, at "
-             f"{escape(format_quantity(sup.nominal_v, 'V'))}", s.cell), ""],
+             f"{escape(format_quantity(sup.nominal_v, 'V'))}", s.cell),
+         _p(_sentence(led_dimming_words(report) or ""), s.cell)],
         [_p("Real parts", s.cell_bold),
          _pm(f"fade-in <b>{escape(spread_text(report.spread.fade_in_s))}</b><br/>"
-             f"fade-out <b>{escape(spread_text(report.spread.fade_out_s))}</b>", s.cell),
+             f"fade-out <b>{escape(spread_text(report.spread.fade_out_s))}</b><br/>"
+             f"delay on {escape(spread_text(report.spread.delay_on_s))}<br/>"
+             f"hold off {escape(spread_text(report.spread.hold_off_s))}", s.cell),
          _p(f"5th to 95th percentile over {report.spread.draws} random sets of part tolerances, supply "
             f"and ambient; {report.spread.full_brightness_yield:.0%} of them reach full brightness.", s.cell)],
         [_p("Standby", s.cell_bold),
@@ -641,7 +660,7 @@ def timing_block(report: Report, frame: Frame) -> Block:
     left = plot.Axis(0.0, top, f"load current ({unit})")
     lamp = not isinstance(d.spec.load, LedLoad)
     # A filament's light is reported against its rated output (rated voltage), an LED's against its steady light.
-    right = plot.Axis(0.0, light_top, "light output (% of rated)" if lamp else "light output (% of steady)",
+    right = plot.Axis(0.0, light_top, "light output (% of full)",
                       ticks=tuple(t for t in plot.nice_ticks(0.0, light_top) if t <= light_top))
 
     def curves(shift):
@@ -652,11 +671,15 @@ def timing_block(report: Report, frame: Frame) -> Block:
     curve, curve_off = curves(0.0), curves(release)
     fin = plot.Panel(
         x_range=(0.0, release), x_title="time since the feed switched on (s)", series=curve,
-        markers=(plot.Marker(d.fade_in_s, 0.9 * steady, f"90 % at {format_quantity(d.fade_in_s, 's')}"),),
+        markers=(plot.Marker(d.delay_on_s, 0.1 * steady, f"10 % at {format_quantity(d.delay_on_s, 's')}"),
+                 plot.Marker(d.delay_on_s + d.fade_in_s, 0.9 * steady,
+                             f"90 % at {format_quantity(d.delay_on_s + d.fade_in_s, 's')}")),
         heading="Fade-in")
     fout = plot.Panel(
         x_range=(0.0, float(c.t_s[-1]) - release), x_title="time since the feed switched off (s)", series=curve_off,
-        markers=(plot.Marker(d.fade_out_s, 0.1 * steady, f"10 % at {format_quantity(d.fade_out_s, 's')}"),),
+        markers=(plot.Marker(d.hold_off_s, 0.9 * steady, f"90 % at {format_quantity(d.hold_off_s, 's')}"),
+                 plot.Marker(d.hold_off_s + d.fade_out_s, 0.1 * steady,
+                             f"10 % at {format_quantity(d.hold_off_s + d.fade_out_s, 's')}")),
         heading="Fade-out")
     legend = (("load current (left scale)", None, 1.4), ("light output (right scale)", LIGHT_DASH, 1.1),
               ("5 % and 95 % of real parts (current)", BAND_DASH, 0.8))

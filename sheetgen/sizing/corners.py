@@ -1,0 +1,154 @@
+"""The design at the corners of its world: supply, transistor gain and temperature at their limits.
+
+Eight corners (supply min and max × gain min and max × −20 °C and the spec's
+ambient) run as one batch.  A MOSFET's "gain" corner is its threshold: ``min``
+gain is the highest V_GS(th).  At each corner the design must
+
+* reach at least 90 % of the light the same corner gives with the switch driven
+  as hard as it can go (gain × 1000): the drive, not the battery, may not dim it;
+* keep every LED string at or under its rated current;
+* keep the junction under 125 °C, with the heatsink the sheet states.
+
+The four light times are read at each corner too, each against that corner's
+own steady light; ``light_fraction`` says how bright that steady light is
+against the nominal one.
+"""
+
+from __future__ import annotations
+
+import itertools
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from sheetgen.engine import simulate
+from sheetgen.engine.measure import LightTimes, light_times
+from sheetgen.inputs.spec import LedLoad
+from sheetgen.inputs.units import format_quantity
+from sheetgen.parts import catalog
+from sheetgen.sizing import tolerance
+from sheetgen.sizing.hover import load_line_peak_w
+from sheetgen.sizing.light import led_currents, light
+
+if TYPE_CHECKING:
+    from sheetgen.sizing.design import Design
+
+COLD_C = -20.0
+FULL_LIGHT = 0.90
+TJ_LIMIT_C = 125.0
+HARD = 1000.0  # gain multiplier for "switched as hard as it can go"
+
+
+@dataclass(frozen=True)
+class Corner:
+    """One corner's conditions and what the design does there."""
+
+    supply_v: float
+    gain: str  # "min" | "max"
+    temp_c: float
+    times: dict[str, float]
+    light_fraction: float  # steady light at this corner / steady light at nominal
+    drive_fraction: float  # steady light / the light of a hard-switched stage at this corner
+    led_current_max_a: float | None
+    tj_max_c: float
+
+
+def _conditions(spec) -> list[tuple[float, str, float]]:
+    supplies = sorted({spec.supply.min_v, spec.supply.max_v})
+    temps = sorted({COLD_C, spec.ambient_c})
+    return list(itertools.product(supplies, ("min", "max"), temps))
+
+
+def overrides(design: "Design", conditions) -> dict:
+    """Simulator overrides for each condition ``(supply_v, gain, temp_c)``, one row each."""
+    nl = design.netlist
+    supply = np.array([c[0] for c in conditions], dtype=float)
+    dt = np.array([c[2] for c in conditions], dtype=float) - tolerance.T_MODEL_C
+    ov: dict = {("VSUPPLY", "level"): supply, ("VFEED", "level"): supply}
+    for part in nl.parts:
+        if part.kind in ("npn", "pnp"):
+            q = catalog.transistor(part.part_number)
+            i_op = design.load_current_a if part.role == "switch" else tolerance.INPUT_STAGE_CURRENT_A
+            ends = {"min": q.hfe_min_at(i_op), "max": q.hfe_max_at(i_op), "typ": q.hfe_typ_at(i_op)}
+            gain = np.array([ends[c[1]] for c in conditions]) / q.hfe_typ_at(i_op)
+            tolerance.bipolar_at(ov, part, gain, dt)
+        elif part.kind == "nmos":
+            lo, hi = catalog.transistor(part.part_number).vgs_th_v
+            ends = {"min": hi, "max": lo, "typ": part.model["VTO"]}
+            ov[(part.ref, "VTO")] = np.array([ends[c[1]] for c in conditions], dtype=float)
+    if isinstance(design.spec.load, LedLoad):
+        colour = tolerance.led_colour(design.spec)
+        for led in (p for p in nl.parts if p.kind == "led"):
+            ov[(led.ref, "IS")] = led.model["IS"] * colour.is_drift(dt, n=led.model["N"])
+    return ov
+
+
+def hard_switched(netlist, ov: dict, n: int) -> dict:
+    """The same overrides with the switch's gain (or a MOSFET's KP) raised a thousandfold."""
+    hard = dict(ov)
+    switch = netlist.by_role("switch")[0]
+    if switch.kind == "nmos":
+        hard[(switch.ref, "KP")] = np.full(n, switch.model["KP"] * HARD)
+    else:
+        for prefix, card in switch.model.junctions():
+            hard[(switch.ref, f"{prefix}BF")] = ov.get((switch.ref, f"{prefix}BF"), np.full(n, card["BF"])) * HARD
+    return hard
+
+
+def corners(design: "Design") -> tuple[Corner, ...]:
+    """Every corner of the design, from one batched transient and two batched operating points.
+
+    The batch's last row is the nominal design (typical card at its own 27 °C),
+    whose steady light every ``light_fraction`` is measured against.
+    """
+    spec, nl = design.spec, design.netlist
+    conds = _conditions(spec) + [(spec.supply.nominal_v, "typ", tolerance.T_MODEL_C)]
+    n = len(conds)
+    ov = overrides(design, conds)
+    tr = simulate.transient(nl, overrides=ov, n=n)
+    at = nl.release_s * 0.999
+    op = simulate.operating_point(nl, at_s=at, overrides=ov, n=n)
+    hard = simulate.operating_point(nl, at_s=at, overrides=hard_switched(nl, ov, n), n=n)
+    steady = light(nl, op.v, ov)
+    times: LightTimes = light_times(tr.t_s, light(nl, tr.v, ov), release_s=nl.release_s, full=steady)
+    drive = steady / light(nl, hard.v, ov)
+    leds = led_currents(nl, op.v, ov).max(axis=0) if isinstance(spec.load, LedLoad) else None
+    tj = _junction(design, conds)
+    out = []
+    nominal_light = steady[-1]
+    for k, (supply_v, gain, temp_c) in enumerate(conds[:-1]):
+        out.append(Corner(supply_v=supply_v, gain=gain, temp_c=temp_c,
+                          times={name: float(getattr(times, name)[k]) for name in LightTimes._fields},
+                          light_fraction=float(steady[k] / nominal_light), drive_fraction=float(drive[k]),
+                          led_current_max_a=None if leds is None else float(leds[k]), tj_max_c=float(tj[k])))
+    return tuple(out)
+
+
+def _junction(design: "Design", conds) -> np.ndarray:
+    """Worst junction temperature: a feed hovering half-on at that supply, through the stated thermal path."""
+    spec, q = design.spec, design.values.transistor
+    out = []
+    for supply_v, _, temp_c in conds:
+        p = load_line_peak_w(spec, supply_v=supply_v, r_led_ohm=design.values.r_led_ohm)
+        rth = q.rth_ja_c_per_w
+        if spec.ambient_c + p * rth > TJ_LIMIT_C:  # the sheet states a heatsink sized for the spec's ambient
+            rth = (TJ_LIMIT_C - spec.ambient_c) / p
+        out.append(temp_c + p * rth)
+    return np.array(out)
+
+
+def failures(design: "Design", found: tuple[Corner, ...]) -> list[str]:
+    """What fails the acceptance rules, worst first, in words a refusal can print."""
+    out = []
+    rated = design.spec.load.current_a if isinstance(design.spec.load, LedLoad) else None
+    for c in found:
+        where = f"at {c.supply_v:g} V, {c.temp_c:g} °C, {c.gain} gain"
+        if c.drive_fraction < FULL_LIGHT:
+            out.append(f"{where} the light reaches only {c.drive_fraction:.0%} of full drive")
+        if rated is not None and c.led_current_max_a > rated * (1 + 1e-3):
+            out.append(f"{where} an LED string carries {format_quantity(c.led_current_max_a, 'A')}, over its "
+                       f"{format_quantity(rated, 'A')} rating")
+        if c.tj_max_c >= TJ_LIMIT_C:
+            out.append(f"{where} the junction would reach {c.tj_max_c:.0f} °C")
+    return out
