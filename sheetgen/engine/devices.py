@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from sheetgen.engine import light
 from sheetgen.model.constants import BOLTZMANN, CHARGE, T_NOMINAL_K, VT_NOMINAL  # noqa: F401  (re-exported)
 GMIN = 1e-12  # S, SPICE's default GMIN across every junction
 
@@ -168,10 +169,9 @@ def lamp(v, t_k, *, r0_ohm, t_room_k, alpha, k_w_per_k4):
     return i, di_dv, di_dt, p_net, dp_dv, dp_dt
 
 
-def lamp_light(t_k, *, t_hot_k, exponent=8.8):
-    """Relative light output of a filament at temperature ``t_k`` (1.0 at rated).
+def lamp_light(t_k, *, t_hot_k):
+    """Relative light output of a filament at temperature ``t_k`` (1.0 at ``t_hot_k``, the rated point).
 
-    Flux rises as V^3.4 (lamptech.co.uk "Voltage Variation Effects"); with
-    R ∝ T^1.2 and radiation ∝ T^4 at steady state, V ∝ T^2.6, so flux ∝ T^8.8.
+    Planck's law weighted by the CIE 1924 photopic V(λ); see :mod:`sheetgen.engine.light`.
     """
-    return (np.maximum(t_k, 0.0) / t_hot_k) ** exponent
+    return light.lamp_light(t_k, t_ref_k=t_hot_k)
