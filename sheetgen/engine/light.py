@@ -63,7 +63,7 @@ def luminous_exitance(t_k) -> np.ndarray:
     with np.errstate(over="ignore", divide="ignore"):
         x = a / np.maximum(t, 1e-300)[..., None]
         m = np.sum(w / np.expm1(x), axis=-1)
-    return np.where(t > 0, m, 0.0)
+    return np.where(t <= 0, 0.0, m)  # NaN stays NaN, so a broken trace is not shown as darkness
 
 
 @lru_cache(maxsize=None)

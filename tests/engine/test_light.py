@@ -122,6 +122,7 @@ def test_one_at_the_reference_temperature_and_zero_when_cold():
     assert devices.lamp_light(2700.0, t_hot_k=2700.0) == 1.0
     assert light.lamp_light(np.array([0.0, 300.0]), t_ref_k=2700.0)[0] == 0.0
     assert light.lamp_light(300.0, t_ref_k=2700.0) < 1e-20
+    assert np.isnan(light.lamp_light(np.array([np.nan, 2700.0]), t_ref_k=2700.0)[0])
 
 
 @pytest.mark.requires_ngspice
