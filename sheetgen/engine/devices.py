@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from sheetgen.engine import light
 from sheetgen.model.constants import BOLTZMANN, CHARGE, T_NOMINAL_K, VT_NOMINAL  # noqa: F401  (re-exported)
 GMIN = 1e-12  # S, SPICE's default GMIN across every junction
 

@@ -13,6 +13,7 @@ import subprocess
 import numpy as np
 import pytest
 
+from sheetgen.engine.light import lamp_light
 from sheetgen.parts import catalog
 from sheetgen.model.netlist import Model
 from sheetgen.outputs import spice
@@ -258,11 +259,11 @@ def test_filament_wire_from_the_rating():
 
 def test_filament_warm_up_matches_a_published_lamp():
     # Wikipedia, "Incandescent light bulb", Current and resistance (read in a page quoting it):
-    # a 100 W 120 V lamp reaches 90 % of full brightness after about 0.13 s.  Light ∝ T^8.8
-    # (flux ∝ V^3.4, lamptech.co.uk "Voltage Variation Effects", with V ∝ T^2.6).
+    # a 100 W 120 V lamp reaches 90 % of full brightness after about 0.13 s.  Light from the
+    # filament temperature by the project's model (Planck's law weighted by CIE 1924 V(λ)).
     f = catalog.filament()
     t, temps = _warm_up(f, power_w=100.0, rated_v=120.0)
-    t90 = t[np.argmax((temps / f.t_hot_k) ** 8.8 >= 0.9)]
+    t90 = t[np.argmax(lamp_light(temps, t_ref_k=f.t_hot_k) >= 0.9)]
     assert 0.13 * 0.7 <= t90 <= 0.13 * 1.3, t90
     # lamptech.co.uk, Starting Characteristics: a 230 V 100 W lamp closely approaches its
     # nominal current within about 0.05 s (read in the source); here: within 10 % by 0.06 s
