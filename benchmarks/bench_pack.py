@@ -27,7 +27,7 @@ ROOT = Path(__file__).resolve().parent.parent
 TARGET_MB = 600.0
 LIBRARIES = "import numpy, yaml, reportlab, schemdraw, svglib"
 SPECS = ("camper-van-step-light.yaml", "workshop-cabinet.yaml", "model-railway-station.yaml",
-         "boat-cabin-lamp.yaml", "truck-cab-lamp.yaml")
+         "estate-car-tailgate-ground.yaml")
 BUILDERS = (("Ana", "Bo", "Zoë", "Ødegård", "Priya", "Kai", "Lin", "Mo", "Noor", "Olek", "Pía", "Quinn"),
             ("Ravi", "Sión", "Tove", "Uma", "Vík", "Wen", "Xu", "Yara"))
 #: (label, builders per design in order, target seconds)

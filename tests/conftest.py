@@ -76,3 +76,24 @@ def railway_report():
     from sheetgen.inputs.spec import load_spec
 
     return analyse(size(load_spec(Path(__file__).parent.parent / "examples" / "model-railway-station.yaml")))
+
+
+@pytest.fixture(scope="session")
+def lamp_sizing():
+    """Size a lamp spec with the delay limits of the timing contract lifted.
+
+    Under light-based timing every switching stage here keeps a lamp dark, then
+    snaps it on, so the sizer refuses lamps (tests/sizing/test_size.py checks
+    that).  Heat, inrush, heatsinks and wiring of a lamp design do not depend
+    on that limit, so their tests size the lamp this way.
+    """
+    import math
+    from unittest import mock
+
+    from sheetgen.sizing import size as sizing
+
+    def run(spec):
+        with mock.patch.object(sizing, "delay_limits", lambda _spec: (math.inf, math.inf)):
+            return sizing.size(spec)
+
+    return run

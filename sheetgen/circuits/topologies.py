@@ -12,7 +12,7 @@ imports a drawing library; ``sheetgen.outputs.pdf.schematic`` supplies the pen.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Callable, Literal, Protocol, Sequence
 
 from sheetgen.parts.catalog import Diode, Transistor
@@ -41,6 +41,8 @@ class Values:
     ratings: tuple[tuple[str, float | None, float | None], ...] = ()
     input_transistor: Transistor | None = None  # the PNP of a ground-switched input stage
     clamp: Diode | None = None  # zener across a MOSFET's gate where the supply exceeds the gate rating
+    r_emitter_ohm: float | None = None  # a current stage's emitter resistor: sets the LED current
+    r_divider_ohm: float | None = None  # a current stage's charge divider: sets C1's top voltage
 
 
 @dataclass(frozen=True)
@@ -154,13 +156,20 @@ class Stage:
     cost_rank: int  # 0 cheapest: a plain NPN, then a Darlington, then a MOSFET
     drive_net: str = "base"
     out_net: str = "collector"
+    emitter_resistor: bool = False  # a current stage: the load current is (V_C1 - V_BE) / R_E
+    loads: tuple[str, ...] = ("led", "lamp")  # the load kinds it is designed for
 
 
 SINGLE_NPN = Stage(kind="bjt", darlington=False, vce_sat_v=0.2, v_drive_v=0.75, cost_rank=0)
+# An emitter-degenerated NPN: never saturated in use, so the LED current follows C1's voltage over
+# the whole charge curve and is set by R_E, not by the transistor's gain (Horowitz & Hill, The Art of
+# Electronics, 3rd ed., 2.2.6 "current sources"; section number from memory).
+CURRENT_NPN = Stage(kind="bjt", darlington=False, vce_sat_v=0.2, v_drive_v=0.7, cost_rank=1,
+                    emitter_resistor=True, loads=("led",))
 # Darlington Vce(sat) about 1 V at moderate currents, VBE(on) 1.2-1.5 V (TIP120: 2 V max at 3 A, onsemi TIP120 data sheet; read in the source)
-DARLINGTON = Stage(kind="bjt", darlington=True, vce_sat_v=1.0, v_drive_v=1.4, cost_rank=1)
+DARLINGTON = Stage(kind="bjt", darlington=True, vce_sat_v=1.0, v_drive_v=1.4, cost_rank=2)
 # A logic-level MOSFET fully on drops only I·RDS(on): tens of millivolts at an amp (IRLZ44N, 25 mΩ at 5 V)
-LOGIC_MOSFET = Stage(kind="mosfet", darlington=False, vce_sat_v=0.05, v_drive_v=0.0, cost_rank=2,
+LOGIC_MOSFET = Stage(kind="mosfet", darlington=False, vce_sat_v=0.05, v_drive_v=0.0, cost_rank=3,
                      drive_net="gate", out_net="drain")
 
 INPUT_PNP = "BC327-40"
@@ -280,6 +289,13 @@ def _switch(values: Values, stage: Stage) -> list[Part]:
                               description=f"{z.vrrm_v:g} V zener: clamps the gate below its rating",
                               rating_v=z.vrrm_v, package=z.package))
         return parts
+    if stage.emitter_resistor:
+        return [
+            _resistor("R3", "timer", drive, "base", values.r_base_ohm, values, "base resistor: isolates Q1's base"),
+            Part(ref="Q1", kind="npn", pins=(("C", out), ("B", drive), ("E", "emitter")), role="switch",
+                 model=q.model, part_number=q.part_number, description="NPN current stage, low side",
+                 rating_v=q.vmax_v, rating_w=q.pd_free_air_w, package=q.package),
+        ]
     return [
         _resistor("R3", "timer", drive, "base", values.r_base_ohm, values, "base resistor: sets the drive to Q1"),
         Part(ref="Q1", kind="npn", pins=(("C", out), ("B", drive), ("E", GROUND)), role="switch",
@@ -294,11 +310,27 @@ def _build(spec: Spec, values: Values, window: Window, *, topology: "Topology") 
     cv, _ = _rating(values, "C1")
     ground_input = topology.trigger == "ground"
     d1_anode = "switched" if ground_input else "feed"
+    if topology.stage.emitter_resistor:
+        # The divider comes before D1, so C1 charges to a low top voltage but discharges through R2 alone:
+        # separate charge and discharge paths, set independently.
+        charge = [
+            _resistor("R1", d1_anode, "divided", "charge", values.r_charge_ohm, values,
+                      "charge resistor: sets the fade-in"),
+            Part(ref="D1", kind="diode", pins=(("A", "divided"), ("K", "timer")), role="blocking", model=d.model,
+                 part_number=d.part_number,
+                 description="steering diode: the capacitor cannot discharge into the charge path",
+                 rating_v=d.vrrm_v, package=d.package),
+        ]
+    else:
+        charge = [
+            Part(ref="D1", kind="diode", pins=(("A", d1_anode), ("K", "feed_d")), role="blocking", model=d.model,
+                 part_number=d.part_number, description="blocking diode: the capacitor cannot discharge into the feed",
+                 rating_v=d.vrrm_v, package=d.package),
+            _resistor("R1", "feed_d", "timer", "charge", values.r_charge_ohm, values,
+                      "charge resistor: sets the fade-in"),
+        ]
     parts = [
-        Part(ref="D1", kind="diode", pins=(("A", d1_anode), ("K", "feed_d")), role="blocking", model=d.model,
-             part_number=d.part_number, description="blocking diode: the capacitor cannot discharge into the feed",
-             rating_v=d.vrrm_v, package=d.package),
-        _resistor("R1", "feed_d", "timer", "charge", values.r_charge_ohm, values, "charge resistor: sets the fade-in"),
+        *charge,
         Part(ref="C1", kind="capacitor", pins=(("+", "timer"), ("-", GROUND)), role="timing",
              value=values.c_timing_f, description="timing capacitor, electrolytic", rating_v=cv,
              tolerance=0.20, package="radial"),
@@ -307,8 +339,15 @@ def _build(spec: Spec, values: Values, window: Window, *, topology: "Topology") 
     ]
     if ground_input:
         parts += _input_parts(values)
-    parts += load_parts(spec, values, top="supply", bottom=topology.stage.out_net,
-                        first_r=6 if ground_input else 4)
+    first_r = 6 if ground_input else 4
+    parts += load_parts(spec, values, top="supply", bottom=topology.stage.out_net, first_r=first_r)
+    if topology.stage.emitter_resistor:
+        strings = spec.load.strings if isinstance(spec.load, LedLoad) else 1
+        parts.append(replace(_resistor(f"R{first_r + strings}", "emitter", GROUND, "emitter",
+                                       values.r_emitter_ohm or 1.0, values, "emitter resistor: sets the LED current"),
+                             tolerance=0.01))
+        parts.append(_resistor(f"R{first_r + strings + 1}", "divided", GROUND, "divider", values.r_divider_ohm or 1.0,
+                               values, "divider resistor: with R1 sets how far C1 charges"))
     sources = (
         Source(name="VSUPPLY", plus="supply", minus=GROUND, level_v=spec.supply.nominal_v),
         feed_source(spec, window, trigger=topology.trigger),
@@ -424,8 +463,18 @@ def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
     drive_pin, out_pin, common_pin = _SWITCH_PINS[q1.kind]
     drive, out = q1.net(drive_pin), q1.net(out_pin)
 
-    pen.diode(d1, "right")
-    pen.resistor(r1, "right")
+    if netlist.by_role("divider"):
+        pen.resistor(r1, "right")
+        pen.junction()
+        pen.mark("divider")
+        pen.resistor(_one(netlist, "divider"), "down")
+        pen.ground()
+        pen.go("divider")
+        pen.wire("right", 1.0)  # room for the divider's label between it and C1's
+        pen.diode(d1, "right")
+    else:
+        pen.diode(d1, "right")
+        pen.resistor(r1, "right")
     pen.junction()
     pen.test_point(tp["timer"], "timer", "up")
     pen.mark("timer")
@@ -455,6 +504,10 @@ def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
     else:
         pen.npn(q1)
     pen.pin(q1, common_pin)
+    if netlist.by_role("emitter"):
+        pen.wire("down", 0.25)
+        pen.test_point(tp["emitter"], "emitter", "right")
+        pen.resistor(_one(netlist, "emitter"), "down")
     pen.ground()
     pen.pin(q1, out_pin)
     pen.wire("up", 0.5)
@@ -552,6 +605,8 @@ def _probes(stage: Stage, trigger: str) -> tuple[tuple[str, str], ...]:
               (f"TP4 {stage.out_net}", stage.out_net), ("TP5 supply", "supply"))
     if trigger == "ground":
         probes += (("TP6 input switch output", "switched"),)
+    if stage.emitter_resistor:
+        probes += (f"TP{len(probes) + 1} emitter", "emitter"),
     return probes
 
 
@@ -570,6 +625,13 @@ NPN = _topology("npn", "Single NPN, low side", _SUMMARY, stage=SINGLE_NPN, trigg
 DARLINGTON_LOW = _topology("darlington", "Darlington, low side",
                            _SUMMARY + " The Darlington's gain lets C1 be far smaller for heavy loads.",
                            stage=DARLINGTON, trigger="positive", draw=_draw_positive_feed)
+_CURRENT_SUMMARY = (" R_E in Q1's emitter sets the LED current, so the light follows C1's voltage over its whole "
+                    "charge and does not depend on Q1's gain.")
+NPN_CURRENT = _topology("npn-current", "NPN current stage, low side", _SUMMARY + _CURRENT_SUMMARY,
+                        stage=CURRENT_NPN, trigger="positive", draw=_draw_positive_feed)
+NPN_CURRENT_GROUND = _topology("npn-current-ground", "NPN current stage, low side, ground-switched input",
+                               _SUMMARY + _CURRENT_SUMMARY + _GROUND_SUMMARY, stage=CURRENT_NPN, trigger="ground",
+                               draw=_draw_ground_feed)
 NPN_GROUND = _topology("npn-ground", "Single NPN, low side, ground-switched input", _SUMMARY + _GROUND_SUMMARY,
                        stage=SINGLE_NPN, trigger="ground", draw=_draw_ground_feed)
 DARLINGTON_GROUND = _topology("darlington-ground", "Darlington, low side, ground-switched input",
@@ -584,8 +646,8 @@ MOSFET_GROUND = _topology("mosfet-ground", "Logic-level MOSFET, low side, ground
                           _MOSFET_SUMMARY + _GROUND_SUMMARY, stage=LOGIC_MOSFET, trigger="ground",
                           draw=_draw_ground_feed)
 
-TOPOLOGIES: dict[str, Topology] = {t.name: t for t in (NPN, DARLINGTON_LOW, MOSFET_LOW, NPN_GROUND,
-                                                       DARLINGTON_GROUND, MOSFET_GROUND)}
+TOPOLOGIES: dict[str, Topology] = {t.name: t for t in (NPN, NPN_CURRENT, DARLINGTON_LOW, MOSFET_LOW, NPN_GROUND,
+                                                       NPN_CURRENT_GROUND, DARLINGTON_GROUND, MOSFET_GROUND)}
 
 
 def topologies_for(trigger: str) -> tuple[Topology, ...]:

@@ -5,7 +5,7 @@ from __future__ import annotations
 from sheetgen.sizing import mounting
 from sheetgen.sizing.report import Report
 from sheetgen.engine.measure import DEFINITIONS, FULL_MEANS
-from sheetgen.outputs.wording import led_dimming_words
+from sheetgen.outputs.wording import current_stage_words, led_dimming_words
 from sheetgen.sizing.size import delay_limits
 from sheetgen.inputs.units import format_quantity
 from sheetgen.outputs.wording import refs_text, standby_text
@@ -29,6 +29,9 @@ def _led_line(report: Report) -> list[str]:
 def _drive_line(report: Report) -> str:
     d = report.design
     low = d.spec.supply.min_v
+    current = current_stage_words(report)
+    if current:
+        return f"  {current}"
     if d.topology.stage.kind == "mosfet":
         return f"  gate drive at {low:g} V: {d.overdrive:.2f}× the gate voltage its on-resistance is rated at"
     return f"  base drive at {low:g} V and minimum gain: {d.overdrive:.2f}× what saturation needs"

@@ -53,3 +53,16 @@ def led_dimming_words(report) -> str | None:
     return (f"each LED string carries {format_quantity(report.led_current_a, 'A')} at "
             f"{spec.supply.nominal_v:g} V, {report.led_current_a / rated:.0%} of its "
             f"{format_quantity(rated, 'A')} rating: sized so that at {spec.supply.max_v:g} V it stays within it")
+
+
+def current_stage_words(report) -> str | None:
+    """What sets the LED current in a current stage; None for a switch driven into saturation."""
+    d = report.design
+    emitter = d.netlist.by_role("emitter")
+    if not emitter:
+        return None
+    re = emitter[0]
+    spec = d.spec
+    return (f"{re.ref} ({format_quantity(re.value, 'ohm')}) in Q1's emitter holds each string at or under "
+            f"{format_quantity(spec.load.current_a, 'A')} up to {spec.supply.max_v:g} V; Q1 never saturates, "
+            "so its gain does not set the brightness")

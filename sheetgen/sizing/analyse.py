@@ -28,7 +28,7 @@ from sheetgen.engine.measure import light_times
 from sheetgen.sizing.report import BenchReading, Curves, Harness, Heat, Report, ResistorHeat, TuningRow
 from sheetgen.sizing.design import Design
 from sheetgen.sizing.size import C_MAX_F, C_MIN_F, R_BLEED_RANGE, R_CHARGE_RANGE, TJ_LIMIT_C
-from sheetgen.sizing.hover import load_line_peak_w
+from sheetgen.sizing.hover import design_hover_w
 from sheetgen.inputs.spec import LedLoad
 from sheetgen.sizing.light import led_currents, light
 
@@ -101,7 +101,7 @@ def _heat(design: Design, tr, op_on) -> Heat:
     t = tr.t_s
     steady_p = float(np.interp(design.netlist.release_s * 0.999, t, p))
     energy = float(np.sum(0.5 * (p[1:] + p[:-1]) * np.diff(t)) - steady_p * design.netlist.release_s)
-    hover = load_line_peak_w(spec, supply_v=spec.supply.max_v, r_led_ohm=design.values.r_led_ohm)
+    hover = design_hover_w(design, supply_v=spec.supply.max_v)
     tj = spec.ambient_c + hover * q.rth_ja_c_per_w
     sink = None
     if tj > TJ_LIMIT_C:

@@ -28,7 +28,7 @@ from sheetgen.inputs.spec import LedLoad
 from sheetgen.inputs.units import format_quantity
 from sheetgen.parts import catalog
 from sheetgen.sizing import tolerance
-from sheetgen.sizing.hover import load_line_peak_w
+from sheetgen.sizing.hover import design_hover_w
 from sheetgen.sizing.light import led_currents, light
 
 if TYPE_CHECKING:
@@ -130,7 +130,7 @@ def _junction(design: "Design", conds) -> np.ndarray:
     spec, q = design.spec, design.values.transistor
     out = []
     for supply_v, _, temp_c in conds:
-        p = load_line_peak_w(spec, supply_v=supply_v, r_led_ohm=design.values.r_led_ohm)
+        p = design_hover_w(design, supply_v=supply_v)
         rth = q.rth_ja_c_per_w
         if spec.ambient_c + p * rth > TJ_LIMIT_C:  # the sheet states a heatsink sized for the spec's ambient
             rth = (TJ_LIMIT_C - spec.ambient_c) / p

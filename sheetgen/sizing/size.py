@@ -29,7 +29,7 @@ from sheetgen.engine import simulate
 from sheetgen.sizing import protection
 from sheetgen.sizing import corners as corner_checks
 from sheetgen.sizing import tolerance
-from sheetgen.sizing.light import light
+from sheetgen.sizing.light import led_currents, light
 from sheetgen.parts.catalog import Transistor
 from sheetgen.errors import InfeasibleDesign, SpecError
 from sheetgen.circuits.loads import rated_current_a
@@ -62,6 +62,10 @@ C_PENALTY = 0.01  # a tenfold larger capacitor must buy 2.3 % of accuracy: cans 
 ROUNDS = 4
 SETTLE_TAUS = 5.0  # the capacitor is within 1 % of its final voltage after five time constants
 YIELD_ATTEMPTS = 3
+STIFF_DIVIDER = 0.94  # C1's top with the weakest part's base load, against no load at all (first-guess filter)
+BALLAST_V = 0.3  # a current stage's string resistors drop this at the rated current, to share it (common practice, no source)
+CURRENT_STAGE_R3_OHM = 1000.0  # isolates a current stage's base from C1; its drop is small (common practice, no source)
+VBE_CORNER_SHIFT_V = 2e-3  # V_BE falls about 2 mV/°C (common practice, no source): the stage's current at a hot ambient
 LED_CURRENT_MARGIN = 1.02  # the string resistor 2 % above the exact figure, for the solver's own Vce(sat)
 
 
@@ -142,6 +146,8 @@ def _led_resistor(spec: Spec, stage: Stage, scale: float = 1.0) -> float | None:
     # (the forward voltage falls as the LED warms), rounded up to E24: the string never exceeds its
     # rated current, and is dimmer at nominal supply.  Vce(sat) is taken at a third of the stage's
     # figure, as a lightly loaded switch drops less.
+    if stage.emitter_resistor:  # R_E sets the current; each string's resistor only shares it out
+        return eseries.above("E24", BALLAST_V / load.current_a)
     colour = tolerance.led_colour(spec)
     vf_hot = load.vf_v + colour.tc_v_per_c * (spec.ambient_c - 25.0)
     headroom = spec.supply.max_v - protection.drop_v(spec) - load.per_string * vf_hot - stage.vce_sat_v / 3
@@ -154,13 +160,17 @@ def _led_resistor(spec: Spec, stage: Stage, scale: float = 1.0) -> float | None:
 
 def _transistor_candidates(spec: Spec, topology: Topology, refusals: list[str]) -> list[Transistor]:
     """Parts of the topology's stage able to carry the load: smallest package, then highest gain."""
+    if spec.load.kind not in topology.stage.loads:
+        refusals.append(f"it is designed for {' and '.join(topology.stage.loads)} loads only")
+        return []
     try:
         r_led = _led_resistor(spec, topology.stage)
     except _NoFit as exc:
         refusals.append(str(exc))
         return []
     i_load = rated_current_a(spec.load) * spec.supply.max_v / spec.supply.nominal_v
-    p_peak = load_line_peak_w(spec, supply_v=spec.supply.max_v, r_led_ohm=r_led)
+    limit = rated_current_a(spec.load) if topology.stage.emitter_resistor else None
+    p_peak = load_line_peak_w(spec, supply_v=spec.supply.max_v, r_led_ohm=r_led, current_limit_a=limit)
     v_surge = protection.surge_v(spec)
     if p_peak > HOVER_MAX_W:
         refusals.append(f"a feed that hovers half-on would put about {p_peak:.0f} W into the switch at "
@@ -200,6 +210,12 @@ def _transistor_candidates(spec: Spec, topology: Topology, refusals: list[str]) 
 # --------------------------------------------------------------- search
 def _grid(series: str, lo: float, hi: float) -> np.ndarray:
     return np.array(eseries.values(series, lo, hi))
+
+
+def _snap_above(series: str, x: np.ndarray) -> np.ndarray:
+    """Vectorised ``eseries.above`` over an array of values from 0.1 Ω up."""
+    grid = _grid(series, 0.1, 1e8)
+    return grid[np.minimum(np.searchsorted(grid, x * (1 - 1e-9), side="left"), grid.size - 1)]
 
 
 def _snap_below(series: str, x: np.ndarray) -> np.ndarray:
@@ -263,6 +279,8 @@ class _Trial:
     r1: float
     r2: float
     r3: float
+    re: float = 0.0  # a current stage's emitter resistor; 0 where there is none
+    rd: float = 0.0  # a current stage's charge divider resistor; 0 where there is none
     t_in: float = math.nan
     t_out: float = math.nan
     delay_on: float = math.nan
@@ -284,14 +302,15 @@ class _Trial:
 def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_max: float,
                led_scale: float = 1.0) -> Design:
     r_led = _led_resistor(spec, topology.stage, led_scale)
-    drive = _DRIVES[topology.stage.kind](spec, topology, q, od_min)
+    drive = _drive_for(topology.stage)(spec, topology, q, od_min)
+    drive.led_scale = led_scale
     base_values = Values(transistor=q, diode=catalog.diode(DIODE), r_charge_ohm=1.0, r_bleed_ohm=1.0,
                          r_base_ohm=1.0, c_timing_f=1.0, r_led_ohm=r_led,
                          input_transistor=catalog.transistor(INPUT_PNP) if topology.trigger == "ground" else None,
                          clamp=drive.clamp)
     C, R1, R2 = (a.ravel() for a in np.meshgrid(_grid("E6", C_MIN_F, c_max), _grid("E12", *R_CHARGE_RANGE),
                                                   _grid("E12", *R_BLEED_RANGE), indexing="ij"))
-    C, R1, R2, R3, P = drive.grid(C, R1, R2)
+    C, R1, R2, R3, RE, P = drive.grid(C, R1, R2)
 
     k = np.ones((4, 1))  # simulator / closed-form ratios of the four times, learnt each round
     on_max, off_max = delay_limits(spec)
@@ -306,10 +325,10 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_m
         order = np.argsort(score)
         picks = []
         for j in order:
-            key = (C[j], R1[j], R2[j], R3[j])
+            key = (C[j], R1[j], R2[j], R3[j], RE[j])
             if key in tried or not np.isfinite(score[j]):
                 continue
-            picks.append(_Trial(c=C[j], r1=R1[j], r2=R2[j], r3=R3[j]))
+            picks.append(_Trial(c=C[j], r1=R1[j], r2=R2[j], r3=R3[j], re=RE[j]))
             tried[key] = picks[-1]
             if len(picks) == CANDIDATES_PER_ROUND:
                 break
@@ -369,14 +388,20 @@ def _load_scale(spec: Spec, supply_v: float, stage: Stage) -> float:
 
 
 def _values(base: Values, t: _Trial) -> Values:
-    return replace(base, r_charge_ohm=t.r1, r_bleed_ohm=t.r2, r_base_ohm=t.r3, c_timing_f=t.c)
+    return replace(base, r_charge_ohm=t.r1, r_bleed_ohm=t.r2, r_base_ohm=t.r3, c_timing_f=t.c,
+                   r_emitter_ohm=t.re or None, r_divider_ohm=t.rd or None)
 
 
-def _batch_overrides(trials: list[_Trial]) -> dict:
-    return {("R1", "value"): np.array([t.r1 for t in trials]),
-            ("R2", "value"): np.array([t.r2 for t in trials]),
-            ("R3", "value"): np.array([t.r3 for t in trials]),
-            ("C1", "value"): np.array([t.c for t in trials])}
+def _batch_overrides(trials: list[_Trial], netlist=None) -> dict:
+    ov = {("R1", "value"): np.array([t.r1 for t in trials]),
+          ("R2", "value"): np.array([t.r2 for t in trials]),
+          ("R3", "value"): np.array([t.r3 for t in trials]),
+          ("C1", "value"): np.array([t.c for t in trials])}
+    for role, field in (("emitter", "re"), ("divider", "rd")):
+        found = netlist.by_role(role) if netlist is not None else ()
+        if found:
+            ov[(found[0].ref, "value")] = np.array([getattr(t, field) for t in trials])
+    return ov
 
 
 def drive_at_minimum(netlist, trials_overrides: dict, *, n: int, supply_v: float, hfe_min: float,
@@ -438,7 +463,7 @@ class _BaseDrive:
         v_feed = self.spec.supply.nominal_v - DIODE_DROP_V
         P = _predict(v_feed, self.vbe_on, R1, R2, R3, C, self.i_nom, self.q.hfe_typ_at(self.i_nom),
                      current_fractions(self.spec))
-        return C, R1, R2, R3, P
+        return C, R1, R2, R3, np.zeros(C.shape), P
 
     def check(self, netlist, trials, window) -> list:
         """Step each candidate's R3 along E24 until its drive lies in the window, by DC analysis."""
@@ -513,12 +538,12 @@ class _GateDrive:
         with np.errstate(divide="ignore", invalid="ignore"):
             P = np.stack([tau_in * np.log(v_inf / (v_inf - v_lo)), tau_in * np.log((v_inf - v_lo) / (v_inf - v_hi)),
                           tau_out * np.log(v_inf / v_hi), tau_out * np.log(v_hi / v_lo)])
-        return C, R1, R2, R3, np.where(v_inf > v_hi, P, np.inf)
+        return C, R1, R2, R3, np.zeros(C.shape), np.where(v_inf > v_hi, P, np.inf)
 
     def check(self, netlist, trials, window) -> list:
         """Keep candidates whose simulated gate voltage meets both limits."""
         s = self.spec.supply
-        ov = _batch_overrides(trials)
+        ov = _batch_overrides(trials, netlist)
         n = len(trials)
         out = []
         gates = {}
@@ -546,7 +571,124 @@ class _GateDrive:
                 f"on-resistance is rated at, at {self.spec.supply.min_v:g} V{clamp}")
 
 
-_DRIVES = {"bjt": _BaseDrive, "mosfet": _GateDrive}
+class _CurrentDrive:
+    """An emitter-degenerated NPN: R_E sets the LED current, C1's voltage sets how much of it flows.
+
+    The R1-R_div divider before the steering diode D1 sets how far C1
+    charges; R2 alone (with Q1's base) drains it, so fade-in and fade-out are
+    chosen apart.  R_E is chosen so that at the top of the supply range, at the
+    spec's ambient, the strings carry their rated current, and checked by DC
+    analysis.  At the bottom of the range the emitter's drop plus the LEDs must
+    still leave Q1 out of saturation.  The light follows C1's charge curve from
+    Q1's V_BE upwards: a fade, not a snap.
+    """
+
+    clamp = None
+    led_scale = 1.0
+
+    def __init__(self, spec: Spec, topology: Topology, q: Transistor, od_min: float):
+        self.spec, self.q = spec, q
+        self.vbe = topology.stage.v_drive_v
+        load = spec.load
+        self.i_rated = rated_current_a(load)
+        # The weakest part in the cold loads the divider most.
+        self.beta = q.hfe_min_at(self.i_rated) * (1 + tolerance.HFE_TC_PER_C * (corner_checks.COLD_C
+                                                                               - tolerance.T_MODEL_C))
+        ballast = eseries.above("E24", BALLAST_V / load.current_a) * load.current_a
+        # What R_E may drop at the bottom of the range, with the LEDs and the ballast, before Q1 saturates.
+        self.room_v = spec.supply.min_v - protection.drop_v(spec) - load.per_string * load.vf_v - ballast - 0.3
+        self.hot = VBE_CORNER_SHIFT_V * (spec.ambient_c - tolerance.T_MODEL_C)
+
+    def _vc(self, supply_v, R1, RD, R2, RE, beta=None):
+        """C1's steady voltage: the divider through D1, loaded by R2 and the base (R3 + β R_E into V_BE)."""
+        vth = supply_v * RD / (R1 + RD) - DIODE_DROP_V
+        rth = R1 * RD / (R1 + RD)
+        rb = CURRENT_STAGE_R3_OHM + (self.beta if beta is None else beta) * RE
+        g = 1 / rth + 1 / R2 + 1 / rb
+        return (vth / rth + self.vbe / rb) / g
+
+    def grid(self, C, R1, R2):
+        s = self.spec
+        if self.room_v <= 0.3:
+            raise _NoFit(f"the LEDs leave Q1 and its emitter resistor no room at {s.supply.min_v:g} V")
+        target = self.i_rated / self.led_scale
+        # C1's top voltage at the bottom of the range, cold: R_E then drops 80 % of the room there.
+        vc_min = self.vbe + self.hot + 0.8 * self.room_v
+        RD, RE = R1.copy(), np.full(C.shape, 10.0)
+        for _ in range(4):  # the divider, R_E and the base's load on C1 settle together
+            rth = R1 * RD / (R1 + RD)
+            rb = CURRENT_STAGE_R3_OHM + self.beta * RE
+            vth = (vc_min * (1 / rth + 1 / R2 + 1 / rb) - self.vbe / rb) * rth + DIODE_DROP_V
+            k = np.clip(vth / s.supply.min_v, 0.02, 0.98)
+            RD = R1 * k / (1 - k)
+            RE = np.maximum((self._vc(s.supply.max_v, R1, RD, R2, RE) - self.vbe + self.hot) / target, 0.1)
+        RD = _snap_above("E12", RD)
+        RE = _snap_above("E24", np.maximum((self._vc(s.supply.max_v, R1, RD, R2, RE) - self.vbe + self.hot)
+                                           / target, 0.1))
+        x_min = self._vc(s.supply.min_v, R1, RD, R2, RE) - self.vbe - self.hot
+        # The weakest part's base current may not pull C1 down enough to dim the light (the corners' 90 %).
+        x_stiff = self._vc(s.supply.min_v, R1, RD, R2, RE, beta=self.beta * 1e3) - self.vbe - self.hot
+        valid = (x_min >= 0.3) & (x_min <= self.room_v) & (RD >= 100.0) & (x_min >= STIFF_DIVIDER * x_stiff)
+        if not valid.any():
+            raise _NoFit(f"no divider sets C1 between {self.vbe + 0.3:.1f} V and {self.vbe + self.room_v:.1f} V "
+                         "over the supply range")
+        C, R1, R2, RD, RE = C[valid], R1[valid], R2[valid], RD[valid], RE[valid]
+        R3 = np.full(C.shape, CURRENT_STAGE_R3_OHM)
+        vc = self._vc(s.supply.nominal_v, R1, RD, R2, RE)
+        rb = CURRENT_STAGE_R3_OHM + self.beta * RE
+        lo, hi = current_fractions(s)
+        v_lo, v_hi = self.vbe + lo * (vc - self.vbe), self.vbe + hi * (vc - self.vbe)
+        tau_in = C / (1 / (R1 * RD / (R1 + RD)) + 1 / R2 + 1 / rb)
+        v_inf = self.vbe * R2 / (R2 + rb)
+        tau_out = C * R2 * rb / (R2 + rb)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            P = np.stack([tau_in * np.log(vc / (vc - v_lo)), tau_in * np.log((vc - v_lo) / (vc - v_hi)),
+                          tau_out * np.log((vc - v_inf) / (v_hi - v_inf)),
+                          tau_out * np.log((v_hi - v_inf) / (v_lo - v_inf))])
+        self.dividers = dict(zip(zip(C, R1, R2, R3, RE), RD))
+        return C, R1, R2, R3, RE, np.where(np.isfinite(P) & (P > 0), P, np.inf)
+
+    def check(self, netlist, trials, window) -> list:
+        """Set each R_E on E24 so the strings carry at most their rating at the top of the supply range."""
+        s = self.spec
+        n = len(trials)
+        target = self.i_rated / self.led_scale
+        for t in trials:
+            t.rd = self.dividers.get((t.c, t.r1, t.r2, t.r3, t.re), t.rd)
+        for _ in range(2):
+            ov = _batch_overrides(trials, netlist)
+            ov[("VSUPPLY", "level")] = ov[("VFEED", "level")] = np.full(n, s.supply.max_v)
+            op = simulate.operating_point(netlist, at_s=window.release_s / 2, overrides=ov, n=n)
+            i = led_currents(netlist, op.v, ov).sum(axis=0)
+            for t, ii, x in zip(trials, i, op.v("emitter")):
+                # With V_BE lower by the heat of the spec's ambient, the emitter sits that much higher.
+                t.re = eseries.above("E24", max(x + self.hot, 1e-3) / target)
+                t.overdrive = float(ii / target)
+        return trials
+
+    @staticmethod
+    def charge_tau_s(t) -> float:
+        """C1 charges from the R1-R_div divider through D1, against R2.
+
+        Twice the plain RC figure: D1's own resistance grows as its current
+        falls, so the last of the charge comes slowly.
+        """
+        return 2.0 * (t.c * t.r2 / (1 + t.r2 / (t.r1 * t.rd / (t.r1 + t.rd))) if t.rd else t.c * t.r2)
+
+    limit_note = "the current stage's light follows C1 over its whole charge, so fades can only be as long as C1 allows"
+
+    def reason(self, best) -> str:
+        return (f"{self.q.part_number} as a current stage: its emitter resistor "
+                f"{format_quantity(best.re, 'ohm')} holds the LED strings at or under their rating at "
+                f"{self.spec.supply.max_v:g} V, and the light follows C1's charge")
+
+
+_DRIVES = {"bjt": _BaseDrive, "mosfet": _GateDrive, "current": _CurrentDrive}
+
+
+def _drive_for(stage: Stage):
+    """The drive rule of a stage: a current stage, a bipolar switch or a MOSFET."""
+    return _DRIVES["current" if stage.emitter_resistor else stage.kind]
 
 
 def _simulate(spec, topology, base, window, trials) -> None:
@@ -554,7 +696,7 @@ def _simulate(spec, topology, base, window, trials) -> None:
     if not trials:
         return
     netlist = _netlist(topology, spec, _values(base, trials[0]), window)
-    ov = _batch_overrides(trials)
+    ov = _batch_overrides(trials, netlist)
     n = len(trials)
     op = simulate.operating_point(netlist, at_s=window.release_s / 2, overrides=ov, n=n)
     steady = op.i_source("VSUPPLY")
@@ -600,6 +742,10 @@ def _infeasible_message(spec: Spec, refusals: list[str], c_max: float) -> str:
     if spec.fade_in_s > 2 * spec.fade_out_s:
         hints.append("a fade-in much longer than the fade-out needs a large charge resistor against a small "
                      "bleed resistor, which leaves too little drive; bring the two times closer together")
+    if isinstance(spec.load, LampLoad):
+        hints.append("a lamp's light rises from 10 % to 90 % over only the top third of its current, so these "
+                     "stages keep it dark and then snap it on; an LED load of the same light, on a current "
+                     "stage, fades as asked")
     if spec.topology != "auto":
         hints.append("topology: auto lets the sizer move to a stronger stage")
     hints.append("a shorter fade-in, fade times nearer 1-5 s, or a lighter load are easiest to reach")

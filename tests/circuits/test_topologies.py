@@ -103,9 +103,9 @@ def test_selection_grid_meets_the_spec_or_says_why(load, fade):
     assert d.reasons[0].endswith("meets the spec") or "could not" in d.reasons[0]
 
 
-def test_heavy_loads_move_to_a_stronger_stage():
+def test_heavy_loads_move_to_a_stronger_stage(lamp_sizing):
     # A 21 W lamp (1.75 A) is beyond a small transistor's base drive within 4,700 µF.
-    d = size(_spec(LAMP21, fade=(0.5, 3.0)))
+    d = lamp_sizing(_spec(LAMP21, fade=(0.5, 3.0)))
     assert d.topology.stage.kind == "mosfet" or d.topology.stage.darlington
     assert "could not" in d.reasons[0]
 
@@ -115,10 +115,10 @@ def test_forced_topology_that_cannot_meet_the_spec_exits_with_the_reason():
         size(_spec(LAMP21, fade=(0.5, 3.0), extra="topology: npn\n"))
 
 
-def test_24v_mosfet_gets_a_gate_clamp_and_ratings_follow_the_supply():
+def test_24v_mosfet_gets_a_gate_clamp_and_ratings_follow_the_supply(lamp_sizing):
     # A 24 V bench supply: in a vehicle the 58 V suppressed load dump of a 24 V system (ISO 16750-2
     # test B, from memory) rules the 55 V IRLZ44N out (tests/sizing/test_protection.py).
-    d = size(_spec(LAMP21, fade=(0.3, 4.0), supply="24 V",
+    d = lamp_sizing(_spec(LAMP21, fade=(0.3, 4.0), supply="24 V",
                    extra="topology: mosfet\ninstall: building\nambient: 25 °C\n"))
     refs = {p.ref: p for p in d.netlist.parts}
     assert refs["D2"].part_number == "1N4744A"  # 15 V zener, under the IRLZ44N's ±16 V gate rating
@@ -128,13 +128,13 @@ def test_24v_mosfet_gets_a_gate_clamp_and_ratings_follow_the_supply():
 
 @pytest.fixture(scope="module")
 def ground_design():
-    return size(_spec(LED, fade=(1.5, 4.0), trigger="ground"))
+    return size(_spec(LED, fade=(0.3, 3.0), trigger="ground"))
 
 
 def test_ground_switched_feed_fades_in_when_grounded(ground_design):
     d = ground_design
     assert d.topology.trigger == "ground"
-    assert d.fade_in_s == pytest.approx(1.5, rel=0.10)
+    assert d.fade_in_s == pytest.approx(0.3, rel=0.10)
     assert d.load_current_a > 0.035
 
 

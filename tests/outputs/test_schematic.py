@@ -109,7 +109,8 @@ def test_test_points_and_terminals_are_marked(case):
     tags = {label.split()[0] for label, _ in netlist.probes}
     ground = topology.trigger == "ground"
     assert netlist.probes == topology.probes
-    assert tags == {f"TP{k}" for k in range(1, 7 if ground else 6)}
+    emitter = topology.stage.emitter_resistor  # a current stage's emitter is probed too
+    assert tags == {f"TP{k}" for k in range(1, 6 + ground + emitter)}
     assert tags <= _expand(text)
     for words in ("+24 V always-on", "(via fuse)", "switched feed", "ground"):
         assert words in text

@@ -144,8 +144,11 @@ def test_cautions_boxed_on_the_sheet_and_footer_on_every_page(pdf_bytes, text, d
 
 
 def test_timing_plot_marks_both_fade_points(text, data):
-    assert f"90 % at {format_quantity(data['fade_in_s'], 's')}" in text
-    assert f"10 % at {format_quantity(data['fade_out_s'], 's')}" in text
+    # Each panel marks where the light crosses the two reference levels (the timing contract).
+    assert f"10 % at {format_quantity(data['delay_on_s'], 's')}" in text
+    assert f"90 % at {format_quantity(data['delay_on_s'] + data['fade_in_s'], 's')}" in text
+    assert f"90 % at {format_quantity(data['hold_off_s'], 's')}" in text
+    assert f"10 % at {format_quantity(data['hold_off_s'] + data['fade_out_s'], 's')}" in text
     assert "load current (mA)" in text and "time since the feed switched on (s)" in text
 
 

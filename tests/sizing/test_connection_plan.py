@@ -13,7 +13,7 @@ from sheetgen.sizing.size import size
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 
 
-@pytest.mark.parametrize("name", ["camper-van-step-light", "garage-bench-lamp-21w"])
+@pytest.mark.parametrize("name", ["camper-van-step-light", "model-railway-station"])
 def test_every_lead_is_in_one_joint_on_the_net_the_netlist_gives(name):
     design = size(load_spec(EXAMPLES / f"{name}.yaml"))
     seen: dict[tuple[str, str], str] = {}

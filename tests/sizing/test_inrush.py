@@ -19,12 +19,12 @@ from sheetgen.parts import catalog
 from sheetgen.sizing import inrush
 from sheetgen.sizing.size import size
 
-EXAMPLE = Path(__file__).resolve().parents[2] / "examples" / "garage-bench-lamp-21w.yaml"
+EXAMPLE = Path(__file__).resolve().parents[2] / "examples" / "refused" / "garage-bench-lamp-21w.yaml"
 
 
 @pytest.fixture(scope="module")
-def lamp_design():
-    return size(parse_spec(EXAMPLE.read_text(encoding="utf-8"), source=str(EXAMPLE)))
+def lamp_design(lamp_sizing):
+    return lamp_sizing(parse_spec(EXAMPLE.read_text(encoding="utf-8"), source=str(EXAMPLE)))
 
 
 def _peak_at_max_supply(design) -> float:

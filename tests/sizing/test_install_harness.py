@@ -15,8 +15,8 @@ EXAMPLES = Path(__file__).parent.parent.parent / "examples"
 
 
 @pytest.fixture(scope="module")
-def boat():
-    return report_dict(analyse(size(load_spec(EXAMPLES / "boat-cabin-lamp.yaml")), draws=50))
+def boat(lamp_sizing):
+    return report_dict(analyse(lamp_sizing(load_spec(EXAMPLES / "refused" / "boat-cabin-lamp.yaml")), draws=50))
 
 
 def test_a_boat_never_gets_wire_below_the_marine_minimum(boat):

@@ -13,7 +13,7 @@ from sheetgen.sizing.analyse import analyse
 from sheetgen.sizing.size import size
 
 
-def _lamp(power_w: float):
+def _lamp(power_w: float, sizer):
     text = f"""\
     supply: 12 V
     load: {{kind: lamp, power: {power_w} W}}
@@ -21,12 +21,12 @@ def _lamp(power_w: float):
     ambient: 40 °C
     install: building
     """
-    return analyse(size(parse_spec(textwrap.dedent(text), source="lamp.yaml")), draws=20)
+    return analyse(sizer(parse_spec(textwrap.dedent(text), source="lamp.yaml")), draws=20)
 
 
 @pytest.fixture(scope="module")
-def lamp15():
-    return _lamp(15.0)
+def lamp15(lamp_sizing):
+    return _lamp(15.0, lamp_sizing)
 
 
 def test_junction_follows_the_series_chain_with_the_named_figures(lamp15):

@@ -180,8 +180,8 @@ def test_benches_get_none_unless_asked():
     assert not protection.wanted(parse_spec(text.replace("bench", "vehicle") + "protection: false\n", source="t"))
 
 
-def test_a_24_v_system_without_a_cut_off_says_what_a_jump_start_does():
-    report = analyse(size(load_spec(EXAMPLES / "truck-cab-lamp.yaml")), draws=20)
+def test_a_24_v_system_without_a_cut_off_says_what_a_jump_start_does(lamp_sizing):
+    report = analyse(lamp_sizing(load_spec(EXAMPLES / "refused" / "truck-cab-lamp.yaml")), draws=20)
     assert not report.design.netlist.by_role("cutoff")
     jump = _case(report, "jump")
     assert not jump.ok and jump.worst.ref.startswith("LP")

@@ -31,7 +31,7 @@ from sheetgen.inputs.spec import LedLoad
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
 
 from sheetgen.outputs.pdf import plot
-from sheetgen.outputs.wording import keep_units, led_dimming_words, refs_text, standby_text, volts_range
+from sheetgen.outputs.wording import current_stage_words, keep_units, led_dimming_words, refs_text, standby_text, volts_range
 from sheetgen.parts.colour_code import bands
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import SHEET_BLOCKS
@@ -544,6 +544,10 @@ def _drive_row(report: Report) -> list:
     d = report.design
     low = format_quantity(d.spec.supply.min_v, "V")
     part = d.values.transistor.part_number
+    current = current_stage_words(report)
+    if current:
+        return [_p("Current set", s.cell_bold), _p(f"by {escape(d.netlist.by_role('emitter')[0].ref)}", s.cell),
+                _p(_sentence(current), s.cell)]
     if d.topology.stage.kind == "mosfet":
         return [_p("Gate drive", s.cell_bold),
                 _pm(f"<b>{d.overdrive:.2f} ×</b> the rated gate voltage", s.cell),
@@ -690,11 +694,12 @@ def timing_block(report: Report, frame: Frame) -> Block:
 
     follows = ("For LEDs the light follows the current, so the two lines lie on top of each other. "
                if isinstance(d.spec.load, LedLoad) else
-               "A lamp's light lags its current while the filament heats and cools; it is shown as a share of "
-               "the lamp's output at its rated voltage, which a lower supply and the drop across Q1 keep it below. ")
+               "A lamp's light lags its current while the filament heats and cools and rises far more steeply: "
+               "it is worked out from the filament's temperature. ")
     note = _p(f"Nominal parts at {format_quantity(d.spec.supply.nominal_v, 'V')}; steady current "
-              f"{format_quantity(report.steady_a, 'A')}. {follows}The marked points define the fade times: "
-              f"fade-in ends at 90 % of the steady current, fade-out at 10 %.", s.small)
+              f"{format_quantity(report.steady_a, 'A')}. {follows}The marked points are where the light crosses "
+              f"10 % and 90 % of full: between them lie the fade-in and the fade-out; before them, the delay on and "
+              f"the hold off.", s.small)
     return Block("Expected timing", [_Sized(build), note])
 
 
