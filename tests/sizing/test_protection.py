@@ -43,7 +43,7 @@ def tailgate():
 
 
 @pytest.fixture(scope="module")
-def lamp21():
+def lamp21(lamp_sizing):
     # A 21 W lamp in a vehicle: unprotected, a battery reversed at 14.6 V lights it through the
     # Darlington's collector-emitter diode and the fuse does not blow.
     text = "title: Van work lamp\nsupply: 12 V\nload: {kind: lamp, power: 21 W}\nfade: {in: 0.5 s, out: 3 s}\n"
@@ -71,8 +71,9 @@ def test_every_fault_keeps_every_part_inside_its_rating(fixture, request):
     for case in report.abuse:
         assert case.ok, [st for st in case.stresses if not st.ok]
     jump = _case(report, "jump")
-    # A jump start may dim or cut the light, never overrun it: the cut-off holds Q1 off.
-    assert jump.load_fraction < 0.2
+    # A jump start may dim or cut the light, never overrun it: the cut-off holds Q1 nearly off
+    # (under 30 % of the nominal current, which is itself below the rating: strings are sized at 14.6 V).
+    assert jump.load_fraction < 0.3
     if jump.led_max_a is not None:
         assert jump.led_max_a <= report.design.spec.load.current_a
     assert _case(report, "reverse").supply_a < 1e-3
