@@ -165,3 +165,18 @@ def test_a_signal_rebuilt_by_a_library_still_exits_128_plus_its_number(monkeypat
     monkeypatch.setattr(cli, "cmd_check", interrupted)
     assert main(["check", "no-such.yaml"]) == 128 + signal.SIGTERM
     assert "stopped; nothing new was written" in capsys.readouterr().err
+
+
+@pytest.mark.requires_ngspice
+@pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.stem)
+def test_every_example_deck_gives_its_four_times_in_ngspice(path):
+    """ngspice 39 (Debian) alone, on the deck's own `light` node read at 10 % and 90 %, gives the report's times."""
+    out = subprocess.run([sys.executable, "-m", "sheetgen", "size", str(path), "--json"],
+                         capture_output=True, text=True, check=True)
+    d = json.loads(out.stdout)
+    data = run_transient(d["spice"], vectors=["v(light)"])
+    times = light_times(data["time"], data["v(light)"][None, :], release_s=d["release_s"], full=np.ones(1))
+    for name in TIMES:
+        assert getattr(times, name)[0] == pytest.approx(d[name], rel=0.02), name
+    for corner in d["corners"]:  # and no LED string over its rating at any corner
+        assert corner["led_current_max_a"] <= d["led_rated_a"] * 1.001
