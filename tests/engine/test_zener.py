@@ -38,10 +38,18 @@ def _fed(model: Model, level_v: float, r_ohm: float = R_FEED) -> Netlist:
 
 
 def _vz_at(model: Model, currents_a: np.ndarray, v_guess: float):
-    """Zener voltage and current for sources set to push about ``currents_a`` through R_FEED."""
-    levels = v_guess + np.asarray(currents_a) * R_FEED
-    op = simulate.operating_point(_fed(model, 1.0), at_s=0.5, overrides={("VS", "level"): levels})
-    return op.v("k"), op.i_source("VS")
+    """Zener voltage and current for sources set to push about ``currents_a`` through R_FEED.
+
+    Each source is set for the voltage found on the pass before, so the
+    currents land close to the ones asked for (within 0.1 %, checked).
+    """
+    want = np.asarray(currents_a, dtype=float)
+    v = np.full(want.shape, float(v_guess))
+    for _ in range(12):  # the miss shrinks by ZZ / (ZZ + R_FEED) a pass
+        op = simulate.operating_point(_fed(model, 1.0), at_s=0.5, overrides={("VS", "level"): v + want * R_FEED})
+        v, i = op.v("k"), op.i_source("VS")
+    assert np.allclose(i, want, rtol=1e-3)
+    return v, i
 
 
 def _slope(model: Model, at_a: float, v_guess: float) -> float:
@@ -171,12 +179,12 @@ def test_a_diode_without_bv_never_breaks_down():
 
 def test_spice_card_carries_the_breakdown_parameters():
     card = model_card("D_1N4744A", catalog.diode("1N4744A").model)[0]
-    assert "BV=14.983" in card and "IBV=0.017" in card and "NBV=6.75" in card
+    assert "BV=14.983" in card and "IBV=0.017" in card and "NBV=6.7)" in card
 
 
 def test_breakdown_knee_meets_ibv_at_bv():
     """ngspice's match (diotemp.c): IS (exp((BV - BV') / NBV Vt) - 1 + BV' / Vt) = IBV to RELTOL 1e-3."""
-    is_a, nbv_vt, bv, ibv = 1e-14, 6.75 * devices.VT_NOMINAL, 14.983, 0.017
+    is_a, nbv_vt, bv, ibv = 1e-14, 6.7 * devices.VT_NOMINAL, 14.983, 0.017
     x = devices.breakdown_knee(np.array(bv), np.array(ibv), np.array(is_a), np.array(nbv_vt))
     i_at_bv = is_a * (np.exp((bv - x) / nbv_vt) - 1.0 + x / devices.VT_NOMINAL)
     assert i_at_bv == pytest.approx(ibv, rel=1e-3)
