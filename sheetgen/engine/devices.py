@@ -5,7 +5,8 @@ returns currents together with their partial derivatives, which is what Newton's
 method needs.  The equations follow the SPICE3 / ngspice forms so that a deck
 written with our model cards and run in ngspice is a fair judge of our solver:
 
-* junction diode: Shockley with emission coefficient, plus GMIN in parallel;
+* junction diode: Shockley with emission coefficient, plus GMIN in parallel,
+  and reverse breakdown (BV, IBV, NBV) as ngspice's diode model has it;
 * BJT: the Gummel-Poon subset with forward Early voltage (VAF), forward knee
   current (IKF) and base-emitter leakage (ISE, NE), GMIN across both junctions;
 * MOSFET: Shichman-Hodges (SPICE level 1) with channel-length modulation;
@@ -24,6 +25,7 @@ from sheetgen.engine import light
 from sheetgen.model.constants import BOLTZMANN, CHARGE, T_NOMINAL_K, VT_NOMINAL  # noqa: F401  (re-exported)
 GMIN = 1e-12  # S, SPICE's default GMIN across every junction
 
+_SPICE_RELTOL = 1e-3  # ngspice's default RELTOL, which also ends its breakdown-voltage match
 _EXP_LIMIT = 80.0  # exp() argument cap; pnjlim keeps real iterates far below it
 
 
@@ -60,6 +62,48 @@ def junction(v, is_a, nvt):
 def diode(v, *, is_a, n, vt=VT_NOMINAL):
     """Junction current and conductance at junction voltage ``v``."""
     return junction(v, is_a, n * vt)
+
+
+def breakdown_knee(bv, ibv, is_a, nbv_vt, vt=VT_NOMINAL):
+    """The breakdown voltage the equations use: BV moved so the current at -BV is IBV.
+
+    ngspice (diotemp.c) solves IS (exp((BV - x) / NBV Vt) - 1 + x / Vt) = IBV
+    for x by at most 25 fixed-point steps, stopping at RELTOL IBV; where IBV
+    is below IS BV / Vt it keeps BV itself.  Done here the same way, per entry.
+    """
+    x = bv - nbv_vt * np.log(1.0 + ibv / is_a)
+    done = np.zeros(np.shape(x), dtype=bool)
+    for _ in range(25):
+        step = bv - nbv_vt * np.log(ibv / is_a + 1.0 - x / vt)
+        x = np.where(done, x, step)
+        done |= np.abs(is_a * (np.exp((bv - x) / nbv_vt) - 1.0 + x / vt) - ibv) <= _SPICE_RELTOL * ibv
+        if done.all():
+            break
+    return np.where(ibv < is_a * bv / vt, bv, x)
+
+
+def breakdown_limit(v_new, v_old, *, bv_x, nbv_vt, vcrit):
+    """pnjlim on the mirrored junction, for iterates below -BV + 10 NBV Vt (ngspice dioload.c).
+
+    ``bv_x`` is :func:`breakdown_knee`'s voltage.  Returns the limited voltage
+    and a mask of entries that were limited.
+    """
+    deep = v_new < np.minimum(0.0, -bv_x + 10.0 * nbv_vt)
+    if not deep.any():
+        return v_new, deep
+    mirrored, hit = pnjlim(-(v_new + bv_x), -(v_old + bv_x), nbv_vt, vcrit)
+    return np.where(deep, -(mirrored + bv_x), v_new), deep & hit
+
+
+def breakdown(v, i, g, *, is_a, nvt, bv_x, nbv_vt):
+    """A junction's current and conductance ``i``, ``g`` with the breakdown branch put in.
+
+    Below -3 N Vt and below -``bv_x`` ngspice's diode carries
+    -IS exp(-(bv_x + v) / NBV Vt) (plus GMIN) instead of its reverse current.
+    """
+    on = (v < -3.0 * nvt) & (v < -bv_x)
+    e = _exp(-(bv_x + v) / nbv_vt)
+    return np.where(on, GMIN * v - is_a * e, i), np.where(on, is_a * e / nbv_vt + GMIN, g)
 
 
 def inverse_or_zero(x):

@@ -79,7 +79,7 @@ class NetIndex:
         self.source_levels = np.stack([self._value(s.name, "level", s.level_v) for s in netlist.sources], axis=1)
         self.res = self._group(el.res, ("g",), 2)
         self.caps = self._group(el.caps, ("c", "ic"), 2)
-        self.diodes = self._group(el.diodes, ("is", "n", "rs"))
+        self.diodes = self._group(el.diodes, ("is", "n", "rs", "bv", "ibv", "nbv"))
         self.bjts = self._group(el.bjts, ("sign", "is", "bf", "br", "nf", "nr", "vaf", "ikf", "ise", "ne"))
         self.mos = self._group(el.mos, ("vto", "kp", "lam"))
         self.lamps = self._group(el.lamps, ("r0", "troom", "alpha", "k", "thot"))
@@ -106,7 +106,7 @@ class NetIndex:
             (p1, a), (p2, b) = on
             if {a, b} != {"A", "K"} or p1.kind not in ("led", "diode") or p2.kind != p1.kind:
                 return None
-            if p1.model != p2.model:
+            if p1.model != p2.model or _breaks_down(p1):  # breakdown does not scale with the chain
                 return None
             return (p1, p2) if a == "K" else (p2, p1)
 
@@ -205,8 +205,23 @@ def _diode(ix: NetIndex, part: Part, el: _Elements) -> None:
     if np.any(rs > 0):  # the junction's own anode, behind RS
         a_int = f"{part.ref}:a"
         ix._behind_rs.append(a_int)
-    el.diodes.append((part.ref, (a, kk, a_int), {"is": ix._model(part, "IS", 1e-14),
-                                                 "n": ix._model(part, "N", 1.0), "rs": rs}))
+    n = ix._model(part, "N", 1.0)
+    # No BV: breakdown at an infinite voltage.  NBV defaults to N, IBV to 1 mA (ngspice's defaults).
+    zener = _breaks_down(part)
+    el.diodes.append((part.ref, (a, kk, a_int), {
+        "is": ix._model(part, "IS", 1e-14), "n": n, "rs": rs,
+        "bv": ix._model(part, "BV", 0.0) if zener else np.full(ix.n, np.inf),
+        "ibv": ix._model(part, "IBV", 1e-3),
+        "nbv": ix._model(part, "NBV", 1.0) if zener and _given(part, "NBV") else n}))
+
+
+def _given(part: Part, name: str) -> bool:
+    return part.model is not None and any(k == name for k, _ in part.model.params)
+
+
+def _breaks_down(part: Part) -> bool:
+    """Whether a diode's card gives BV, which is what turns on SPICE's breakdown branch."""
+    return _given(part, "BV")
 
 
 def _bjt(ix: NetIndex, part: Part, el: _Elements) -> None:

@@ -79,6 +79,12 @@ class Compiled(NetIndex):
             b["j_sign"] = np.concatenate([np.ones((self._nd, self.n)), qp["sign"], qp["sign"]])
         if np.any(dp["rs"] > 0):
             b["rs"] = dp["rs"]
+        # Diodes with BV (zeners): their rows among the junctions, and the breakdown knee.
+        self._zener = np.flatnonzero(np.isfinite(d.params["bv"][0])) if self._nd else np.zeros(0, dtype=int)
+        if len(self._zener):
+            z = self._zener
+            b["z_nbv_vt"] = dp["nbv"][z] * vt
+            b["z_bv"] = devices.breakdown_knee(dp["bv"][z], dp["ibv"][z], dp["is"][z], b["z_nbv_vt"], vt)
         if np.any(qp["ise"]):
             b["ise"], b["ne"] = qp["ise"], qp["ne"]
         b.update({k: v.T for k, v in self.mos.params.items()})
@@ -214,9 +220,17 @@ def _stamp(c: Compiled, p: dict, x: np.ndarray, vj_old: np.ndarray, m0: np.ndarr
     if len(c._j_plus):
         v = _junction_voltages(c, p, x) if v_start is None else v_start
         vj, hit = devices.pnjlim(v, vj_old, p["j_nvt"], p["j_vcrit"])
+        if "z_bv" in p:  # deep in reverse a zener limits its mirrored junction instead
+            z = c._zener
+            vj[z], z_hit = devices.breakdown_limit(vj[z], vj_old[z], bv_x=p["z_bv"], nbv_vt=p["z_nbv_vt"],
+                                                   vcrit=p["j_vcrit"][z])
+            hit[z] |= z_hit
         if hit.any():
             limited = hit.any(axis=0)
         ij, gj = devices.junction(vj, p["j_is"], p["j_nvt"])
+        if "z_bv" in p:
+            ij[z], gj[z] = devices.breakdown(vj[z], ij[z], gj[z], is_a=p["j_is"][z], nvt=p["j_nvt"][z],
+                                             bv_x=p["z_bv"], nbv_vt=p["z_nbv_vt"])
 
     nd, nq = c._nd, c._nq
     if nd:
