@@ -22,8 +22,8 @@ load:
   per_string: 3
   strings: 3
 fade:
-  in: 2 s
-  out: 5 s
+  in: 1.5 s
+  out: 4 s
 ambient: 45 °C              # a van roof in the sun
 install: vehicle
 """

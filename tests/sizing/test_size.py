@@ -185,3 +185,11 @@ def test_unknown_topology_is_bad_input():
 def test_catalog_minimum_gain_is_what_the_sizer_uses():
     # BC337-40 hFE 250-630 at 100 mA / 1 V (onsemi BC337/D data sheet; read in the source).
     assert catalog.transistor("BC337-40").hfe_min_at(0.1) == pytest.approx(250)
+
+
+def test_the_built_in_demo_gets_a_design_that_passes_its_corners():
+    # The README's first command runs `sheetgen demo`: its spec must have a design, not a refusal.
+    from sheetgen.inputs.demo import demo_spec
+
+    d = size(demo_spec())
+    assert d.corners and all(c.led_current_max_a <= d.spec.load.current_a * 1.001 for c in d.corners)
