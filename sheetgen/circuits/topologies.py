@@ -388,6 +388,15 @@ def _one(netlist: Netlist, role: str) -> Part:
     return parts[0]
 
 
+def _shunt(pen: Pen, draw, part: Part, *, mark: str) -> None:
+    """A junction at the cursor and ``part`` from it down to ground; the cursor stays on the junction."""
+    pen.junction()
+    pen.mark(mark)
+    draw(part, "down")
+    pen.ground()
+    pen.go(mark)
+
+
 def _draw_positive_feed(pen: Pen, netlist: Netlist) -> None:
     """Signal left to right along one row; the load hangs above Q1 from the supply rail."""
     tp = {net: label for label, net in netlist.probes}
@@ -465,11 +474,7 @@ def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
 
     if netlist.by_role("divider"):
         pen.resistor(r1, "right")
-        pen.junction()
-        pen.mark("divider")
-        pen.resistor(_one(netlist, "divider"), "down")
-        pen.ground()
-        pen.go("divider")
+        _shunt(pen, pen.resistor, _one(netlist, "divider"), mark="divider")
         pen.wire("right", 1.0)  # room for the divider's label between it and C1's
         pen.diode(d1, "right")
     else:
@@ -482,19 +487,11 @@ def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
     pen.ground()
     pen.go("timer")
     pen.wire("right", 1.0)
-    pen.junction()
-    pen.mark("bleed")
-    pen.resistor(r2, "down")
-    pen.ground()
-    pen.go("bleed")
+    _shunt(pen, pen.resistor, r2, mark="bleed")
     pen.resistor(r3, "right")
     if netlist.by_role("clamp"):
         pen.wire("right", 0.25)
-        pen.junction()
-        pen.mark("clamp")
-        pen.diode(_one(netlist, "clamp"), "down")
-        pen.ground()
-        pen.go("clamp")
+        _shunt(pen, pen.diode, _one(netlist, "clamp"), mark="clamp")
         pen.wire("right", 1.0)  # room for the clamp's label between it and Q1
     pen.wire("right", 0.25)
     pen.test_point(tp[drive], drive, "down")
@@ -553,11 +550,7 @@ def _draw_supply_guard(pen: Pen, netlist: Netlist, *, row: str) -> None:
     tp = {net: label for label, net in netlist.probes}
     guard = _one(netlist, "reverse_polarity")
     for tvs in netlist.by_role("surge"):
-        pen.junction()
-        pen.mark("tvs")
-        pen.diode(tvs, "down")
-        pen.ground()
-        pen.go("tvs")
+        _shunt(pen, pen.diode, tvs, mark="tvs")
     pen.diode(guard, "left")
     pen.wire("left", 0.25)
     pen.test_point(tp["supply"], "supply", "down")
@@ -578,11 +571,7 @@ def _draw_cutoff(pen: Pen, netlist: Netlist) -> None:
     pen.move("down", 0.5, net=rail)
     pen.net_label(f"rail ({tp[rail].split()[0]})", "left")
     pen.resistor(upper, "right")
-    pen.junction()
-    pen.mark("cut_b")
-    pen.resistor(lower, "down")
-    pen.ground()
-    pen.go("cut_b")
+    _shunt(pen, pen.resistor, lower, mark="cut_b")
     pen.wire("right", 1.0)
     pen.npn(q)
     pen.pin(q, "E")

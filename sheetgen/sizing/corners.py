@@ -37,7 +37,6 @@ if TYPE_CHECKING:
 COLD_C = -20.0
 FULL_LIGHT = 0.90
 TJ_LIMIT_C = 125.0
-HARD = 1000.0  # gain multiplier for "switched as hard as it can go"
 
 
 @dataclass(frozen=True)
@@ -84,18 +83,6 @@ def overrides(design: "Design", conditions) -> dict:
     return ov
 
 
-def hard_switched(netlist, ov: dict, n: int) -> dict:
-    """The same overrides with the switch's gain (or a MOSFET's KP) raised a thousandfold."""
-    hard = dict(ov)
-    switch = netlist.by_role("switch")[0]
-    if switch.kind == "nmos":
-        hard[(switch.ref, "KP")] = np.full(n, switch.model["KP"] * HARD)
-    else:
-        for prefix, card in switch.model.junctions():
-            hard[(switch.ref, f"{prefix}BF")] = ov.get((switch.ref, f"{prefix}BF"), np.full(n, card["BF"])) * HARD
-    return hard
-
-
 def corners(design: "Design") -> tuple[Corner, ...]:
     """Every corner of the design, from one batched transient and two batched operating points.
 
@@ -109,7 +96,7 @@ def corners(design: "Design") -> tuple[Corner, ...]:
     tr = simulate.transient(nl, overrides=ov, n=n)
     at = nl.release_s * 0.999
     op = simulate.operating_point(nl, at_s=at, overrides=ov, n=n)
-    hard = simulate.operating_point(nl, at_s=at, overrides=hard_switched(nl, ov, n), n=n)
+    hard = simulate.operating_point(nl, at_s=at, overrides=tolerance.hard_switched(nl, ov, n), n=n)
     steady = light(nl, op.v, ov)
     times: LightTimes = light_times(tr.t_s, light(nl, tr.v, ov), release_s=nl.release_s, full=steady)
     drive = steady / light(nl, hard.v, ov)

@@ -46,6 +46,7 @@ VBE_TC_V_PER_C = -2e-3
 HFE_TC_PER_C = 0.005
 AMBIENT_SPAN_C = 25.0
 T_MODEL_C = 27.0
+HARD_GAIN = 1000.0  # "driven as hard as it can go": the switch's gain a thousandfold
 INPUT_STAGE_CURRENT_A = 0.01  # an input stage carries only the charge current, milliamps
 
 
@@ -118,15 +119,22 @@ def full_brightness_yield(design: "Design", draws: Draws) -> float:
     nl = design.netlist
     at = nl.release_s * 0.999
     real = simulate.operating_point(nl, at_s=at, overrides=draws.overrides, n=draws.n).i_source("VSUPPLY")
-    hard = dict(draws.overrides)
-    switch = nl.by_role("switch")[0]
-    if switch.kind == "nmos":
-        hard[(switch.ref, "KP")] = np.full(draws.n, switch.model["KP"] * 1000.0)
-    else:
-        for prefix, _ in switch.model.junctions():
-            hard[(switch.ref, f"{prefix}BF")] = draws.overrides[(switch.ref, f"{prefix}BF")] * 1000.0
+    hard = hard_switched(nl, draws.overrides, draws.n)
     ideal = simulate.operating_point(nl, at_s=at, overrides=hard, n=draws.n).i_source("VSUPPLY")
     return float(np.mean(real >= FULL_BRIGHTNESS * ideal))
+
+
+def hard_switched(netlist, ov: dict, n: int) -> dict:
+    """The same overrides with the switch's gain (or a MOSFET's KP) raised a thousandfold:
+    the stage driven as hard as it can go, the reference "full brightness" is read against."""
+    hard = dict(ov)
+    switch = netlist.by_role("switch")[0]
+    if switch.kind == "nmos":
+        hard[(switch.ref, "KP")] = np.full(n, switch.model["KP"] * HARD_GAIN)
+    else:
+        for prefix, card in switch.model.junctions():
+            hard[(switch.ref, f"{prefix}BF")] = ov.get((switch.ref, f"{prefix}BF"), np.full(n, card["BF"])) * HARD_GAIN
+    return hard
 
 
 @dataclass(frozen=True)
