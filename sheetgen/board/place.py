@@ -28,7 +28,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from sheetgen.board.model import Board, Hole, Placement, Terminal
+from sheetgen.board.model import Board, Placement, Terminal
 from sheetgen.board.proof import prove
 from sheetgen.model.netlist import Netlist, Part
 from sheetgen.parts import catalog, footprints

@@ -17,8 +17,8 @@ from typing import Callable, Literal, Protocol, Sequence
 
 from sheetgen.parts.catalog import Diode, Transistor
 from sheetgen.model.netlist import GROUND, Netlist, Part, Source
-from sheetgen.circuits.loads import lamp_model, led_model
-from sheetgen.inputs.spec import LampLoad, LedLoad, Spec
+from sheetgen.circuits.loads import kind_of
+from sheetgen.inputs.spec import Spec
 
 TRIGGER_EDGE_S = 1e-3  # the feed switches on and off in 1 ms (a relay or switch contact)
 
@@ -215,33 +215,12 @@ def _resistor(ref: str, a: str, b: str, role: str, r_ohm: float, values: Values,
 
 
 def load_parts(spec: Spec, values: Values, *, top: str, bottom: str, first_r: int) -> list[Part]:
-    """LED strings (each with its own series resistor) or lamps between two nets."""
-    load = spec.load
-    parts: list[Part] = []
-    if isinstance(load, LedLoad):
-        model = led_model(load)
-        led_no = 1
-        for s in range(load.strings):
-            ref = f"R{first_r + s}"
-            head = f"str{s + 1}"
-            parts.append(_resistor(ref, top, head, "led_series", values.r_led_ohm, values,
-                                   "LED series resistor: sets the string current"))
-            node = head
-            for k in range(load.per_string):
-                nxt = bottom if k == load.per_string - 1 else f"str{s + 1}_{k + 1}"
-                colour = f"{load.colour} " if load.colour else ""
-                parts.append(Part(ref=f"LED{led_no}", kind="led", pins=(("A", node), ("K", nxt)), role="load",
-                                  model=model, description=f"{colour}LED, Vf {load.vf_v:g} V at "
-                                  f"{load.current_a * 1000:g} mA", package="5 mm"))
-                node = nxt
-                led_no += 1
-    elif isinstance(load, LampLoad):
-        model = lamp_model(load)
-        for k in range(load.count):
-            parts.append(Part(ref=f"LP{k + 1}", kind="lamp", pins=(("1", top), ("2", bottom)), role="load",
-                              model=model, description=f"{load.rated_v:g} V {load.power_w:g} W lamp",
-                              rating_v=load.rated_v, rating_w=load.power_w))
-    return parts
+    """The load's parts between two nets, each branch's series resistor set to ``values.r_led_ohm``."""
+
+    def series(ref: str, a: str, b: str) -> Part:
+        return _resistor(ref, a, b, "led_series", values.r_led_ohm, values, "LED series resistor: sets the string current")
+
+    return kind_of(spec.load).parts(spec.load, top=top, bottom=bottom, first_r=first_r, series=series)
 
 
 def feed_source(spec: Spec, window: Window, *, trigger: str) -> Source:
@@ -340,9 +319,10 @@ def _build(spec: Spec, values: Values, window: Window, *, topology: "Topology") 
     if ground_input:
         parts += _input_parts(values)
     first_r = 6 if ground_input else 4
-    parts += load_parts(spec, values, top="supply", bottom=topology.stage.out_net, first_r=first_r)
+    load = load_parts(spec, values, top="supply", bottom=topology.stage.out_net, first_r=first_r)
+    parts += load
     if topology.stage.emitter_resistor:
-        strings = spec.load.strings if isinstance(spec.load, LedLoad) else 1
+        strings = sum(p.kind == "resistor" for p in load)
         parts.append(replace(_resistor(f"R{first_r + strings}", "emitter", GROUND, "emitter",
                                        values.r_emitter_ohm or 1.0, values, "emitter resistor: sets the LED current"),
                              tolerance=0.01))

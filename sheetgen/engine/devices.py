@@ -21,8 +21,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from sheetgen.engine import light
-from sheetgen.model.constants import BOLTZMANN, CHARGE, T_NOMINAL_K, VT_NOMINAL  # noqa: F401  (re-exported)
+from sheetgen.model.constants import VT_NOMINAL
 GMIN = 1e-12  # S, SPICE's default GMIN across every junction
 
 _SPICE_RELTOL = 1e-3  # ngspice's default RELTOL, which also ends its breakdown-voltage match

@@ -106,8 +106,8 @@ class Spec:
     supply: Supply
     trigger: str  # "positive" | "ground"
     load: LedLoad | LampLoad
-    fade_in_s: float  # trigger applied -> load current at 90 % of steady
-    fade_out_s: float  # trigger removed -> load current at 10 % of steady
+    fade_in_s: float  # the visible fade-in: light from 10 % to 90 % of full
+    fade_out_s: float  # the visible fade-out: light from 90 % to 10 % of full
     ambient_c: float = 25.0  # worst-case air temperature around the box (default: the install's)
     topology: str = "auto"  # "auto" or the name of a topology to force
     install: str = "vehicle"  # where it goes: vehicle | boat | building | bench (profile in parts/catalog/installs.yaml)
@@ -116,6 +116,8 @@ class Spec:
     system: str = "battery-12"  # the supply system its span was taken from (installs.yaml)
     wires: tuple[tuple[str, str], ...] = ()  # (run, colour) the user chose: always_on, switched, ground
     protection: bool | None = None  # supply-abuse protection: None = where the supply system needs it
+    delay_on_s: float | None = None  # a deliberate wait in the dark before the fade-in; None = as short as it comes
+    delay_off_s: float | None = None  # a deliberate hold at full after the feed goes; None = as short as it comes
 
     def wire_colour(self, run: str) -> str | None:
         """The colour chosen for an off-board run, or None (the sheet then names the run only)."""
@@ -351,14 +353,17 @@ def _voltage(p: _Problems, value: Any, path: tuple[str, ...], *, floor_v: float 
     return volts
 
 
-_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "ambient", "topology", "install", "board", "wires",
-             "protection")
+_TOP_KEYS = ("title", "supply", "trigger", "load", "fade", "delay", "ambient", "topology", "install", "board",
+             "wires", "protection")
 INSTALLS = tuple(i.name for i in profiles.installs())
 BOARDS = ("stripboard", "perfboard")
 _SUPPLY_KEYS = ("nominal", "min", "max", "system")
 _LED_KEYS = ("kind", "current", "vf", "colour", "color", "per_string", "strings")
 _LAMP_KEYS = ("kind", "power", "current", "rated", "count")
 _FADE_KEYS = ("in", "out")
+_DELAY_KEYS = ("on", "off")
+#: The longest deliberate wait a delay may ask for: the timing capacitor holds its charge that long.
+DELAY_MAX_S = 60.0
 _TRIGGERS = ("positive", "ground")
 _TRIGGER_HINTS = {
     "negative": "ground",
@@ -391,6 +396,7 @@ def _build(data: Any, p: _Problems) -> Spec:
     trigger = _trigger(p, data)
     load = _load(p, data, supply)
     fade_in_s, fade_out_s = _fade(p, data)
+    delay_on_s, delay_off_s = _delay(p, data)
     ambient_c = _ambient(p, data, install)
     topology = _topology(p, data)
     wires = _wires(p, data)
@@ -412,6 +418,8 @@ def _build(data: Any, p: _Problems) -> Spec:
         system=system,
         wires=wires,
         protection=protection,
+        delay_on_s=delay_on_s,
+        delay_off_s=delay_off_s,
     )
 
 
@@ -546,13 +554,12 @@ def _load(p: _Problems, data: dict, supply: Supply | None) -> LedLoad | LampLoad
     if kind is None:
         return None
     kind = kind.lower()
-    if kind == "led":
-        return _led(p, raw, path, supply)
-    if kind == "lamp":
-        return _lamp(p, raw, path, supply)
-    suggestion = _KIND_HINTS.get(kind) or next(iter(difflib.get_close_matches(kind, ("led", "lamp"), n=1)), None)
+    if kind in _LOAD_READERS:
+        return _LOAD_READERS[kind](p, raw, path, supply)
+    names = tuple(_LOAD_READERS)
+    suggestion = _KIND_HINTS.get(kind) or next(iter(difflib.get_close_matches(kind, names, n=1)), None)
     hint = f"; did you mean `{suggestion}`?" if suggestion else ""
-    p.add(path + ("kind",), f'{excerpt(kind)} is not a load kind; use led or lamp{hint}')
+    p.add(path + ("kind",), f'{excerpt(kind)} is not a load kind; use {" or ".join(names)}{hint}')
     return None
 
 
@@ -667,6 +674,11 @@ def _lamp(p: _Problems, raw: dict, path: tuple[str, ...], supply: Supply | None)
     return LampLoad(power_w=power, rated_v=rated, count=count)
 
 
+#: The reader of each load kind's keys, by the name ``load: kind:`` takes; each returns the kind's
+#: spec type, whose behaviour lives in ``circuits.loads.LOAD_KINDS`` under the same name.
+_LOAD_READERS = {LedLoad.kind: _led, LampLoad.kind: _lamp}
+
+
 def _fade(p: _Problems, data: dict) -> tuple[float | None, float | None]:
     path = ("fade",)
     example = "e.g. fade: {in: 1.5 s, out: 4 s}"
@@ -693,6 +705,36 @@ def _fade(p: _Problems, data: dict) -> tuple[float | None, float | None]:
             p.add(key_path, f"must be positive, got {format_quantity(seconds, 's')}")
             seconds = None
         times.append(_in_range(p, seconds, key_path, "s", 0.05, 120.0))
+    return times[0], times[1]
+
+
+def _delay(p: _Problems, data: dict) -> tuple[float | None, float | None]:
+    """The optional deliberate waits: dark before the fade-in (``on``), at full before the fade-out (``off``)."""
+    path = ("delay",)
+    example = "e.g. delay: {off: 5 s} to stay at full for 5 s after the feed goes"
+    if data.get("delay") is None:
+        return None, None
+    raw = data["delay"]
+    if not isinstance(raw, dict) or not raw:
+        p.add(path, f"must be a mapping with on: and/or off:, {example}; got {_describe(raw)}")
+        return None, None
+    unknown = {k: v for k, v in raw.items() if _key_name(k) not in _DELAY_KEYS}
+    for key in unknown:
+        name = _key_name(key)
+        hint = {"in": "on", "out": "off"}.get(name.lower())
+        p.add(path + (name,), f"unknown key; did you mean `{hint}:`? (delay takes on: and off:)" if hint
+              else unknown_key(name, _DELAY_KEYS))
+    times = []
+    for key in _DELAY_KEYS:
+        if key not in raw:
+            times.append(None)
+            continue
+        key_path = path + (key,)
+        seconds = _quantity(p, raw[key], key_path, "s")
+        if seconds is not None and seconds <= 0:
+            p.add(key_path, f"must be positive (leave it out for no wait), got {format_quantity(seconds, 's')}")
+            seconds = None
+        times.append(_in_range(p, seconds, key_path, "s", 0.1, DELAY_MAX_S))
     return times[0], times[1]
 
 

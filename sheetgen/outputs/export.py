@@ -13,6 +13,13 @@ from sheetgen.sizing.size import delay_limits
 from sheetgen.outputs.spice import spice_deck
 
 
+def requested_entry(spec) -> dict:
+    """The times asked for, under the report's own keys; a delay only where the spec asks for one."""
+    asked = {"delay_on_s": spec.delay_on_s, "fade_in_s": spec.fade_in_s, "hold_off_s": spec.delay_off_s,
+             "fade_out_s": spec.fade_out_s}
+    return {k: v for k, v in asked.items() if v is not None}
+
+
 def part_entry(part) -> dict:
     """One physical part as the JSON contract describes it."""
     entry = {
@@ -91,7 +98,7 @@ def report_dict(report: Report) -> dict:
         "hold_off_s": d.hold_off_s,
         "fade_out_s": d.fade_out_s,
         "release_s": d.netlist.release_s,
-        "requested": {"fade_in_s": spec.fade_in_s, "fade_out_s": spec.fade_out_s},
+        "requested": requested_entry(spec),
         "limits": dict(zip(("delay_on_s", "hold_off_s"), delay_limits(spec))),
         "definitions": dict(DEFINITIONS),
         "corners": [corner_entry(c) for c in d.corners],

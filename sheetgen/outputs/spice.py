@@ -325,7 +325,7 @@ def spice_deck(
     gets its own copy of the card (``<card>__<ref>``) so parts sharing the
     model keep the typical one.  Capacitors start at 0 V and filaments at
     room temperature (``uic``).  With ``light_full`` (the load's steady light with
-    the feed on, in :mod:`sheetgen.sizing.light`'s units) the deck carries a node
+    the feed on, in the units of its load kind's ``light``) the deck carries a node
     ``light`` whose voltage is the relative light, 1 V at full.
     """
     res = _Resolved(netlist, overrides, index)

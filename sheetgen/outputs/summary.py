@@ -55,6 +55,11 @@ def _parts_lines(report: Report) -> list[str]:
     return [f"    {a:<{w0}}  {b:<{w1}}  {c}" for a, b, c in rows]
 
 
+def _bound(asked: float | None, limit: float) -> str:
+    """A delay's target where one was asked for, else its limit."""
+    return f"asked {asked:g} s" if asked else f"at most {limit:g} s"
+
+
 def summary_text(report: Report) -> str:
     d = report.design
     spec = d.spec
@@ -67,9 +72,9 @@ def summary_text(report: Report) -> str:
         f"  supply {s.nominal_v:g} V (from {s.min_v:g} to {s.max_v:g} V), ambient up to {spec.ambient_c:g} °C",
         f"  topology: {d.topology.title}",
         f"  load current {format_quantity(d.load_current_a, 'A')} (steady, nominal supply)",
-        f"  delay on {d.delay_on_s:6.2f} s  (at most {on_max:g} s): {DEFINITIONS['delay_on_s']}",
+        f"  delay on {d.delay_on_s:6.2f} s  ({_bound(spec.delay_on_s, on_max)}): {DEFINITIONS['delay_on_s']}",
         f"  fade-in  {d.fade_in_s:6.2f} s  (asked {spec.fade_in_s:g} s): {DEFINITIONS['fade_in_s']}",
-        f"  hold off {d.hold_off_s:6.2f} s  (at most {off_max:g} s): {DEFINITIONS['hold_off_s']}",
+        f"  hold off {d.hold_off_s:6.2f} s  ({_bound(spec.delay_off_s, off_max)}): {DEFINITIONS['hold_off_s']}",
         f"  fade-out {d.fade_out_s:6.2f} s  (asked {spec.fade_out_s:g} s): {DEFINITIONS['fade_out_s']}",
         f"  ({FULL_MEANS})",
         *_led_line(report),

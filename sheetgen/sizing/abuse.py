@@ -13,7 +13,7 @@ from __future__ import annotations
 import numpy as np
 
 from sheetgen.engine import simulate
-from sheetgen.inputs.spec import LedLoad
+from sheetgen.circuits.loads import kind_of
 from sheetgen.model.netlist import Part
 from sheetgen.parts import catalog, protective
 from sheetgen.sizing import protection
@@ -54,6 +54,7 @@ def abuse_cases(design: Design) -> tuple[AbuseCase, ...]:
     if not protection.wanted(design.spec):
         return ()
     nl = design.netlist
+    kind = kind_of(design.spec.load)
     cases = _cases(design)
     levels = np.array([v for _, _, v, _, _ in cases])
     ov = {("VSUPPLY", "level"): levels, ("VFEED", "level"): levels}
@@ -66,12 +67,13 @@ def abuse_cases(design: Design) -> tuple[AbuseCase, ...]:
         states = [(lambda net, op=op: float(op.v(net)[k])) for op in (on, off)]
         short = duration is not None and duration <= SHORT_TIME_S
         stresses = tuple(st for part in nl.parts for st in _part_stresses(design, part, states, short_time=short))
-        leds = _led_currents(design, states[0])
-        if isinstance(design.spec.load, LedLoad):
-            stresses += tuple(Stress(ref=r.ref, quantity="LED string current", value=float(i),
-                                     limit=design.spec.load.current_a, unit="A")
+        branches = kind.branch_currents(nl, states[0])
+        leds = [] if branches is None else [float(i) for i in branches]
+        rating = kind.branch_rating_a(design.spec.load)
+        if rating is not None:
+            stresses += tuple(Stress(ref=r.ref, quantity=kind.branch_words, value=i, limit=rating, unit="A")
                               for r, i in zip(nl.by_role("led_series"), leds))
-            stresses += tuple(_string_stresses(design, states))
+        stresses += tuple(_string_stresses(design, states))
         supply_a = max(abs(float(op.i_source("VSUPPLY")[k])) for op in (on, off))
         feed_a = max(abs(float(op.i_source("VFEED")[k])) for op in (on, off))
         load = float(on.i_source("VSUPPLY")[k]) / nominal if nominal > 0 else 0.0
@@ -153,9 +155,3 @@ def _string_stresses(design: Design, states) -> list[Stress]:
         out.append(_worst(f"{chain[0].ref}" + (f"–{chain[-1].ref}" if len(chain) > 1 else ""), "reverse voltage",
                           reverse, LED_VR_V, "V"))
     return out
-
-
-def _led_currents(design: Design, v) -> list[float]:
-    """Each LED string's current, from the drop across its series resistor."""
-    return [(v(p.net("1")) - v(p.net("2"))) / p.value for p in design.netlist.by_role("led_series")]
-

@@ -29,8 +29,7 @@ from sheetgen.sizing.report import BenchReading, Curves, Harness, Heat, Report, 
 from sheetgen.sizing.design import Design
 from sheetgen.sizing.size import C_MAX_F, C_MIN_F, R_BLEED_RANGE, R_CHARGE_RANGE, TJ_LIMIT_C
 from sheetgen.sizing.hover import design_hover_w
-from sheetgen.inputs.spec import LedLoad
-from sheetgen.sizing.light import led_currents, light
+from sheetgen.circuits.loads import kind_of
 
 #: Blade-fuse ratings in amperes (ISO 8820-3 sizes; from memory).
 FUSES_A = (1, 2, 3, 5, 7.5, 10, 15, 20, 25, 30)
@@ -59,10 +58,12 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
     steady = op_on.i_source("VSUPPLY")
     inrush.check_peak(design, load[1], supply_v=float(vmax))
 
-    glow = light(nl, tr.v, ov)
-    full = light(nl, op_on.v, ov)
+    kind = kind_of(spec.load)
+    glow = kind.light(nl, tr.v, ov)
+    full = kind.light(nl, op_on.v, ov)
     curves = Curves(t_s=tr.t_s, load_a=load[0], light=glow[0] / full[0], timer_v=tr.v("timer")[0])
-    led = float(led_currents(nl, op_on.v, ov)[:, 0].max()) if isinstance(spec.load, LedLoad) else None
+    branches = kind.branch_currents(nl, op_on.v, ov)
+    led = None if branches is None else float(branches[:, 0].max())
     heat = _heat(design, tr, op_on)
     harness = _harness(float(steady[1]), wire_min_mm2=installs.install(spec.install).wire_min_mm2)
     sample = tolerance.draw(design, n=draws, seed=seed)
@@ -169,6 +170,7 @@ def _tuning(design: Design) -> tuple[TuningRow, ...]:
         arr[k] = value
     tr = simulate.transient(nl, overrides=ov, n=n)
     op = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=ov, n=n)
+    light = kind_of(design.spec.load).light
     times = light_times(tr.t_s, light(nl, tr.v, ov), release_s=nl.release_s, full=light(nl, op.v, ov))
     return tuple(TuningRow(ref=ref, value=value, direction=d, fade_in_s=float(times.fade_in_s[k]),
                            fade_out_s=float(times.fade_out_s[k]), delay_on_s=float(times.delay_on_s[k]),

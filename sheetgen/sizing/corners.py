@@ -24,12 +24,11 @@ import numpy as np
 
 from sheetgen.engine import simulate
 from sheetgen.engine.measure import LightTimes, light_times
-from sheetgen.inputs.spec import LedLoad
+from sheetgen.circuits.loads import kind_of
 from sheetgen.inputs.units import format_quantity
 from sheetgen.parts import catalog
 from sheetgen.sizing import tolerance
 from sheetgen.sizing.hover import design_hover_w
-from sheetgen.sizing.light import led_currents, light
 
 if TYPE_CHECKING:
     from sheetgen.sizing.design import Design
@@ -76,10 +75,7 @@ def overrides(design: "Design", conditions) -> dict:
             lo, hi = catalog.transistor(part.part_number).vgs_th_v
             ends = {"min": hi, "max": lo, "typ": part.model["VTO"]}
             ov[(part.ref, "VTO")] = np.array([ends[c[1]] for c in conditions], dtype=float)
-    if isinstance(design.spec.load, LedLoad):
-        colour = tolerance.led_colour(design.spec)
-        for led in (p for p in nl.parts if p.kind == "led"):
-            ov[(led.ref, "IS")] = led.model["IS"] * colour.is_drift(dt, n=led.model["N"])
+    ov.update(kind_of(design.spec.load).corner_overrides(design.spec.load, nl, dt))
     return ov
 
 
@@ -97,10 +93,12 @@ def corners(design: "Design") -> tuple[Corner, ...]:
     at = nl.release_s * 0.999
     op = simulate.operating_point(nl, at_s=at, overrides=ov, n=n)
     hard = simulate.operating_point(nl, at_s=at, overrides=tolerance.hard_switched(nl, ov, n), n=n)
-    steady = light(nl, op.v, ov)
-    times: LightTimes = light_times(tr.t_s, light(nl, tr.v, ov), release_s=nl.release_s, full=steady)
-    drive = steady / light(nl, hard.v, ov)
-    leds = led_currents(nl, op.v, ov).max(axis=0) if isinstance(spec.load, LedLoad) else None
+    kind = kind_of(spec.load)
+    steady = kind.light(nl, op.v, ov)
+    times: LightTimes = light_times(tr.t_s, kind.light(nl, tr.v, ov), release_s=nl.release_s, full=steady)
+    drive = steady / kind.light(nl, hard.v, ov)
+    branches = kind.branch_currents(nl, op.v, ov)
+    leds = None if branches is None else branches.max(axis=0)
     tj = _junction(design, conds)
     out = []
     nominal_light = steady[-1]
@@ -128,7 +126,7 @@ def _junction(design: "Design", conds) -> np.ndarray:
 def failures(design: "Design", found: tuple[Corner, ...]) -> list[str]:
     """What fails the acceptance rules, worst first, in words a refusal can print."""
     out = []
-    rated = design.spec.load.current_a if isinstance(design.spec.load, LedLoad) else None
+    rated = kind_of(design.spec.load).branch_rating_a(design.spec.load)
     for c in found:
         where = f"at {c.supply_v:g} V, {c.temp_c:g} °C, {c.gain} gain"
         if c.drive_fraction < FULL_LIGHT:

@@ -24,7 +24,7 @@ from sheetgen.sizing import mounting
 from sheetgen.sizing import runs as offboard
 from sheetgen.sizing.report import Brief, Harness, Heat
 from sheetgen.sizing.design import Design
-from sheetgen.inputs.spec import LampLoad
+from sheetgen.circuits.loads import kind_of
 from sheetgen.inputs.units import format_quantity
 
 _LEAD_KEY = {
@@ -392,10 +392,7 @@ def cautions(design: Design, heat: Heat, *, short: bool = False) -> tuple[str, .
         (place.isolate, None),
     ]
     out += mounting.heat_cautions(heat, mounting.choose(design, heat))
-    if isinstance(spec.load, LampLoad):
-        out.append(("Lamp glass and holders run hot: use heat-rated holders, keep them clear of fabric, trim and "
-                    "wiring, and let them cool before touching.",
-                    "Lamps run hot: heat-rated holders, clear of fabric and trim."))
+    out += kind_of(spec.load).cautions
     out += place.cautions
     out += guard_cautions(design)
     out.append(("sheetgen covers low-voltage DC (5–32 V) only. Follow your local vehicle, marine and electrical "

@@ -229,5 +229,5 @@ class Report:
     mounting: Mounting | None = None  # Q1's heatsink and insulating kit, where one is needed
     abuse: tuple[AbuseCase, ...] = ()  # reversed battery, jump start, load dump, where protection is fitted
     board: Board | None = None  # where every on-board part goes, proven against the netlist
-    full_light: float = 1.0  # the steady light at nominal, in sizing.light's units: the deck's 1 V
+    full_light: float = 1.0  # the steady light at nominal, in its load kind's light units: the deck's 1 V
     led_current_a: float | None = None  # each LED string's steady current at nominal supply

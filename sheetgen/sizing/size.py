@@ -34,12 +34,11 @@ from sheetgen.engine import simulate
 from sheetgen.sizing import protection
 from sheetgen.sizing import corners as corner_checks
 from sheetgen.sizing import tolerance
-from sheetgen.sizing.light import led_currents, light
 from sheetgen.parts.catalog import Transistor
 from sheetgen.errors import InfeasibleDesign, SpecError
-from sheetgen.circuits.loads import rated_current_a
+from sheetgen.circuits.loads import kind_of, led_colour, rated_current_a
 from sheetgen.engine.measure import HIGH, LOW, light_times, steady_light
-from sheetgen.inputs.spec import LampLoad, LedLoad, Spec
+from sheetgen.inputs.spec import Spec
 from sheetgen.circuits.topologies import INPUT_PNP, TOPOLOGIES, Stage, Topology, Values, Window, topologies_for, window_for
 from sheetgen.inputs.units import format_quantity
 from sheetgen.sizing.design import Design
@@ -145,7 +144,7 @@ def _topologies(spec: Spec) -> tuple[Topology, ...]:
 # ------------------------------------------------------------ transistor
 def _led_resistor(spec: Spec, stage: Stage, scale: float = 1.0) -> float | None:
     load = spec.load
-    if not isinstance(load, LedLoad):
+    if not kind_of(load).series_resistor:
         return None
     # R = (Vmax - n·Vf(hot) - Vce(sat)) / I, at the top of the supply range and the spec's ambient
     # (the forward voltage falls as the LED warms), rounded up to E24: the string never exceeds its
@@ -153,7 +152,7 @@ def _led_resistor(spec: Spec, stage: Stage, scale: float = 1.0) -> float | None:
     # figure, as a lightly loaded switch drops less.
     if stage.emitter_resistor:  # R_E sets the current; each string's resistor only shares it out
         return eseries.above("E24", BALLAST_V / load.current_a)
-    colour = tolerance.led_colour(spec)
+    colour = led_colour(load)
     vf_hot = load.vf_v + colour.tc_v_per_c * (spec.ambient_c - 25.0)
     headroom = spec.supply.max_v - protection.drop_v(spec) - load.per_string * vf_hot - stage.vce_sat_v / 3
     r = headroom / load.current_a * LED_CURRENT_MARGIN * scale
@@ -229,17 +228,9 @@ def _snap_below(series: str, x: np.ndarray) -> np.ndarray:
     return grid[np.searchsorted(grid, x * (1 + 1e-9), side="right") - 1]
 
 
-#: Light ∝ I for an LED; a filament's steady light rises as V^3.4 and its current as V^0.6 (lighting
-#: handbooks' incandescent characteristics, from memory), so light ∝ I^5.7: the current fraction
-#: at which each reference level of light is reached, per load kind (first guess only).
-LAMP_LIGHT_EXPONENT = 3.4 / 0.6
-
-
 def current_fractions(spec: Spec) -> tuple[float, float]:
     """Fractions of the steady current at which the light crosses the low and the high level."""
-    if isinstance(spec.load, LampLoad):
-        return LOW ** (1 / LAMP_LIGHT_EXPONENT), HIGH ** (1 / LAMP_LIGHT_EXPONENT)
-    return LOW, HIGH
+    return kind_of(spec.load).current_fractions(LOW, HIGH)
 
 
 def _predict(v_feed, vbe, r1, r2, r3, c, i_load, beta, fractions):
@@ -273,9 +264,17 @@ def delay_limits(spec: Spec) -> tuple[float, float]:
     """Longest darkness after the feed goes on and longest hold at full after it goes off.
 
     Without a requested delay, darkness may not outlast the fade: at most
-    max(0.3 s, fade-in) and max(0.5 s, fade-out).
+    max(0.3 s, fade-in) and max(0.5 s, fade-out).  A requested delay is met
+    like a fade, within ±ACCURACY, so its limit is the top of that band.
     """
-    return max(0.3, spec.fade_in_s), max(0.5, spec.fade_out_s)
+    on = spec.delay_on_s * (1 + ACCURACY) if spec.delay_on_s else max(0.3, spec.fade_in_s)
+    off = spec.delay_off_s * (1 + ACCURACY) if spec.delay_off_s else max(0.5, spec.fade_out_s)
+    return on, off
+
+
+def _asked(spec: Spec) -> tuple[float | None, float, float | None, float]:
+    """The four times asked for, in measurement order; None where only a limit applies."""
+    return spec.delay_on_s, spec.fade_in_s, spec.delay_off_s, spec.fade_out_s
 
 
 @dataclass
@@ -294,11 +293,11 @@ class _Trial:
     overdrive: float = math.nan
 
     def error(self, spec: Spec) -> float:
-        """Worst relative miss of the two fades; a delay past its limit counts as a miss beyond the band."""
-        times = (self.t_in, self.t_out, self.delay_on, self.hold_off)
+        """Worst relative miss of the times asked for; a delay past its limit counts as a miss beyond the band."""
+        times = (self.delay_on, self.t_in, self.hold_off, self.t_out)
         if not all(math.isfinite(x) for x in times):
             return math.inf
-        err = max(abs(self.t_in / spec.fade_in_s - 1), abs(self.t_out / spec.fade_out_s - 1))
+        err = max(abs(got / asked - 1) for got, asked in zip(times, _asked(spec)) if asked)
         on_max, off_max = delay_limits(spec)
         over = max(self.delay_on / on_max, self.hold_off / off_max) - 1
         return max(err, ACCURACY * 1.001 + over) if over > 0 else err
@@ -319,14 +318,19 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_m
 
     k = np.ones((4, 1))  # simulator / closed-form ratios of the four times, learnt each round
     on_max, off_max = delay_limits(spec)
-    wanted = np.array([[on_max], [spec.fade_in_s], [off_max], [spec.fade_out_s]])
+    asked = _asked(spec)
+    wanted = np.array([[asked[0] or on_max], [spec.fade_in_s], [asked[2] or off_max], [spec.fade_out_s]])
+    # Rows asked for are aimed at from both sides; a row with only a limit is penalised past it.
+    two_sided = np.array([[x is not None] for x in asked])
     tried: dict[tuple, _Trial] = {}
     best: _Trial | None = None
     for round_no in range(ROUNDS):
         with np.errstate(divide="ignore", invalid="ignore"):
             e = np.log(k * P / wanted)
-        score = (np.maximum(np.abs(e[1]), np.abs(e[3])) + np.maximum(e[0], 0) + np.maximum(e[2], 0)
-                 + C_PENALTY * np.log(C / C_MIN_F))
+        miss = np.where(two_sided, np.abs(e), np.maximum(e, 0))
+        aimed = np.max(np.where(two_sided, miss, 0.0), axis=0)  # the worst miss of a time asked for
+        score = aimed + np.where(two_sided[0], 0.0, miss[0]) + np.where(two_sided[2], 0.0, miss[2])
+        score = score + C_PENALTY * np.log(C / C_MIN_F)
         order = np.argsort(score)
         picks = []
         for j in order:
@@ -384,12 +388,8 @@ def _rank(t: _Trial, spec: Spec) -> tuple:
 
 def _load_scale(spec: Spec, supply_v: float, stage: Stage) -> float:
     """How the saturated load current scales with the supply (LED strings are headroom-limited)."""
-    load = spec.load
-    if isinstance(load, LedLoad):
-        drop = load.per_string * load.vf_v + stage.vce_sat_v
-        return max(supply_v - drop, 0.0) / max(spec.supply.nominal_v - drop, 1e-9)
-    # A filament's current rises roughly as V^0.57 (derived from zetatalk8.com/energy/tengx100.htm: −12 % V gives −7 % I; read in the source).
-    return (supply_v / spec.supply.nominal_v) ** 0.57
+    return kind_of(spec.load).supply_scale(spec.load, supply_v=supply_v, nominal_v=spec.supply.nominal_v,
+                                           switch_drop_v=stage.vce_sat_v)
 
 
 def _values(base: Values, t: _Trial) -> Values:
@@ -664,7 +664,7 @@ class _CurrentDrive:
             ov = _batch_overrides(trials, netlist)
             ov[("VSUPPLY", "level")] = ov[("VFEED", "level")] = np.full(n, s.supply.max_v)
             op = simulate.operating_point(netlist, at_s=window.release_s / 2, overrides=ov, n=n)
-            i = led_currents(netlist, op.v, ov).sum(axis=0)
+            i = kind_of(s.load).branch_currents(netlist, op.v, ov).sum(axis=0)
             for t, ii, x in zip(trials, i, op.v("emitter")):
                 # With V_BE lower by the heat of the spec's ambient, the emitter sits that much higher.
                 t.re = eseries.above("E24", max(x + self.hot, 1e-3) / target)
@@ -706,7 +706,7 @@ def _simulate(spec, topology, base, window, trials) -> None:
     op = simulate.operating_point(netlist, at_s=window.release_s / 2, overrides=ov, n=n)
     steady = op.i_source("VSUPPLY")
     tr = simulate.transient(netlist, overrides=ov, n=n)
-    glow = light(netlist, tr.v, ov)
+    glow = kind_of(spec.load).light(netlist, tr.v, ov)
     times = light_times(tr.t_s, glow, release_s=window.release_s,
                         full=steady_light(tr.t_s, glow, release_s=window.release_s))
     for k, (t, s) in enumerate(zip(trials, steady)):
@@ -723,6 +723,14 @@ def _why_not(spec: Spec, best: _Trial | None, c_max: float, note: str) -> str:
            f"(C1 {cap}, R1 {format_quantity(best.r1, 'ohm')}, R2 {format_quantity(best.r2, 'ohm')}, "
            f"R3 {format_quantity(best.r3, 'ohm')})")
     on_max, off_max = delay_limits(spec)
+    if spec.delay_off_s and best.hold_off < spec.delay_off_s * (1 - ACCURACY):
+        return (msg + f"; the light holds at full only {best.hold_off:.2g} s after the feed goes (asked "
+                f"{spec.delay_off_s:g} s): a hold comes from driving the switch far past what it needs, and "
+                "this stage runs out of drive or capacitor first")
+    if spec.delay_on_s and best.delay_on < spec.delay_on_s * (1 - ACCURACY):
+        return (msg + f"; the light shows after only {best.delay_on:.2g} s (asked {spec.delay_on_s:g} s): a "
+                "wait in the dark needs C1 to charge far before the switch starts, which the fade-in leaves no "
+                "room for")
     if best.delay_on > on_max:
         return (msg + f"; the light stays dark {best.delay_on:.2g} s before it shows (at most {on_max:.2g} s "
                 "allowed): a saturating switch turns the light on over a narrow slice of C1's voltage")
@@ -740,17 +748,17 @@ def _why_not(spec: Spec, best: _Trial | None, c_max: float, note: str) -> str:
 
 
 def _infeasible_message(spec: Spec, refusals: list[str], c_max: float) -> str:
-    lines = [f"no design meets fade-in {spec.fade_in_s:g} s and fade-out {spec.fade_out_s:g} s for this load "
+    delays = "".join(f", {name} {t:g} s" for name, t in (("delay on", spec.delay_on_s), ("hold off", spec.delay_off_s))
+                     if t)
+    lines = [f"no design meets fade-in {spec.fade_in_s:g} s and fade-out {spec.fade_out_s:g} s{delays} for this load "
              f"within ±{ACCURACY:.0%} (timing capacitor at most {format_quantity(c_max, 'F')}):"]
     lines += [f"  - {r}" for r in refusals]
     hints = []
     if spec.fade_in_s > 2 * spec.fade_out_s:
         hints.append("a fade-in much longer than the fade-out needs a large charge resistor against a small "
                      "bleed resistor, which leaves too little drive; bring the two times closer together")
-    if isinstance(spec.load, LampLoad):
-        hints.append("a lamp's light rises from 10 % to 90 % over only the top third of its current, so these "
-                     "stages keep it dark and then snap it on; an LED load of the same light, on a current "
-                     "stage, fades as asked")
+    if kind_of(spec.load).refusal_hint:
+        hints.append(kind_of(spec.load).refusal_hint)
     if spec.topology != "auto":
         hints.append("topology: auto lets the sizer move to a stronger stage")
     hints.append("a shorter fade-in, fade times nearer 1-5 s, or a lighter load are easiest to reach")

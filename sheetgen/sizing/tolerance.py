@@ -32,8 +32,7 @@ from sheetgen.parts import catalog
 from sheetgen.engine import simulate
 from sheetgen.engine.devices import VT_NOMINAL
 from sheetgen.engine.measure import light_times
-from sheetgen.inputs.spec import LedLoad
-from sheetgen.sizing.light import light
+from sheetgen.circuits.loads import kind_of
 
 if TYPE_CHECKING:
     from sheetgen.sizing.design import Design
@@ -83,13 +82,7 @@ def draw(design: "Design", *, n: int = DEFAULT_DRAWS, seed: int = SEED) -> Draws
             lo, hi = catalog.transistor(part.part_number).vgs_th_v
             ov[(part.ref, "VTO")] = rng.uniform(lo, hi, n)
 
-    if isinstance(spec.load, LedLoad):
-        colour = led_colour(spec)
-        spread = (colour.vf_max_v - colour.vf_typ_v) / colour.vf_typ_v
-        for led in (p for p in nl.parts if p.kind == "led"):
-            dv = spec.load.vf_v * rng.uniform(-spread / 2, spread, n)
-            ov[(led.ref, "IS")] = (led.model["IS"] * np.exp(-dv / (led.model["N"] * VT_NOMINAL))
-                                   * colour.is_drift(dt, n=led.model["N"]))
+    ov.update(kind_of(spec.load).draw_overrides(spec.load, nl, rng, n, dt))
     return Draws(n=n, overrides=ov, supply_v=supply, ambient_c=ambient)
 
 
@@ -106,12 +99,6 @@ def bipolar_at(ov: dict, part, gain: np.ndarray, dt: np.ndarray) -> None:
     for prefix, card in part.model.junctions():  # every junction's Vbe drifts
         nf = card.get("NF", 1.0)
         ov[(part.ref, f"{prefix}IS")] = card["IS"] * np.exp(-VBE_TC_V_PER_C * dt / (nf * VT_NOMINAL))
-
-
-def led_colour(spec):
-    """The catalog colour an LED load is drawn from: the named one, or the nearest forward voltage."""
-    return (catalog.led_colour(spec.load.colour) if spec.load.colour else
-            min(catalog.led_colours(), key=lambda c: abs(c.vf_typ_v - spec.load.vf_v)))
 
 
 def full_brightness_yield(design: "Design", draws: Draws) -> float:
@@ -158,6 +145,7 @@ def spread(design: "Design", draws: Draws) -> Spread:
     tr = simulate.transient(nl, overrides=draws.overrides, n=draws.n)
     load = tr.i_source("VSUPPLY")
     op = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=draws.overrides, n=draws.n)
+    light = kind_of(design.spec.load).light
     times = light_times(tr.t_s, light(nl, tr.v, draws.overrides), release_s=nl.release_s,
                         full=light(nl, op.v, draws.overrides))
 

@@ -98,6 +98,15 @@ def test_supply_mapping_with_nominal_only_takes_the_default_span():
     assert spec.supply == Supply(nominal_v=12.0, min_v=11.0, max_v=15.0)
 
 
+def test_delay_is_optional_and_takes_on_and_off():
+    """`on:`/`off:` are read as written, not as YAML 1.1 booleans; either may be left out."""
+    assert parse_spec(GOOD, source="t.yaml").delay_off_s is None
+    spec = parse_spec(GOOD + "delay: {off: 5 s}\n", source="t.yaml")
+    assert (spec.delay_on_s, spec.delay_off_s) == (None, 5.0)
+    spec = parse_spec(GOOD + "delay:\n  on: 800 ms\n  off: 2 s\n", source="t.yaml")
+    assert (spec.delay_on_s, spec.delay_off_s) == (0.8, 2.0)
+
+
 def test_defaults():
     text = """\
     supply: 12 V
@@ -317,6 +326,11 @@ BAD_SPECS = [
     ("bad topology name", GOOD + "topology: two stage!\n", 14, "topology", "not a topology name"),
     ("YAML merge key", "base: &b {kind: led}\n" + GOOD.replace("  kind: led\n", "  <<: *b\n"), 6, "load",
      "merge key"),
+    ("delay written with in/out", GOOD + "delay: {out: 5 s}\n", 14, "delay.out", "did you mean `off:`?"),
+    ("delay as one number", GOOD + "delay: 5 s\n", 14, "delay", "on: and/or off:"),
+    ("delay too long", GOOD + "delay:\n  off: 5 min\n", 15, "delay.off", "outside 100 ms to 60 s"),
+    ("delay negative", GOOD + "delay:\n  on: -2 s\n", 15, "delay.on", "must be positive"),
+    ("delay in the wrong unit", GOOD + "delay: {off: 5 V}\n", 14, "delay.off", "is not a time"),
 ]
 
 

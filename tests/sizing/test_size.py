@@ -10,7 +10,7 @@ from sheetgen.parts import eseries
 from sheetgen.engine import simulate
 from sheetgen.errors import InfeasibleDesign
 from sheetgen.engine.measure import light_times
-from sheetgen.sizing.light import light
+from sheetgen.circuits.loads import kind_of
 from sheetgen.sizing.size import OVERDRIVE_MIN, drive_at_minimum, size
 from sheetgen.inputs.spec import parse_spec
 from sheetgen.circuits.topologies import window_for
@@ -73,6 +73,7 @@ def test_reported_fades_are_what_the_simulator_says(load, fade_in, fade_out, sup
     d = size(_spec(load, fade_in, fade_out, supply))
     tr = simulate.transient(d.netlist)
     op = simulate.operating_point(d.netlist, at_s=d.netlist.release_s * 0.999)
+    light = kind_of(d.spec.load).light
     times = light_times(tr.t_s, light(d.netlist, tr.v), release_s=d.netlist.release_s, full=light(d.netlist, op.v))
     assert times.fade_in_s[0] == pytest.approx(d.fade_in_s, rel=0.01)
     assert times.fade_out_s[0] == pytest.approx(d.fade_out_s, rel=0.01)
@@ -136,6 +137,7 @@ def _fades_with(d, **values):
     nl = d.netlist
     tr = simulate.transient(nl, overrides=ov)
     op = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=ov)
+    light = kind_of(d.spec.load).light
     times = light_times(tr.t_s, light(nl, tr.v, ov), release_s=nl.release_s, full=light(nl, op.v, ov))
     return times.fade_in_s, times.fade_out_s
 
@@ -193,3 +195,29 @@ def test_the_built_in_demo_gets_a_design_that_passes_its_corners():
 
     d = size(demo_spec())
     assert d.corners and all(c.led_current_max_a <= d.spec.load.current_a * 1.001 for c in d.corners)
+
+
+def test_a_requested_delay_is_met_like_a_fade():
+    """`delay: {on}` asks for a wait in the dark; the design meets it within the same ±10 % as a fade,
+    and the report, the summary and the JSON say it was asked for."""
+    from sheetgen.outputs.export import report_dict
+    from sheetgen.outputs.summary import summary_text
+    from sheetgen.sizing.analyse import analyse
+
+    spec = _spec(LED2X3, 1.5, 4, extra="delay: {on: 1 s}\nambient: 40 °C\n")
+    d = size(spec)
+    assert d.delay_on_s == pytest.approx(1.0, rel=0.10)
+    assert d.fade_in_s == pytest.approx(1.5, rel=0.10) and d.fade_out_s == pytest.approx(4.0, rel=0.10)
+    report = analyse(d, draws=50)
+    assert report_dict(report)["requested"] == {"delay_on_s": 1.0, "fade_in_s": 1.5, "fade_out_s": 4.0}
+    assert "(asked 1 s)" in summary_text(report)
+
+
+def test_a_hold_the_stages_cannot_give_is_refused_naming_the_hold():
+    """A saturating switch holds at full for τ·ln(overdrive) after the feed goes (the discharge of C1 down to
+    the edge of saturation; textbook RC decay), and the drive that sets the hold also sets the fades: a
+    short hold with a slow fade-out is out of its reach, and the refusal says so."""
+    with pytest.raises(InfeasibleDesign) as err:
+        size(_spec(LED2X3, 1.5, 4, extra="delay: {off: 3 s}\nambient: 40 °C\n"))
+    text = str(err.value)
+    assert "hold off 3 s" in text and "holds at full" in text

@@ -27,7 +27,7 @@ from sheetgen.sizing.size import delay_limits
 from sheetgen.sizing import mounting, runs
 from sheetgen.sizing.analyse import WIRES
 from sheetgen.sizing.report import Report
-from sheetgen.inputs.spec import LedLoad
+from sheetgen.circuits.loads import kind_of
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
 
 from sheetgen.outputs.pdf import plot
@@ -385,20 +385,7 @@ class _Sized(Flowable):
 def load_text(report: Report) -> str:
     """The load in a sentence; a single LED or string is not called "1 string of 1 LED"."""
     load = report.design.spec.load
-    if isinstance(load, LedLoad):
-        colour = f"{load.colour} " if load.colour else ""
-        current = format_quantity(load.current_a, "A")
-        vf = format_quantity(load.vf_v, "V")
-        n, leds = load.per_string, "LED" if load.per_string == 1 else "LEDs"
-        if load.strings == 1 and n == 1:
-            return f"1 {colour}LED, {current}, Vf {vf}"
-        if load.strings == 1:
-            return f"{n} {colour}{leds} in series, {current}, Vf {vf} each"
-        if n == 1:
-            return f"{load.strings} {colour}LEDs, each with its own resistor, {current} each, Vf {vf}"
-        return f"{load.strings} strings of {n} {colour}LEDs in series, {current} per string, Vf {vf} each"
-    lamps = "1 lamp" if load.count == 1 else f"{load.count} lamps in parallel"
-    return f"{lamps}, {format_quantity(load.power_w, 'W')} each, rated at {format_quantity(load.rated_v, 'V')}"
+    return kind_of(load).describe(load, format_quantity)
 
 
 def _sentence(words: str) -> str:
@@ -507,9 +494,11 @@ def summary_block(report: Report, frame: Frame) -> Block:
          _p(f"{format_quantity(sup.nominal_v, 'V')} nominal; sized for {format_quantity(sup.min_v, 'V')} to "
             f"{format_quantity(sup.max_v, 'V')}; ambient up to {spec.ambient_c:g} °C", s.cell), ""],
         [_p("Circuit", s.cell_bold), _p(f"{d.topology.title}. {d.topology.summary}", s.cell), ""],
-        limit_row("Delay on", d.delay_on_s, on_max, DEFINITIONS["delay_on_s"]),
+        (fade_row("Delay on", d.delay_on_s, spec.delay_on_s, DEFINITIONS["delay_on_s"]) if spec.delay_on_s else
+         limit_row("Delay on", d.delay_on_s, on_max, DEFINITIONS["delay_on_s"])),
         fade_row("Fade-in", d.fade_in_s, spec.fade_in_s, DEFINITIONS["fade_in_s"]),
-        limit_row("Hold off", d.hold_off_s, off_max, DEFINITIONS["hold_off_s"]),
+        (fade_row("Hold off", d.hold_off_s, spec.delay_off_s, DEFINITIONS["hold_off_s"]) if spec.delay_off_s else
+         limit_row("Hold off", d.hold_off_s, off_max, DEFINITIONS["hold_off_s"])),
         fade_row("Fade-out", d.fade_out_s, spec.fade_out_s, DEFINITIONS["fade_out_s"]),
         [_p("Load current", s.cell_bold),
          _pm(f"<b>{escape(format_quantity(report.steady_a, 'A'))}</b> steady, at "
@@ -662,8 +651,6 @@ def timing_block(report: Report, frame: Frame) -> Block:
     top = plot.nice_ceiling(max(float(np.max(i)), float(np.max(band[1])), steady) * 1.08)
     light_top = top / steady * 100.0 if steady > 0 else 110.0
     left = plot.Axis(0.0, top, f"load current ({unit})")
-    lamp = not isinstance(d.spec.load, LedLoad)
-    # A filament's light is reported against its rated output (rated voltage), an LED's against its steady light.
     right = plot.Axis(0.0, light_top, "light output (% of full)",
                       ticks=tuple(t for t in plot.nice_ticks(0.0, light_top) if t <= light_top))
 
@@ -692,10 +679,7 @@ def timing_block(report: Report, frame: Frame) -> Block:
         return Centred(plot.panels_drawing(width_pt=aw, height_pt=min(165.0, aw * 0.4), panels=(fin, fout),
                                            left=left, right=right, legend=legend))
 
-    follows = ("For LEDs the light follows the current, so the two lines lie on top of each other. "
-               if isinstance(d.spec.load, LedLoad) else
-               "A lamp's light lags its current while the filament heats and cools and rises far more steeply: "
-               "it is worked out from the filament's temperature. ")
+    follows = kind_of(d.spec.load).light_words
     note = _p(f"Nominal parts at {format_quantity(d.spec.supply.nominal_v, 'V')}; steady current "
               f"{format_quantity(report.steady_a, 'A')}. {follows}The marked points are where the light crosses "
               f"10 % and 90 % of full: between them lie the fade-in and the fade-out; before them, the delay on and "

@@ -156,7 +156,6 @@ class BoardViews(Flowable):
             c.line(x1, y1, x2, y2)
             c.circle(x1, y1, 0.17 * p, stroke=0, fill=1)
             c.circle(x2, y2, 0.17 * p, stroke=0, fill=1)
-        size = max(MIN_FONT_PT, min(self.font, p * 0.6))
         for k, t in enumerate(b.offboard, start=1):
             x, y = self._xy(t.hole, mirrored=False, top=top)
             c.setFillColor(WHITE)

@@ -22,7 +22,6 @@ from reportlab.platypus import Spacer, TableStyle
 from sheetgen.inputs.event import Build, Event
 from sheetgen.pack.kit import KitLine, WIRE_M_PER_RUN
 from sheetgen.pack.plan import PackDesign
-from sheetgen.sizing.report import Report
 
 from sheetgen.outputs.pdf.blocks import Block, SizedToWidth, markup_paragraph, plain_paragraph, ruled_table, styles, width_shares
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR

@@ -52,7 +52,7 @@ from sheetgen.outputs.pdf.blocks import Heading, paragraph_style, part_bands, pa
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import CARD_BLOCKS
 from sheetgen.inputs.layout import CardLayout, Slot
-from sheetgen.inputs.spec import LedLoad
+from sheetgen.circuits.loads import kind_of
 from sheetgen.outputs.pdf.sheet import FOOTER_TEXT, design_digest
 
 __all__ = ["Card", "render_cards", "card_sides", "cut_marks", "CARD_PAD_MM", "MARK_OFFSET_MM", "MARK_LENGTH_MM"]
@@ -534,7 +534,7 @@ def card_sides(report: Report, layout: CardLayout) -> dict[str, _Side]:
         return _sides(report, layout, None, inner_w=inner_w, front_h=front_h, back_h=back_h)[1]
     best = _sides(report, layout, _natural_schematic(report), inner_w=inner_w, front_h=front_h, back_h=back_h)
     load = report.design.spec.load
-    branches = load.strings if isinstance(load, LedLoad) else load.count
+    branches = kind_of(load).branches(load)
     if branches > 1 and best[0] < ((True, 1.0, True, SCALES[0]),) * 2:
         # Every string drawn side by side leaves the card short of room: draw one and name the rest.
         compact = _sides(report, layout, _natural_schematic(report, compact=True), inner_w=inner_w,
