@@ -9,7 +9,9 @@ written with our model cards and run in ngspice is a fair judge of our solver:
   and reverse breakdown (BV, IBV, NBV) as ngspice's diode model has it;
 * BJT: the Gummel-Poon subset with forward Early voltage (VAF), forward knee
   current (IKF) and base-emitter leakage (ISE, NE), GMIN across both junctions;
-* MOSFET: Shichman-Hodges (SPICE level 1) with channel-length modulation;
+* MOSFET: the Shichman-Hodges square law (SPICE level 1) with channel-length modulation, in
+  the smooth EKV form that adds conduction below threshold; the deck writes it as a
+  behavioural subcircuit, since ngspice's level 1 has no such tail;
 * tungsten lamp: resistance R0 (T/TROOM)^ALPHA and a radiative heat balance.
 
 Series resistances (RB, RC, RE, RD) are separate linear resistors in the
@@ -158,34 +160,44 @@ def gummel_poon(cbe, gbe, cbc, gbc, vbc, leak, *, inv_bf, inv_br, inv_vaf, inv_i
     return ic, ib, dit_dvbe, -(gbc + it * dqb_dvbc) / qb - gbc_r, dib_dvbe, gbc_r
 
 
-def mosfet_level1(vgs, vds, *, vto, kp, lam):
-    """Shichman-Hodges drain current into the drain of an NMOS (W = L = 1).
+#: The subthreshold slope factor of an NMOS card that gives none: n Vt ln 10 = 89 mV per decade at
+#: 25 °C, inside the 80–120 mV/decade power MOSFETs show below threshold (common practice, no source).
+NMOS_N_DEFAULT = 1.5
 
-    Handles ``vds < 0`` by swapping drain and source, as SPICE does.  Returns
-    ``(id, did_dvgs, did_dvds)``.
+
+def mosfet(vgs, vds, *, vto, kp, lam, n):
+    """Drain current of an NMOS with a subthreshold tail, and its two derivatives.
+
+    The square law of Shichman and Hodges written in the symmetric, smooth form of the EKV
+    model (Enz, Krummenacher and Vittoz, Analog Integrated Circuits and Signal Processing 8
+    (1995) 83): Id = KP/2 (s(Vgs - VTO)^2 - s(Vgd - VTO)^2)(1 + LAMBDA |Vds|), with
+    s(u) = 2 n Vt ln(1 + exp(u / 2 n Vt)).  Well above threshold s(u) = u and this is level 1
+    exactly (linear region, and saturation once Vgd < VTO); below it the current falls as
+    exp(u / n Vt), n Vt ln 10 per decade, so a fade starts from a tail, not a corner.  The
+    form is symmetric in drain and source, so a reversed Vds needs no special case.  GMIN
+    sits across drain and source (the deck writes it as a resistor), so a drain between an
+    off channel and unlit LEDs is never a floating node.  Returns ``(id, did_dvgs, did_dvds)``.
     """
-    rev = vds < 0
-    vgs_eff = np.where(rev, vgs - vds, vgs)  # gate to the lower terminal
-    vds_eff = np.abs(vds)
-    vov = vgs_eff - vto
-    on = vov > 0
-    sat = on & (vds_eff >= vov)
-    lin = on & ~sat
-    clm = 1.0 + lam * vds_eff
-    i_sat = 0.5 * kp * vov**2 * clm
-    i_lin = kp * (vov - 0.5 * vds_eff) * vds_eff * clm
-    i = np.where(sat, i_sat, np.where(lin, i_lin, 0.0))
-    gm = np.where(sat, kp * vov * clm, np.where(lin, kp * vds_eff * clm, 0.0))
-    gds = np.where(
-        sat,
-        0.5 * kp * vov**2 * lam,
-        np.where(lin, kp * (vov - vds_eff) * clm + kp * (vov - 0.5 * vds_eff) * vds_eff * lam, 0.0),
-    )
-    # In reverse the roles of drain and source swap: i flows source→drain.
-    i_d = np.where(rev, -i, i)
-    did_dvgs = np.where(rev, -gm, gm)
-    did_dvds = np.where(rev, gm + gds, gds)
+    w = 2.0 * n * VT_NOMINAL
+    u_s, u_d = (vgs - vto) / w, (vgs - vds - vto) / w
+    s_s, s_d = w * np.logaddexp(0.0, u_s), w * np.logaddexp(0.0, u_d)
+    g_s, g_d = 0.5 * (1.0 + np.tanh(0.5 * u_s)), 0.5 * (1.0 + np.tanh(0.5 * u_d))  # ds/du: the logistic
+    clm = 1.0 + lam * np.abs(vds)
+    core = 0.5 * kp * (s_s * s_s - s_d * s_d)
+    i_d = core * clm + GMIN * vds
+    did_dvgs = kp * (s_s * g_s - s_d * g_d) * clm
+    did_dvds = kp * s_d * g_d * clm + core * lam * np.sign(vds) + GMIN
     return i_d, did_dvgs, did_dvds
+
+
+def mosfet_vto(vgs_th_v, *, at_a: float, kp, n):
+    """The VTO at which :func:`mosfet` carries ``at_a`` with its gate tied to its drain at ``vgs_th_v``.
+
+    That is how a datasheet measures VGS(th) (VDS = VGS, ID = ``at_a``); the drain-side term is
+    negligible there, so the square-law branch inverts in closed form.
+    """
+    w = 2.0 * n * VT_NOMINAL
+    return vgs_th_v - w * np.log(np.expm1(np.sqrt(2.0 * at_a / kp) / w))
 
 
 def lamp_resistance(t_k, *, r0_ohm, t_room_k, alpha):

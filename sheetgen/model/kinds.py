@@ -41,7 +41,7 @@ KINDS: dict[str, DeviceKind] = {k.name: k for k in (
                {"A": "anode", "K": "cathode"}),
     DeviceKind("npn", ("C", "B", "E"), "Q", "NPN", "NPN transistor", _BJT_LEADS, _BJT_LEADS),
     DeviceKind("pnp", ("C", "B", "E"), "Q", "PNP", "PNP transistor", _BJT_LEADS, _BJT_LEADS),
-    DeviceKind("nmos", ("D", "G", "S"), "M", "NMOS", "N-channel MOSFET", _MOS_LEADS, _MOS_LEADS),
+    DeviceKind("nmos", ("D", "G", "S"), "X", "NMOS", "N-channel MOSFET", _MOS_LEADS, _MOS_LEADS),
     DeviceKind("lamp", ("1", "2"), "X", "LAMP", "lamp", _LAMP_LEADS, _LAMP_LEADS),
 )}
 

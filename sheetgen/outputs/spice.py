@@ -8,8 +8,9 @@ written into the deck, never into the netlist.
 Naming, so a reader can find things:
 
 * element names start with their SPICE letter: a ref that already does is kept
-  (``R1``, ``C1``, ``D1``, ``Q1``, ``M1``), otherwise the letter is prefixed
-  (``LED1`` -> ``DLED1``, ``LP1`` -> ``XLP1``);
+  (``R1``, ``C1``, ``D1``, ``Q1``), otherwise the letter is prefixed
+  (``LED1`` -> ``DLED1``, ``LP1`` -> ``XLP1``; a MOSFET, written as the subcircuit of its
+  equation, ``Q1`` -> ``XQ1``);
 * nets keep their names, lowercased, with anything but letters, digits and
   ``_`` turned into ``_`` (see :func:`node_names`);
 * a lamp's filament temperature, in kelvin, is the voltage of the node
@@ -24,6 +25,7 @@ import numpy as np
 
 from sheetgen import __version__
 from sheetgen.engine import light as filament_light
+from sheetgen.engine.devices import GMIN, NMOS_N_DEFAULT, VT_NOMINAL
 from sheetgen.model.kinds import KINDS
 from sheetgen.model.netlist import GROUND, Model, Netlist, Overrides, Part
 
@@ -171,11 +173,9 @@ def _model_card(name: str, model: Model, params: dict[str, float]) -> list[str]:
         return _lamp_subckt(name, model, params)
     if model.body:
         return _composite_subckt(name, model, params)
-    items = dict(params)
     if model.kind == "NMOS":
-        # Level 1 (Shichman-Hodges) is the square law the tool's own simulator uses.
-        items = {"LEVEL": 1.0, **{k: v for k, v in items.items() if k != "LEVEL"}}
-    body = " ".join(f"{k}={_num(v)}" for k, v in items.items())
+        return _mosfet_subckt(name, model, params)
+    body = " ".join(f"{k}={_num(v)}" for k, v in params.items())
     return [f".model {name} {model.kind} ({body})"]
 
 
@@ -212,6 +212,34 @@ def _composite_ports(model: Model) -> list[str]:
     """A composite's port nets (its kind's pins), lowercased, in element order."""
     pins = next(k.pins for k in KINDS.values() if k.model_kind == model.kind)
     return [pin.lower() for pin in pins]
+
+
+#: Parameters an NMOS card may give, with the values the simulator takes where it gives none.
+NMOS_PARAMS = {"VTO": 0.0, "KP": 2e-5, "LAMBDA": 0.0, "N": NMOS_N_DEFAULT, "RD": 0.0, "RS": 0.0}
+
+
+def _mosfet_subckt(name: str, model: Model, params: dict[str, float]) -> list[str]:
+    """An NMOS as the equation the tool's own simulator solves (``engine.devices.mosfet``).
+
+    ngspice's level 1 has no conduction below threshold, so the drain current is a
+    behavioural source: the square law in its smooth, symmetric EKV form, with the
+    thermal voltage at 27 °C.  RD and RS sit in series on internal nodes, as in a card.
+    """
+    unknown = set(params) - set(NMOS_PARAMS)
+    if unknown:
+        raise ValueError(f"NMOS model {model.name} has parameters the deck cannot write: {', '.join(sorted(unknown))}")
+    p = {**NMOS_PARAMS, **params}
+    header = " ".join(f"{k}={_num(p[k])}" for k in ("VTO", "KP", "LAMBDA", "N"))
+    w = f"(2*{{N}}*{_num(VT_NOMINAL)})"
+    s_s, s_d = (f"({w}*ln(1+exp((V(g,{x})-{{VTO}})/{w})))" for x in ("si", "di"))
+    lines = [f".subckt {name} d g s params: {header}",
+             "* Id = KP/2 (s(Vgs-VTO)^2 - s(Vgd-VTO)^2)(1 + LAMBDA |Vds|), s(u) = 2 n Vt ln(1 + exp(u / 2 n Vt))"]
+    for pin, inner, r in (("d", "di", p["RD"]), ("s", "si", p["RS"])):
+        lines.append(f"R{inner} {pin} {inner} {_num(r)}" if r > 0 else f"V{inner} {pin} {inner} 0")
+    lines += [f"Bid di si I={{KP}}/2*({s_s}*{s_s}-{s_d}*{s_d})*(1+{{LAMBDA}}*abs(V(di,si)))",
+              f"Rgmin di si {_num(1.0 / GMIN)}",
+              f".ends {name}"]
+    return lines
 
 
 def _lamp_subckt(name: str, model: Model, params: dict[str, float]) -> list[str]:
@@ -373,11 +401,6 @@ def spice_deck(
             if value is None:
                 raise ValueError(f"{part.ref} ({part.kind}) has no value")
             lines.append(f"{names[part.ref]} {pins} {_num(value)}")
-        elif part.kind == "nmos":
-            source = nodes[part.net("S")]
-            # Body tied to source; W/L = 1 so KP is the device's own gain factor,
-            # at ngspice's default size so any oxide capacitance stays realistic.
-            lines.append(f"{names[part.ref]} {pins} {source} {part_model[part.ref]} W=100u L=100u")
         else:
             lines.append(f"{names[part.ref]} {pins} {part_model[part.ref]}")
 

@@ -73,7 +73,7 @@ def overrides(design: "Design", conditions) -> dict:
             tolerance.bipolar_at(ov, part, gain, dt)
         elif part.kind == "nmos":
             lo, hi = catalog.transistor(part.part_number).vgs_th_v
-            ends = {"min": hi, "max": lo, "typ": part.model["VTO"]}
+            ends = {"min": tolerance.vto_at(part, hi), "max": tolerance.vto_at(part, lo), "typ": part.model["VTO"]}
             ov[(part.ref, "VTO")] = np.array([ends[c[1]] for c in conditions], dtype=float)
     ov.update(kind_of(design.spec.load).corner_overrides(design.spec.load, nl, dt))
     return ov

@@ -29,7 +29,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from sheetgen.parts import catalog
-from sheetgen.engine import simulate
+from sheetgen.engine import devices, simulate
 from sheetgen.engine.devices import VT_NOMINAL
 from sheetgen.engine.measure import light_times
 from sheetgen.circuits.loads import kind_of
@@ -79,8 +79,7 @@ def draw(design: "Design", *, n: int = DEFAULT_DRAWS, seed: int = SEED) -> Draws
             i_op = design.load_current_a if part.role == "switch" else INPUT_STAGE_CURRENT_A
             _draw_bipolar(rng, ov, part, catalog.transistor(part.part_number), i_op, dt)
         elif part.kind == "nmos":
-            lo, hi = catalog.transistor(part.part_number).vgs_th_v
-            ov[(part.ref, "VTO")] = rng.uniform(lo, hi, n)
+            ov[(part.ref, "VTO")] = vto_at(part, rng.uniform(*catalog.transistor(part.part_number).vgs_th_v, n))
 
     ov.update(kind_of(spec.load).draw_overrides(spec.load, nl, rng, n, dt))
     return Draws(n=n, overrides=ov, supply_v=supply, ambient_c=ambient)
@@ -91,6 +90,12 @@ def _draw_bipolar(rng, ov: dict, part, q, i_op: float, dt: np.ndarray) -> None:
     lo, hi = q.hfe_min_at(i_op), q.hfe_max_at(i_op)
     gain = np.exp(rng.uniform(np.log(lo), np.log(hi), dt.size)) / q.hfe_typ_at(i_op)
     bipolar_at(ov, part, gain, dt)
+
+
+def vto_at(part, vgs_th_v):
+    """A MOSFET's VTO for datasheet thresholds ``vgs_th_v``: the card's equation inverted at the test current."""
+    q = catalog.transistor(part.part_number)
+    return devices.mosfet_vto(vgs_th_v, at_a=q.vgs_th_at_a, kp=part.model["KP"], n=part.model["N"])
 
 
 def bipolar_at(ov: dict, part, gain: np.ndarray, dt: np.ndarray) -> None:

@@ -125,7 +125,7 @@ def test_element_and_node_names():
     lp = Part("LP1", "lamp", (("1", "+12V"), ("2", "gnd")), role="load", model=LAMP_5W)
     m = Part("Q3", "nmos", (("D", "Led A"), ("G", "gate"), ("S", GROUND)), role="switch", model=NMOS_L1)
     nl = Netlist("names", parts=(lp, m), sources=(Source("SUPPLY", "+12V", GROUND, 12.0),), release_s=1, stop_s=1)
-    assert element_name(lp) == "XLP1" and element_name(m) == "MQ3"
+    assert element_name(lp) == "XLP1" and element_name(m) == "XQ3"
     assert lamp_thermal_node(lp) == "xlp1.th"
     nodes = node_names(nl)
     assert nodes == {GROUND: "0", "+12V": "p12v", "gnd": "n_gnd", "Led A": "led_a", "gate": "gate"}
@@ -133,8 +133,8 @@ def test_element_and_node_names():
     # the net called "gnd" must not be shorted to ground by ngspice's alias
     assert "XLP1 p12v n_gnd LAMP_12V_5W" in deck
     assert "VSUPPLY p12v 0 DC 12" in deck
-    assert "MQ3 led_a gate 0 0 M_NTEST W=100u L=100u" in deck
-    assert ".model M_NTEST NMOS (LEVEL=1 VTO=2 KP=0.5 LAMBDA=0)" in deck
+    assert "XQ3 led_a gate 0 M_NTEST" in deck
+    assert ".subckt M_NTEST d g s params: VTO=2 KP=0.5 LAMBDA=0 N=1.5" in deck
 
 
 def test_vertical_pwl_edge_gets_increasing_times():

@@ -472,7 +472,7 @@ def test_tolerance_drift_matches_the_cards_temperature_law():
 
 
 def _mos_rds(tmp_path, t, vgs: float, id_a: float) -> float:
-    body = (f"M1 d g 0 0 {t.model.name}\nVG g 0 DC {vgs}\nID 0 d DC {id_a}\n{_card(t.model)}")
+    body = (f"X1 d g 0 {t.model.name}\nVG g 0 DC {vgs}\nID 0 d DC {id_a}\n{_card(t.model)}")
     return _run(tmp_path, body, "op", "v(d)")[0, -1] / id_a
 
 
@@ -485,7 +485,7 @@ def test_mosfet_card(tmp_path):
     assert _mos_rds(tmp_path, t, 10.0, 25.0) <= 0.022
     assert _mos_rds(tmp_path, t, 4.0, 21.0) <= 0.035
     # VGS(th) 1.0–2.0 V at VDS = VGS, ID = 250 µA (same table)
-    body = f"M1 g g 0 0 {t.model.name}\nIG 0 g DC 250e-6\n{_card(t.model)}"
+    body = f"X1 g g 0 {t.model.name}\nIG 0 g DC {t.vgs_th_at_a}\n{_card(t.model)}"
     vth = _run(tmp_path, body, "op", "v(g)")[0, -1]
     assert t.vgs_th_v[0] <= vth <= t.vgs_th_v[1]
 

@@ -111,6 +111,7 @@ class Transistor:
     model: Model                             # typical part, SPICE subset parameters
     sources: tuple[str, ...]
     rds_on_vgs_v: float | None = None        # gate drive at which rds_on_ohm holds
+    vgs_th_at_a: float | None = None         # drain current at which vgs_th_v is measured (VDS = VGS)
     pinout: str = ""                         # leads left to right, printed face towards you, leads down: "CBE"
 
     @property
@@ -559,7 +560,7 @@ def _list(data: Any, key: str, where: str) -> list:
 _TRANSISTOR_KEYS = (
     "part_number", "polarity", "darlington", "package", "vmax_v", "imax_a", "ipeak_a",
     "pd_free_air_w", "tj_max_c", "rth_ja_c_per_w", "rth_jc_c_per_w", "rth_cs_c_per_w",
-    "hfe", "vce_sat", "vgs_th_v", "rds_on_ohm", "rds_on_vgs_v", "vgs_max_v", "model",
+    "hfe", "vce_sat", "vgs_th_v", "vgs_th_at_a", "rds_on_ohm", "rds_on_vgs_v", "vgs_max_v", "model",
     "sources", "pinout",
 )
 _POLARITY_MODEL = {"npn": "NPN", "pnp": "PNP", "nmos": "NMOS"}
@@ -584,10 +585,10 @@ def _transistor(data: Any, where: str) -> Transistor:
         if not isinstance(th, list) or len(th) != 2:
             raise CatalogDataError(f"{where}.vgs_th_v: expected [min, max]")
         vgs_th = (_number(th[0], f"{where}.vgs_th_v"), _number(th[1], f"{where}.vgs_th_v"))
-        for key in ("rds_on_ohm", "rds_on_vgs_v", "vgs_max_v"):
+        for key in ("vgs_th_at_a", "rds_on_ohm", "rds_on_vgs_v", "vgs_max_v"):
             e.num(key)
     else:
-        for key in ("vgs_th_v", "rds_on_ohm", "rds_on_vgs_v", "vgs_max_v"):
+        for key in ("vgs_th_v", "vgs_th_at_a", "rds_on_ohm", "rds_on_vgs_v", "vgs_max_v"):
             if e.has(key):
                 raise CatalogDataError(f"{where}: a bipolar part has no {key}")
         for i, p in enumerate(_list(data, "hfe", where)):
@@ -614,6 +615,7 @@ def _transistor(data: Any, where: str) -> Transistor:
         hfe=tuple(hfe),
         vce_sat=tuple(sat),
         vgs_th_v=vgs_th,
+        vgs_th_at_a=e.num("vgs_th_at_a", optional=True),
         rds_on_ohm=e.num("rds_on_ohm", optional=True),
         vgs_max_v=e.num("vgs_max_v", optional=True),
         model=model,
