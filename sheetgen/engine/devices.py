@@ -165,7 +165,7 @@ def gummel_poon(cbe, gbe, cbc, gbc, vbc, leak, *, inv_bf, inv_br, inv_vaf, inv_i
 NMOS_N_DEFAULT = 1.5
 
 
-def mosfet(vgs, vds, *, vto, kp, lam, n):
+def mosfet(vgs, vds, *, vto, kp, lam, n, g_leak=GMIN):
     """Drain current of an NMOS with a subthreshold tail, and its two derivatives.
 
     The square law of Shichman and Hodges written in the symmetric, smooth form of the EKV
@@ -174,9 +174,10 @@ def mosfet(vgs, vds, *, vto, kp, lam, n):
     s(u) = 2 n Vt ln(1 + exp(u / 2 n Vt)).  Well above threshold s(u) = u and this is level 1
     exactly (linear region, and saturation once Vgd < VTO); below it the current falls as
     exp(u / n Vt), n Vt ln 10 per decade, so a fade starts from a tail, not a corner.  The
-    form is symmetric in drain and source, so a reversed Vds needs no special case.  GMIN
-    sits across drain and source (the deck writes it as a resistor), so a drain between an
-    off channel and unlit LEDs is never a floating node.  Returns ``(id, did_dvgs, did_dvds)``.
+    form is symmetric in drain and source, so a reversed Vds needs no special case.  The off
+    channel's leakage ``g_leak`` sits across drain and source (the deck writes it as a
+    resistor): a drain between an off channel and unlit LEDs is then a node the solver can
+    settle, where GMIN alone left it swinging.  Returns ``(id, did_dvgs, did_dvds)``.
     """
     w = 2.0 * n * VT_NOMINAL
     u_s, u_d = (vgs - vto) / w, (vgs - vds - vto) / w
@@ -184,9 +185,9 @@ def mosfet(vgs, vds, *, vto, kp, lam, n):
     g_s, g_d = 0.5 * (1.0 + np.tanh(0.5 * u_s)), 0.5 * (1.0 + np.tanh(0.5 * u_d))  # ds/du: the logistic
     clm = 1.0 + lam * np.abs(vds)
     core = 0.5 * kp * (s_s * s_s - s_d * s_d)
-    i_d = core * clm + GMIN * vds
+    i_d = core * clm + g_leak * vds
     did_dvgs = kp * (s_s * g_s - s_d * g_d) * clm
-    did_dvds = kp * s_d * g_d * clm + core * lam * np.sign(vds) + GMIN
+    did_dvds = kp * s_d * g_d * clm + core * lam * np.sign(vds) + g_leak
     return i_d, did_dvgs, did_dvds
 
 

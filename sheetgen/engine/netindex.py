@@ -14,7 +14,7 @@ from typing import Callable
 
 import numpy as np
 
-from sheetgen.engine.devices import NMOS_N_DEFAULT
+from sheetgen.engine.devices import GMIN, NMOS_N_DEFAULT
 from sheetgen.model.netlist import GROUND, Netlist, Overrides, Part
 
 
@@ -82,7 +82,7 @@ class NetIndex:
         self.caps = self._group(el.caps, ("c", "ic"), 2)
         self.diodes = self._group(el.diodes, ("is", "n", "rs", "bv", "ibv", "nbv"))
         self.bjts = self._group(el.bjts, ("sign", "is", "bf", "br", "nf", "nr", "vaf", "ikf", "ise", "ne"))
-        self.mos = self._group(el.mos, ("vto", "kp", "lam", "n"))
+        self.mos = self._group(el.mos, ("vto", "kp", "lam", "n", "gleak"))
         self.lamps = self._group(el.lamps, ("r0", "troom", "alpha", "k", "thot"))
 
     def _merge_chains(self, netlist: Netlist, fixed: list[str]):
@@ -244,7 +244,8 @@ def _nmos(ix: NetIndex, part: Part, el: _Elements) -> None:
     el.mos.append((part.ref, (d, g, s), {"vto": ix._model(part, "VTO", 0.0),
                                          "kp": ix._model(part, "KP", 2e-5),
                                          "lam": ix._model(part, "LAMBDA", 0.0),
-                                         "n": ix._model(part, "N", NMOS_N_DEFAULT)}))
+                                         "n": ix._model(part, "N", NMOS_N_DEFAULT),
+                                         "gleak": ix._model(part, "GLEAK", GMIN)}))
 
 
 def _lamp(ix: NetIndex, part: Part, el: _Elements) -> None:

@@ -268,7 +268,7 @@ def _stamp(c: Compiled, p: dict, x: np.ndarray, vj_old: np.ndarray, m0: np.ndarr
         dn, gn, sn = c.mos.nodes.T
         vgs = x[gn] - x[sn]
         vds = x[dn] - x[sn]
-        i_d, gm, gds = devices.mosfet(vgs, vds, vto=p["vto"], kp=p["kp"], lam=p["lam"], n=p["n"])
+        i_d, gm, gds = devices.mosfet(vgs, vds, vto=p["vto"], kp=p["kp"], lam=p["lam"], n=p["n"], g_leak=p["gleak"])
         blocks += [gds, gm, gm + gds, i_d - gm * vgs - gds * vds]
 
     if c.lamps.refs:
@@ -462,7 +462,7 @@ class Traces:
         p = {k: v[:, j:j + 1] for k, v in c.mos.params.items()}
         vv = self.voltages
         i_d, _, _ = devices.mosfet(vv[:, :, gn] - vv[:, :, sn], vv[:, :, dn] - vv[:, :, sn],
-                                   vto=p["vto"], kp=p["kp"], lam=p["lam"], n=p["n"])
+                                   vto=p["vto"], kp=p["kp"], lam=p["lam"], n=p["n"], g_leak=p["gleak"])
         return (vx["D"] - vx["S"]) * i_d
 
     def v(self, net: str) -> np.ndarray:

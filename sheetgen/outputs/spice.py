@@ -215,7 +215,7 @@ def _composite_ports(model: Model) -> list[str]:
 
 
 #: Parameters an NMOS card may give, with the values the simulator takes where it gives none.
-NMOS_PARAMS = {"VTO": 0.0, "KP": 2e-5, "LAMBDA": 0.0, "N": NMOS_N_DEFAULT, "RD": 0.0, "RS": 0.0}
+NMOS_PARAMS = {"VTO": 0.0, "KP": 2e-5, "LAMBDA": 0.0, "N": NMOS_N_DEFAULT, "GLEAK": GMIN, "RD": 0.0, "RS": 0.0}
 
 
 def _mosfet_subckt(name: str, model: Model, params: dict[str, float]) -> list[str]:
@@ -223,7 +223,8 @@ def _mosfet_subckt(name: str, model: Model, params: dict[str, float]) -> list[st
 
     ngspice's level 1 has no conduction below threshold, so the drain current is a
     behavioural source: the square law in its smooth, symmetric EKV form, with the
-    thermal voltage at 27 °C.  RD and RS sit in series on internal nodes, as in a card.
+    thermal voltage at 27 °C, and the off channel's leakage GLEAK as a resistor.  RD and RS
+    sit in series on internal nodes, as in a card.
     """
     unknown = set(params) - set(NMOS_PARAMS)
     if unknown:
@@ -231,13 +232,15 @@ def _mosfet_subckt(name: str, model: Model, params: dict[str, float]) -> list[st
     p = {**NMOS_PARAMS, **params}
     header = " ".join(f"{k}={_num(p[k])}" for k in ("VTO", "KP", "LAMBDA", "N"))
     w = f"(2*{{N}}*{_num(VT_NOMINAL)})"
-    s_s, s_d = (f"({w}*ln(1+exp((V(g,{x})-{{VTO}})/{w})))" for x in ("si", "di"))
+    # ln(1 + exp(u)) as max(u, 0) + ln(1 + exp(-|u|)): the same function, with no exp to overflow.
+    u = {x: f"((V(g,{x})-{{VTO}})/{w})" for x in ("si", "di")}
+    s_s, s_d = (f"({w}*(max({u[x]},0)+ln(1+exp(-abs({u[x]})))))" for x in ("si", "di"))
     lines = [f".subckt {name} d g s params: {header}",
              "* Id = KP/2 (s(Vgs-VTO)^2 - s(Vgd-VTO)^2)(1 + LAMBDA |Vds|), s(u) = 2 n Vt ln(1 + exp(u / 2 n Vt))"]
     for pin, inner, r in (("d", "di", p["RD"]), ("s", "si", p["RS"])):
         lines.append(f"R{inner} {pin} {inner} {_num(r)}" if r > 0 else f"V{inner} {pin} {inner} 0")
     lines += [f"Bid di si I={{KP}}/2*({s_s}*{s_s}-{s_d}*{s_d})*(1+{{LAMBDA}}*abs(V(di,si)))",
-              f"Rgmin di si {_num(1.0 / GMIN)}",
+              f"Rleak di si {_num(1.0 / p['GLEAK'])}",
               f".ends {name}"]
     return lines
 

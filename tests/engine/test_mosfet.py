@@ -84,7 +84,7 @@ def test_ngspice_runs_the_same_equation_from_the_deck(tmp_path, vds):
     i = np.zeros_like(vg)
     for _ in range(100):
         f, gm, gds = mosfet(vg - i * m["RS"], vds - i * (m["RD"] + m["RS"]), vto=m["VTO"], kp=m["KP"],
-                            lam=m["LAMBDA"], n=m["N"])
+                            lam=m["LAMBDA"], n=m["N"], g_leak=m["GLEAK"])
         i = i - (f - i) / (-gm * m["RS"] - gds * (m["RD"] + m["RS"]) - 1.0)
     keep = i_spice > 1e-9
     assert i_spice[keep] == pytest.approx(i[keep], rel=5e-3)
