@@ -14,7 +14,7 @@ from typing import Callable
 import numpy as np
 
 from sheetgen.engine import light as filament_light
-from sheetgen.model.netlist import Netlist, Overrides
+from sheetgen.model.netlist import Netlist, Overrides, Part
 
 
 def light(netlist: Netlist, v: Callable[[str], np.ndarray], overrides: Overrides | None = None) -> np.ndarray:
@@ -36,3 +36,16 @@ def led_currents(netlist: Netlist, v: Callable[[str], np.ndarray], overrides: Ov
     if not out:
         raise ValueError("an LED load without series resistors: no string current to read")
     return np.stack(out)
+
+
+def led_strings(netlist: Netlist) -> list[list[Part]]:
+    """The LEDs of each string, from its series resistor down, one list per ``led_series`` resistor."""
+    by_anode = {p.net("A"): p for p in netlist.parts if p.kind == "led"}
+    out = []
+    for r in netlist.by_role("led_series"):
+        chain, net = [], r.net("2")
+        while net in by_anode:
+            chain.append(by_anode[net])
+            net = chain[-1].net("K")
+        out.append(chain)
+    return out
