@@ -265,6 +265,19 @@ def kind_of(load: LedLoad | LampLoad) -> type[LedKind] | type[LampKind]:
     return LOAD_KINDS[load.kind]
 
 
+def led_strings(netlist: Netlist) -> list[list[Part]]:
+    """The LEDs of each string, from its series resistor down, one list per ``led_series`` resistor."""
+    by_anode = {p.net("A"): p for p in netlist.parts if p.kind == "led"}
+    out = []
+    for r in netlist.by_role("led_series"):
+        chain, net = [], r.net("2")
+        while net in by_anode:
+            chain.append(by_anode[net])
+            net = chain[-1].net("K")
+        out.append(chain)
+    return out
+
+
 def rated_current_a(load: LedLoad | LampLoad) -> float:
     """The load's own rated current, all branches together."""
     return kind_of(load).rated_current_a(load)

@@ -45,8 +45,8 @@ class BlockTable:
 
 
 #: Blocks of a build sheet (``blocks:`` in a sheet layout).
-SHEET_BLOCKS = BlockTable(("summary", "schematic", "parts", "timing", "heat", "bench", "tuning", "wiring",
-                           "cautions", "board"))
+SHEET_BLOCKS = BlockTable(("summary", "schematic", "parts", "timing", "heat", "bench", "faults", "tuning",
+                           "wiring", "cautions", "board"))
 
 #: Blocks of a wiring card (``front:`` and ``back:`` in a card layout).
 CARD_BLOCKS = BlockTable(("schematic", "parts", "harness", "steps", "readings", "cautions", "board"))

@@ -68,6 +68,12 @@ def abuse_entry(case) -> dict:
                           "unit": st.unit, "ok": st.ok} for st in case.stresses]}
 
 
+def fault_entry(case) -> dict:
+    """One simulated single fault: the part, how it fails, what the light does and every test point's reading."""
+    return {"ref": case.ref, "fault": case.fault, "symptom": case.symptom,
+            "readings": [{"point": r.point, "on_v": r.on_v, "off_v": r.off_v} for r in case.readings]}
+
+
 def install_entry(spec) -> dict:
     """Where the design goes, as applied: its profile's name, the ambient sized for and the wire minimum."""
     place = installs.install(spec.install)
@@ -138,6 +144,7 @@ def report_dict(report: Report) -> dict:
                     **{name: getattr(r, name) for name in TIMES}} for r in report.tuning],
         "standby_a": report.standby_a,
         "abuse": [abuse_entry(c) for c in report.abuse],
+        "faults": [fault_entry(c) for c in report.faults],
         "wiring": list(report.wiring),
         "cautions": list(report.cautions),
         "board": report.board.as_dict() if report.board is not None else None,

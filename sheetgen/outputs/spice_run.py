@@ -65,6 +65,19 @@ def _with_control(deck: str, vectors: list[str], out_name: str) -> str:
     return "\n".join(lines[:at] + control + lines[at:]) + "\n"
 
 
+def _ngspice(work: Path, deck: str, timeout_s: float) -> subprocess.CompletedProcess:
+    """``ngspice -b`` on ``deck``, written into the folder ``work``, which it runs in."""
+    exe = shutil.which(NGSPICE)
+    if exe is None:
+        raise RuntimeError("ngspice is not installed (not found on PATH)")
+    (work / "deck.cir").write_text(deck, encoding="utf-8")
+    try:
+        return subprocess.run([exe, "-b", "deck.cir"], cwd=work, stdin=subprocess.DEVNULL,
+                              capture_output=True, text=True, timeout=timeout_s)
+    except subprocess.TimeoutExpired as exc:
+        raise RuntimeError(f"ngspice did not finish within {timeout_s:g} s") from exc
+
+
 def run_transient(deck: str, *, vectors: list[str], timeout_s: float = 120.0) -> dict[str, np.ndarray]:
     """Run ``deck``'s transient in ``ngspice -b``; return time and the asked vectors.
 
@@ -83,24 +96,9 @@ def run_transient(deck: str, *, vectors: list[str], timeout_s: float = 120.0) ->
     if "time" in keys:
         raise ValueError("time is always returned; do not ask for it")
     controlled = _with_control(deck, keys, "vectors.txt")
-    exe = shutil.which(NGSPICE)
-    if exe is None:
-        raise RuntimeError("ngspice is not installed (not found on PATH)")
-
     with tempfile.TemporaryDirectory(prefix="sheetgen-ngspice-") as tmp:
         work = Path(tmp)
-        (work / "deck.cir").write_text(controlled, encoding="utf-8")
-        try:
-            proc = subprocess.run(
-                [exe, "-b", "deck.cir"],
-                cwd=work,
-                stdin=subprocess.DEVNULL,
-                capture_output=True,
-                text=True,
-                timeout=timeout_s,
-            )
-        except subprocess.TimeoutExpired as exc:
-            raise RuntimeError(f"ngspice did not finish within {timeout_s:g} s") from exc
+        proc = _ngspice(work, controlled, timeout_s)
         chatter = (proc.stdout or "") + "\n" + (proc.stderr or "")
         out = work / "vectors.txt"
         if proc.returncode != 0 or not out.exists() or out.stat().st_size == 0:
@@ -125,4 +123,39 @@ def run_transient(deck: str, *, vectors: list[str], timeout_s: float = 120.0) ->
     return result
 
 
-__all__ = ["NGSPICE", "ngspice_available", "run_transient"]
+def run_operating_point(deck: str, *, vectors: list[str], timeout_s: float = 60.0) -> dict[str, float]:
+    """Run ``deck``'s DC operating point (``op``) in ``ngspice -b``; return each asked vector's value.
+
+    The deck's own ``.tran`` and ``.print`` lines are dropped, so an exported
+    deck can be used as it stands; its sources are taken at their DC values
+    (a PWL source at its first point), so set the feed's level in the deck
+    first.  Raises RuntimeError, with the end of ngspice's output, when it fails.
+    """
+    keys = [v.strip().lower() for v in vectors]
+    if not keys or any(not v or re.search(r"\s", v) for v in keys):
+        raise ValueError(f"vectors must be single expressions without spaces: {keys}")
+    kept = [line for line in deck.rstrip("\n").splitlines()
+            if not line.strip().lower().startswith((".tran", ".print", ".ic"))]
+    if any(line.strip().lower().startswith(".control") for line in kept):
+        raise ValueError("deck already has a .control block; pass the deck as exported")
+    ends = [i for i, line in enumerate(kept) if line.strip().lower() == ".end"]
+    if not ends:
+        raise ValueError("deck has no .end line")
+    control = [".control", "set numdgt=10", "op", *(f"print {k}" for k in keys), "quit", ".endc"]
+    text = "\n".join(kept[:ends[-1]] + control + kept[ends[-1]:]) + "\n"
+    with tempfile.TemporaryDirectory(prefix="sheetgen-ngspice-") as tmp:
+        proc = _ngspice(Path(tmp), text, timeout_s)
+    chatter = (proc.stdout or "") + "\n" + (proc.stderr or "")
+    found = {}
+    for line in (proc.stdout or "").splitlines():
+        m = re.fullmatch(r"\s*(\S+)\s*=\s*([-+0-9.eE]+)\s*", line)
+        if m and m[1].lower() in keys:
+            found[m[1].lower()] = float(m[2])
+    missing = [k for k in keys if k not in found]
+    if proc.returncode != 0 or missing:
+        raise RuntimeError(f"ngspice gave no operating point for {missing} (exit {proc.returncode}); "
+                           f"its last words:\n{_tail(chatter)}")
+    return found
+
+
+__all__ = ["NGSPICE", "ngspice_available", "run_operating_point", "run_transient"]

@@ -13,7 +13,7 @@ from __future__ import annotations
 import numpy as np
 
 from sheetgen.engine import simulate
-from sheetgen.circuits.loads import kind_of
+from sheetgen.circuits.loads import kind_of, led_strings
 from sheetgen.model.netlist import Part
 from sheetgen.parts import catalog, protective
 from sheetgen.sizing import protection
@@ -131,24 +131,10 @@ def _part_stresses(design: Design, part: Part, states, *, short_time: bool = Fal
     return []
 
 
-def _strings(design: Design) -> list[list[Part]]:
-    """The LEDs of each string, from its series resistor down."""
-    nl = design.netlist
-    by_anode = {p.net("A"): p for p in nl.parts if p.kind == "led"}
-    out = []
-    for r in nl.by_role("led_series"):
-        chain, net = [], r.net("2")
-        while net in by_anode:
-            chain.append(by_anode[net])
-            net = chain[-1].net("K")
-        out.append(chain)
-    return out
-
-
 def _string_stresses(design: Design, states) -> list[Stress]:
     """Each LED's reverse voltage, the string's shared evenly among its LEDs."""
     out = []
-    for chain in _strings(design):
+    for chain in led_strings(design.netlist):
         if not chain:
             continue
         reverse = [(v(chain[-1].net("K")) - v(chain[0].net("A"))) / len(chain) for v in states]

@@ -16,6 +16,7 @@ from sheetgen.parts import catalog
 from sheetgen.parts import eseries
 from sheetgen.parts import installs
 from sheetgen.sizing import abuse
+from sheetgen.sizing import faults
 from sheetgen.sizing import feeds
 from sheetgen.sizing import inrush
 from sheetgen.sizing import instructions
@@ -81,7 +82,8 @@ def analyse(design: Design, *, draws: int = tolerance.DEFAULT_DRAWS, seed: int =
                   wiring=feeds.with_door_test(wiring, design, bench, short=False),
                   mounting=mount, abuse=abuse.abuse_cases(design),
                   cautions=instructions.cautions(design, heat),
-                  brief=brief, board=board, full_light=float(full[0]), led_current_a=led)
+                  brief=brief, board=board, full_light=float(full[0]), led_current_a=led,
+                  faults=faults.single_faults(design, bench, fuse_a=harness.fuse_a, meter_ohm=METER_INPUT_OHM))
 
 
 def _board(design: Design, heat: Heat):

@@ -34,7 +34,7 @@ from sheetgen.parts import installs as profiles
 from sheetgen.parts.catalog import Diode
 from sheetgen.parts.protective import protective
 
-__all__ = ["wanted", "system_of", "apply", "drop_v", "surge_v", "cutoff_trip_v", "jump_v", "without_cutoff", "CUTOFF_ROLES", "RAIL", "SUPPLY"]
+__all__ = ["wanted", "system_of", "apply", "drop_v", "surge_v", "cutoff_trip_v", "jump_v", "without_cutoff", "CUTOFF_ROLES", "GUARD_ROLES", "RAIL", "SUPPLY"]
 
 SUPPLY = "supply"  # where the always-on wire lands: the Schottky's anode once protected
 RAIL = "rail"  # the protected rail every other part hangs from
@@ -207,6 +207,8 @@ def apply(netlist: Netlist, spec: Spec) -> Netlist:
 
 
 CUTOFF_ROLES = ("cutoff", "cutoff_series", "cutoff_bias")
+#: Every part the supply guard adds, by role.
+GUARD_ROLES = ("reverse_polarity", "surge") + CUTOFF_ROLES
 
 
 def without_cutoff(netlist: Netlist) -> Netlist:

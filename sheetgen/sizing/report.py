@@ -186,6 +186,43 @@ class BenchReading:
 
 
 @dataclass(frozen=True)
+class FaultReading:
+    """A test point's meter reading with one fault in, nominal parts and supply, the meter plugged in there."""
+
+    point: str  # the bench table's label, "TP2 timing capacitor"
+    net: str
+    on_v: float
+    off_v: float
+    telling: bool  # outside the good board's bench window: this reading tells the fault from a good board
+
+
+@dataclass(frozen=True)
+class FaultCase:
+    """One part failed one way (``sizing.faults``): what the light does and what the test points read.
+
+    ``look`` is the group a sheet files the fault under: ``fuse``, ``never``,
+    ``stays``, ``string``, ``dim``, ``bright``, ``fade`` or ``none`` (no visible
+    change in the light).  ``light_on`` and ``light_off`` are the steady light
+    with the feed on and off, relative to a good board's with the feed on.
+    ``worked_on`` names the part the circuit was simulated with when this part
+    gives the same circuit (an LED of the same string), else "".
+    """
+
+    ref: str
+    fault: str  # "open" | "short" | "reversed" | "leads_swapped"
+    symptom: str
+    look: str
+    readings: tuple[FaultReading, ...]
+    light_on: float
+    light_off: float
+    worked_on: str = ""
+
+    @property
+    def telling(self) -> tuple[FaultReading, ...]:
+        return tuple(r for r in self.readings if r.telling)
+
+
+@dataclass(frozen=True)
 class TuningRow:
     """Fade times if one part is swapped for its neighbouring standard value."""
 
@@ -231,3 +268,4 @@ class Report:
     board: Board | None = None  # where every on-board part goes, proven against the netlist
     full_light: float = 1.0  # the steady light at nominal, in its load kind's light units: the deck's 1 V
     led_current_a: float | None = None  # each LED string's steady current at nominal supply
+    faults: tuple[FaultCase, ...] = ()  # every single fault: its symptom and the readings that tell it

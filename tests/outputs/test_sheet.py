@@ -123,6 +123,24 @@ def test_bench_readings_table(text, data):
         assert f"{row['point']} {on} {off}" in text
 
 
+def test_faults_block_prints_every_symptom_and_the_readings_that_tell_it(report, text):
+    assert "If it does not work" in text
+    rows, unseen = blocks._fault_rows(report)
+    assert rows and {c.ref for _, cases, _ in rows for c in cases} | {c.ref for c in unseen} == \
+        {c.ref for c in report.faults}
+    faults_text = text.split("If it does not work", 1)[1]
+    for symptom, cases, telling in rows:
+        assert " ".join((symptom[:1].upper() + symptom[1:] + ".").split()) in faults_text, symptom
+        if cases[0].look != "fuse":
+            for r in telling:
+                reading = f"{r.point.split()[0]} {blocks._volts(r.on_v)} / {blocks._volts(r.off_v)}"
+                assert " ".join(reading.split()) in faults_text, reading
+    if unseen:
+        closing = faults_text.split("check these by eye", 1)[1]
+        for case in unseen:
+            assert re.search(rf"\b{case.ref}\b", _expand_ranges(closing)), case.ref
+
+
 def test_wiring_steps_numbered_and_harness_stated(text, data):
     for k, step in enumerate(data["wiring"], start=1):
         assert f"{k}. {' '.join(step.split())}" in text

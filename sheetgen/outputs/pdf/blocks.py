@@ -24,7 +24,7 @@ from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 
 from sheetgen.engine.measure import DEFINITIONS, FULL_MEANS
 from sheetgen.sizing.size import delay_limits
-from sheetgen.sizing import mounting, runs
+from sheetgen.sizing import mounting, protection, runs
 from sheetgen.sizing.analyse import WIRES
 from sheetgen.sizing.report import Report
 from sheetgen.circuits.loads import kind_of
@@ -788,6 +788,113 @@ def _abuse_items(report: Report) -> list[Flowable]:
               "highest charging voltage, a jump start and a load dump as the alternator's own suppression leaves "
               "it (ISO 16750-2). An unsuppressed load dump (up to about 100 V) is beyond these parts.", s.small)
     return [_Sized(lambda aw: _table(rows, _fractions(aw, (1.1, 1.45, 1.45)))), note]
+
+
+#: How the faults table words each way a part fails, in its "likely cause" column.
+FAULT_WORDS = {"reversed": "in backwards", "leads_swapped": "with collector and emitter swapped",
+               "open": "open (left out or not soldered)", "short": "shorted (a solder bridge)"}
+#: The order a builder meets the symptoms in, worst first.
+LOOKS = ("fuse", "never", "stays", "string", "dim", "bright", "fade", "none")
+
+
+def _fault_rows(report: Report) -> tuple[list[tuple[str, list, tuple]], list]:
+    """The faults table's rows, ``(symptom, faults, telling readings)``, and the faults nothing shows.
+
+    Faults with the same symptom and the same telling readings share a row (the
+    test points cannot tell them apart); rows keep the symptoms' order and, within
+    one, the likeliest fault first (``sizing.faults.FAULTS``).
+    """
+    from sheetgen.sizing.faults import FAULTS, READ_MARGIN, READ_MARGIN_V
+
+    def same(a, b) -> bool:
+        ta, tb = a.telling, b.telling
+        return ([r.point for r in ta] == [r.point for r in tb]
+                and all(abs(x - y) <= READ_MARGIN * max(abs(x), abs(y)) + READ_MARGIN_V
+                        for ra, rb in zip(ta, tb) for x, y in ((ra.on_v, rb.on_v), (ra.off_v, rb.off_v))))
+
+    rows: list[tuple[str, list, tuple]] = []
+    unseen = []
+    order = {name: k for k, name in enumerate(FAULTS)}
+    cases = sorted(report.faults, key=lambda c: (LOOKS.index(c.look), order[c.fault]))
+    for case in cases:
+        if case.look == "none" and not case.telling:
+            unseen.append(case)
+            continue
+        for symptom, faults, _ in rows:
+            if symptom == case.symptom and same(faults[0], case):
+                faults.append(case)
+                break
+        else:
+            rows.append((case.symptom, [case], case.telling))
+    first = {}
+    for k, (symptom, _, _) in enumerate(rows):
+        first.setdefault(symptom, k)
+    rows.sort(key=lambda row: first[row[0]])  # rows of one symptom together, in the order they came
+    return rows, unseen
+
+
+def _either(refs: list[str]) -> str:
+    """``R3 or R7``, ``R4 or any of LED1–LED3``: parts each of which alone gives the row's symptom."""
+    runs: list[list[str]] = []
+    for ref in refs:
+        prefix = ref.rstrip("0123456789")
+        if runs and runs[-1][0].rstrip("0123456789") == prefix:
+            runs[-1].append(ref)
+        else:
+            runs.append([ref])
+    words = []
+    for run in runs:
+        text = refs_text(run)
+        words += [f"any of {text}"] if EN_DASH in text else text.split(", ")
+    return words[0] if len(words) == 1 else ", ".join(words[:-1]) + " or " + words[-1]
+
+
+def _causes(faults) -> str:
+    """``R4 or any of LED1–LED3 open (...); any of LED1–LED3 in backwards``: the faults of one row."""
+    nl_order: dict[str, list[str]] = {}
+    for f in faults:
+        refs = nl_order.setdefault(f.fault, [])
+        if f.ref not in refs:
+            refs.append(f.ref)
+    return "; ".join(f"{_either(refs)} {FAULT_WORDS[fault]}" for fault, refs in nl_order.items())
+
+
+def _volts(v: float) -> str:
+    return f"{0.0 if abs(v) < 0.005 else v:.2f} V"
+
+
+@SHEET_BLOCKS.register("faults")
+def faults_block(report: Report, frame: Frame) -> Block:
+    """What each single fault does to the light and which test-point reading gives it away (``sizing.faults``)."""
+    s = styles()
+    rows_data, unseen = _fault_rows(report)
+    head = [_p(x, s.cell_bold) for x in ("What you see", "Likely cause", "Reading that tells it: feed on / off")]
+    rows = [head]
+    last = None
+    for symptom, faults, telling in rows_data:
+        said = _sentence(symptom) if symptom != last else ""
+        last = symptom
+        if faults[0].look == "fuse":  # a blown fuse leaves nothing to read: the part is found by eye
+            reads = "nothing: the fuse goes first; find the part before fitting a new one"
+        else:
+            reads = ("; ".join(f"<b>{escape(r.point.split(' ', 1)[0])}</b> {_volts(r.on_v)} / {_volts(r.off_v)}"
+                               for r in telling)
+                     or "every test point as on a good board")
+        rows.append([_pm(said, s.cell), _p(_causes(faults), s.cell), _pm(reads, s.cell)])
+    sup = format_quantity(report.design.spec.supply.nominal_v, "V")
+    intro = _p(f"Worked out with one part wrong at a time, at {sup} with nominal parts. Measure as for the bench "
+               "readings; a test point named here reads outside its bench range with that fault, the others do "
+               "not. Causes are listed likeliest first: a part in backwards, then a lead not soldered, then a "
+               "solder bridge.", s.small)
+    items = [intro, _Sized(lambda aw: _table(rows, _fractions(aw, (1.25, 1.6, 1.35))))]
+    if unseen:
+        nl = report.design.netlist
+        guards = [c.ref for c in unseen if nl.part(c.ref).role in protection.GUARD_ROLES]
+        guard = (f" {refs_text(list(dict.fromkeys(guards)))} guard the supply: their faults show only when the "
+                 "supply misbehaves." if guards else "")
+        items.append(_p("No change in the light or at any test point, so check these by eye: "
+                        + _causes(unseen) + "." + guard, s.small))
+    return Block("If it does not work", items)
 
 
 @SHEET_BLOCKS.register("tuning")
