@@ -47,6 +47,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from sheetgen.engine import simulate
+from sheetgen.errors import SimulationError
 from sheetgen.engine.measure import LOW, TIMES, light_times
 from sheetgen.inputs.units import format_quantity
 from sheetgen.model.netlist import GROUND, Netlist, Part
@@ -190,6 +191,13 @@ def _harness(nl: Netlist, meters: list[str], *,
             faults += [_Fault(ref, "open", opened), _Fault(ref, "short", ((f"{ref}~ds", R_SHORT_OHM),))]
         else:
             raise ValueError(f"{ref}: no single faults are defined for a {p.kind}")
+    # A string's series resistor open leaves the string as dead as its first LED open, and at every
+    # test point the two read the same; the LED's open lead is tied, so the string's nets do not float
+    # (a floating chain of LEDs is what Newton's method converges on slowest, or not at all).
+    first_led = {r.ref: chain[0].ref for r, chain in zip(nl.by_role("led_series"), led_strings(nl)) if chain}
+    opened = {f.ref: f.switches for f in faults if f.fault == "open"}
+    faults = [replace(f, switches=opened[first_led[f.ref]])
+              if f.fault == "open" and first_led.get(f.ref) in opened else f for f in faults]
     for k, net in enumerate(meters):
         resistor(f"METER~{k}", net, GROUND, R_UNPLUGGED_OHM)
     return replace(nl, parts=tuple(parts), title=f"{nl.title} (fault harness)"), faults, good
@@ -226,10 +234,8 @@ def single_faults(design: Design, bench: tuple[BenchReading, ...], *, fuse_a: fl
     per = len(points) + 1
     ov = _overrides(good, [(f"METER~{k}", meter_ohm) for k in range(len(points))], rows, per)
     n = len(rows) * per
-    alone = _overrides(good, None, [None], 1)
-    on, off = (simulate.operating_point(harness, at_s=at, overrides=ov, n=n,
-                                        start=simulate.operating_point(harness, at_s=at, overrides=alone, n=1))
-               for at in (nl.release_s * 0.999, nl.stop_s))
+    (on, lost_on), (off, lost_off) = (_solved(harness, at, ov, per) for at in (nl.release_s * 0.999, nl.stop_s))
+    lost = lost_on | lost_off
     bare = slice(0, n, per)  # each row's member without a meter: its light and its supply current
     kind = kind_of(design.spec.load)
     chains = led_strings(nl)  # empty for a load without series resistors
@@ -241,6 +247,8 @@ def single_faults(design: Design, bench: tuple[BenchReading, ...], *, fuse_a: fl
                           None if strings is None else (strings[0][:, k], strings[1][:, k], strings[0][:, 0]),
                           chains, rows[k])
              for k in range(len(rows))]
+    for k in lost:
+        looks[k] = ("unknown", "not worked out: the simulation of this fault did not settle")
     steady_ok = [k for k in range(1, len(rows)) if looks[k] is None]
     times = _fade_times(kind, nl, [rows[k] for k in steady_ok], lit_on[[0, *steady_ok]])
 
@@ -248,11 +256,14 @@ def single_faults(design: Design, bench: tuple[BenchReading, ...], *, fuse_a: fl
     out: list[FaultCase] = []
     for k, f in enumerate(faults, start=1):
         readings = []
-        for j, (label, net) in enumerate(points):
+        for j, (label, net) in enumerate(points if k not in lost else ()):
             v_on, v_off = float(on.v(net)[k * per + j + 1]), float(off.v(net)[k * per + j + 1])
             readings.append(FaultReading(point=label, net=net, on_v=v_on, off_v=v_off,
                                          telling=_tells(windows.get(net), v_on, v_off)))
-        look, symptom = looks[k] or _fade_symptom(times[(f.ref, f.fault)], times[None], nl.stop_s - nl.release_s)
+        fades = times.get((f.ref, f.fault))
+        look, symptom = looks[k] or (_fade_symptom(fades, times[None], nl.stop_s - nl.release_s) if fades else
+                                     ("unknown", "steady light right; its fades not worked out: the simulation "
+                                                 "did not settle"))
         for ref in (f.ref, *f.stands_for):
             out.append(FaultCase(ref=ref, fault=f.fault, symptom=symptom, look=look, readings=tuple(readings),
                                  light_on=float(rel_on[k]), light_off=float(rel_off[k]),
@@ -260,6 +271,37 @@ def single_faults(design: Design, bench: tuple[BenchReading, ...], *, fuse_a: fl
     position = {p.ref: k for k, p in enumerate(nl.parts)}
     order = {name: k for k, name in enumerate(FAULTS)}
     return tuple(sorted(out, key=lambda c: (position[c.ref], order[c.fault])))
+
+
+def _solved(harness: Netlist, at_s: float, ov: dict, per: int) -> tuple[simulate.OperatingPoint, set[int]]:
+    """The batch's operating point at ``at_s``, from the good board's, and the rows that did not settle.
+
+    The batch is solved at once; should any member fail every fallback, each
+    row is solved on its own and a row that still fails is left as NaN and
+    named, so one stubborn fault cannot take the rest of the sheet with it.
+    The good board (row 0) failing is a failure of the design and raises.
+    """
+    n = len(next(iter(ov.values())))
+    alone = {key: np.asarray(v)[:1] for key, v in ov.items()}
+    start = simulate.operating_point(harness, at_s=at_s, overrides=alone, n=1)
+    try:
+        return simulate.operating_point(harness, at_s=at_s, overrides=ov, n=n, start=start), set()
+    except SimulationError:
+        pass
+    pieces, lost = [], set()
+    for k in range(n // per):
+        sub = {key: np.asarray(v)[k * per:(k + 1) * per] for key, v in ov.items()}
+        try:
+            pieces.append(simulate.operating_point(harness, at_s=at_s, overrides=sub, n=per, start=start))
+        except SimulationError:
+            if k == 0:
+                raise
+            pieces.append(None)
+            lost.add(k)
+    good = pieces[0]
+    blank = (np.full_like(good.voltages, np.nan), np.full_like(good.source_currents, np.nan))
+    return replace(good, voltages=np.concatenate([p.voltages if p else blank[0] for p in pieces]),
+                   source_currents=np.concatenate([p.source_currents if p else blank[1] for p in pieces])), lost
 
 
 def _light(kind, harness: Netlist, op, ov, bare: slice, rows: list[_Fault | None], chains: list[list[Part]]):
@@ -346,7 +388,16 @@ def _fade_times(kind, nl: Netlist, faults: list[_Fault], full: np.ndarray) -> di
     by_name = {(f.ref, f.fault): f for f in own}
     rows = [None, *(by_name[(f.ref, f.fault)] for f in faults)]
     ov = _overrides(good, None, rows, 1)
-    tr = simulate.transient(harness, overrides=ov, n=len(rows))
+    try:
+        tr = simulate.transient(harness, overrides=ov, n=len(rows))
+    except SimulationError:  # one stubborn fault: each on its own beside the good board, and drop what fails
+        out: dict = {}
+        for j, f in enumerate(rows[1:], start=1):
+            try:
+                out.update(_fade_times(kind, nl, [f], full[[0, j]]))
+            except SimulationError:
+                continue
+        return out
     t = light_times(tr.t_s, kind.light(harness, tr.v, ov), release_s=nl.release_s, full=full)
     return {(f.ref, f.fault) if f else None: {name: float(getattr(t, name)[j]) for name in TIMES}
             for j, f in enumerate(rows)}

@@ -201,8 +201,8 @@ class FaultCase:
     """One part failed one way (``sizing.faults``): what the light does and what the test points read.
 
     ``look`` is the group a sheet files the fault under: ``fuse``, ``never``,
-    ``stays``, ``string``, ``dim``, ``bright``, ``fade`` or ``none`` (no visible
-    change in the light).  ``light_on`` and ``light_off`` are the steady light
+    ``stays``, ``string``, ``dim``, ``bright``, ``fade``, ``none`` (no visible
+    change in the light) or ``unknown`` (its simulation did not settle).  ``light_on`` and ``light_off`` are the steady light
     with the feed on and off, relative to a good board's with the feed on.
     ``worked_on`` names the part the circuit was simulated with when this part
     gives the same circuit (an LED of the same string), else "".

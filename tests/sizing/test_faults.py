@@ -184,3 +184,29 @@ def test_json_faults_follow_the_contract(camper_report):
     for part in camper_report.design.netlist.parts:
         for fault in can[part.kind]:
             assert (part.ref, fault) in listed, (part.ref, fault)
+
+
+def test_a_fault_whose_simulation_does_not_settle_is_named_and_the_rest_are_worked_out(camper_report, monkeypatch):
+    """One stubborn fault must not cost the sheet every other fault, nor end the build (exit 1)."""
+    import numpy as np
+
+    from sheetgen.errors import SimulationError
+
+    real = faults_mod.simulate.operating_point
+
+    def stubborn(netlist, **kw):
+        r3 = (kw.get("overrides") or {}).get(("R3", "value"))
+        if r3 is not None and np.any(np.asarray(r3) == faults_mod.R_OPEN_OHM):
+            raise SimulationError("R3 open does not settle")
+        return real(netlist, **kw)
+
+    monkeypatch.setattr(faults_mod.simulate, "operating_point", stubborn)
+    d = camper_report.design
+    cases = {(c.ref, c.fault): c for c in faults_mod.single_faults(d, camper_report.bench, fuse_a=1.0,
+                                                                     meter_ohm=METER_INPUT_OHM)}
+    assert cases[("R3", "open")].look == "unknown" and cases[("R3", "open")].readings == ()
+    before = {(c.ref, c.fault): c for c in camper_report.faults}
+    assert cases[("C1", "open")].symptom == before[("C1", "open")].symptom
+    for key, case in cases.items():
+        if key != ("R3", "open"):
+            assert case.symptom == before[key].symptom, key

@@ -794,7 +794,7 @@ def _abuse_items(report: Report) -> list[Flowable]:
 FAULT_WORDS = {"reversed": "in backwards", "leads_swapped": "with collector and emitter swapped",
                "open": "open (left out or not soldered)", "short": "shorted (a solder bridge)"}
 #: The order a builder meets the symptoms in, worst first.
-LOOKS = ("fuse", "never", "stays", "string", "dim", "bright", "fade", "none")
+LOOKS = ("fuse", "never", "stays", "string", "dim", "bright", "fade", "none", "unknown")
 
 
 def _fault_rows(report: Report) -> tuple[list[tuple[str, list, tuple]], list]:
@@ -876,6 +876,8 @@ def faults_block(report: Report, frame: Frame) -> Block:
         last = symptom
         if faults[0].look == "fuse":  # a blown fuse leaves nothing to read: the part is found by eye
             reads = "nothing: the fuse goes first; find the part before fitting a new one"
+        elif faults[0].look == "unknown":
+            reads = "not worked out"
         else:
             reads = ("; ".join(f"<b>{escape(r.point.split(' ', 1)[0])}</b> {_volts(r.on_v)} / {_volts(r.off_v)}"
                                for r in telling)
