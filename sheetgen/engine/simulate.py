@@ -765,8 +765,8 @@ def _dc_from(c: Compiled, at_s: float, start: OperatingPoint):
         x[i] = known.get(name, 0.0)
     x[c.n_state:c.n_state + c.n_fixed] = c.fixed_values(at_s).T
     vj = _junction_voltages(c, c.batch, x)
-    # Members that converge stop iterating, so a long budget costs only the few that need it.
-    return _newton(c, x[:c.n_state], c.fixed_values(at_s).T, _with_gmin(c, devices.GMIN), vj, max_iter=200)
+    # Half again the cold start's budget: a member this start does not suit goes on to the fallbacks.
+    return _newton(c, x[:c.n_state], c.fixed_values(at_s).T, _with_gmin(c, devices.GMIN), vj, max_iter=60)
 
 
 def _dc_source_stepping(c: Compiled, at_s: float):

@@ -29,15 +29,24 @@ Figures and what they stand for:
 * an LED has no breakdown in its card, so one fitted backwards blocks its
   string; the LEDs of one string are alike and in series, so a fault in any of
   them gives the same readings at every test point, and the string's first LED
-  stands for all of them;
+  stands for all of them; a shorted LED gives no light of its own;
+* a string's series resistor open leaves its string as dead as the first LED
+  open, and is worked out so: the LED's open lead is tied, the string's nets do
+  not float (a floating chain of LEDs is what Newton's method is slowest on);
 * a bipolar transistor with collector and emitter exchanged is the same card
-  with those pins exchanged: it works as a transistor of low gain (its reverse
-  gain BR), which is what such a part does;
+  with those pins exchanged: it works in its inverse mode, a transistor of low
+  gain BR (the Ebers-Moll model; from memory); a Darlington's own collector-emitter
+  diode then conducts, as in the part;
 * a MOSFET's drain and source exchanged would put its body diode across the
   switch; the card has no body diode, so that fault is not offered.
 
-Speed: one harness compile per state and batches of (faults + 1) x (test points
-+ 1) members; the transient runs only on the faults whose steady light is right.
+The readings are for nominal parts at nominal supply (one figure each, not a
+window); a reading *tells* a fault when it lies outside the bench window by more
+than a meter's doubt.  Speed: both batches start from the good board's solution
+(``simulate.operating_point(start=...)``), and the one transient runs only on
+the faults whose steady light is right, on a harness with switches on those
+parts alone.  A fault that does not settle in the simulator is named as such,
+never left to stop the build.
 """
 
 from __future__ import annotations

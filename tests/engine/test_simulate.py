@@ -61,3 +61,19 @@ def test_diode_forward_drop_follows_shockley():
     vt = 1.380649e-23 * 300.15 / 1.602176634e-19
     i = op.i_source("VSUPPLY")[0]
     assert op.v("a")[0] == pytest.approx(vt * np.log(i / 1e-14 + 1), abs=2e-4)
+
+
+def test_a_warm_start_changes_where_newton_starts_not_the_answer():
+    # The same diode as above (Shockley's law), fed through a range of resistors: a batch started
+    # from one member's solution lands where each member solved from nothing does.
+    d = Model("DX", "D", (("IS", 1e-14), ("N", 1.0)))
+    parts = (Part("R1", "resistor", (("1", "s"), ("2", "a")), "x", value=11.3e3),
+             Part("D1", "diode", (("A", "a"), ("K", "0")), "x", model=d))
+    nl = Netlist(title="d", parts=parts, sources=(Source("VSUPPLY", "s", "0", 12.0),), release_s=1, stop_s=2)
+    ov = {("R1", "value"): np.array([100.0, 1e3, 11.3e3, 1e6, 1e9])}
+    start = simulate.operating_point(nl, at_s=0.5)
+    warm = simulate.operating_point(nl, at_s=0.5, overrides=ov, n=5, start=start)
+    cold = simulate.operating_point(nl, at_s=0.5, overrides=ov, n=5)
+    assert np.allclose(warm.v("a"), cold.v("a"), rtol=1e-5, atol=1e-6)  # within Newton's own tolerance
+    vt = 1.380649e-23 * 300.15 / 1.602176634e-19
+    assert warm.v("a") == pytest.approx(vt * np.log(warm.i_source("VSUPPLY") / 1e-14 + 1), abs=2e-4)

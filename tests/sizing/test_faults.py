@@ -105,8 +105,9 @@ def _injected(nl):
     # A later LED of the first string, so the string's first LED standing for the rest is checked too.
     later = chain[1].ref if len(chain) > 1 and chain[1].net("A") == first_string.net("K") else first_string.ref
     switch = nl.by_role("switch")[0].ref
+    series = nl.by_role("led_series")[0].ref  # worked out as its string's first LED open: checked here
     return [("C1", "open"), ("C1", "short"), ("C1", "reversed"), (base, "open"), (later, "reversed"),
-            (first_string.ref, "open"), (switch, "leads_swapped"), (switch, "short")]
+            (first_string.ref, "open"), (series, "open"), (switch, "leads_swapped"), (switch, "short")]
 
 
 def _close(ours: float, theirs: float) -> bool:
