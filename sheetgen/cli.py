@@ -72,9 +72,13 @@ def _sheet(spec, *, layout, out: str, draws: int | None = None) -> int:
     sheet_date()  # a malformed SOURCE_DATE_EPOCH is bad input: say so before the slow part
     report = report_for(spec, draws=draws)
     if isinstance(layout, CardLayout):
-        from sheetgen.outputs.pdf.cards import render_cards, single_design_cards
+        from sheetgen.outputs.pdf.cards import fit_card, render_cards, single_design_cards
 
-        path = atomic_write(out, render_cards(single_design_cards(report, layout), layout, title=spec.title))
+        fitted = fit_card(report, layout)
+        path = atomic_write(out, render_cards(single_design_cards(report, fitted), layout, title=spec.title,
+                                              fits={id(report): fitted}))
+        if fitted.note:
+            print(f"note: {fitted.note}", file=sys.stderr)
     else:
         path = build_sheet(report, layout, out)
     print(path)

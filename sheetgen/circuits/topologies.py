@@ -139,6 +139,13 @@ class Pen(Protocol):
     def net_label(self, text: str, toward: Direction) -> None:
         """A flag saying where the cursor's net joins the rest of the drawing (an on-board link, not a terminal)."""
 
+    def apart(self, draw: Callable[[], None]) -> None:
+        """A piece of the circuit joined to the rest by ``net_label`` flags only, drawn by ``draw`` from the cursor.
+
+        The cursor is where the recipe would put it; a pen short of width may
+        draw it wherever it finds room instead, since only its flags join it.
+        """
+
 
 @dataclass(frozen=True)
 class Stage:
@@ -511,7 +518,7 @@ def _draw_timer_and_switch(pen: Pen, netlist: Netlist, *, row: str) -> None:
     pen.ground()
     if netlist.by_role("cutoff"):
         pen.pin(q1, common_pin)
-        _draw_cutoff(pen, netlist)
+        pen.apart(lambda: _draw_cutoff(pen, netlist))
 
 
 def _rail(netlist: Netlist) -> str:
@@ -540,8 +547,7 @@ def _draw_supply_guard(pen: Pen, netlist: Netlist, *, row: str) -> None:
 def _draw_cutoff(pen: Pen, netlist: Netlist) -> None:
     """The over-voltage cut-off beside Q1 (the cursor on Q1's grounded pin), joined by flags to the rail and Q1's drive.
 
-    Beside Q1, where no label sits; a card without room for it draws the
-    circuit without the cut-off and names it in its parts list.
+    Beside Q1, where no label sits; a card's narrower drawing puts it wherever it finds room.
     """
     tp = {net: label for label, net in netlist.probes}
     q = _one(netlist, "cutoff")

@@ -19,9 +19,10 @@ repository's folder directly.
 
 from __future__ import annotations
 
+import math
 import os
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from importlib import resources
 from pathlib import Path
 
@@ -69,7 +70,7 @@ FULL = "full"
 NAME_MAX_CHARS = 60  # the title block prints it on one line
 DEFAULT_LAYOUT = "a4-sheet"
 DEFAULT_CARD_LAYOUT = "a6-card"
-CARD_RANGE_MM = (60.0, 200.0)  # smaller holds nothing readable; larger is a sheet, not a card
+CARD_RANGE_MM = (60.0, 280.0)  # up to one card filling an A4 or letter page; the least a card needs is worked out below
 CARD_GAP_RANGE_MM = (6.0, 30.0)  # the cut marks of two neighbours sit in the gap without touching
 MARGIN_RANGE_MM = (5.0, 40.0)  # below 5 mm most printers clip; above 40 mm nothing fits
 GUTTER_RANGE_MM = (0.0, 25.0)
@@ -80,7 +81,8 @@ COLUMN_MIN_MM = 40.0
 _MM_PER = {"mm": 1.0, "cm": 10.0, "in": 25.4, "pt": 25.4 / 72.0}
 _LENGTH_RE = re.compile(r"^\s*(?P<num>\d+(?:\.\d*)?|\.\d+)\s*(?P<unit>mm|cm|in|pt)\s*$")
 _TOP_KEYS = ("name", "page", "margins", "columns", "gutter", "blocks")
-_CARD_TOP_KEYS = ("name", "page", "card", "margins", "gap", "front", "back", "balance")
+_CARD_TOP_KEYS = ("name", "page", "card", "margins", "gap", "front", "back", "balance", "larger")
+_LARGER_KEYS = ("card", "margins", "gap")
 _CARD_SIZE_KEYS = ("width", "height")
 _SIDES = ("top", "right", "bottom", "left")
 _BLOCK_KEYS = ("block", "column", "new_page")
@@ -155,6 +157,7 @@ class CardLayout:
     front: tuple[str, ...]  # CARD_BLOCK_NAMES, top to bottom
     back: tuple[str, ...]
     balance: bool = True  # the block at the fold may cross sides when that sets larger type
+    larger: CardLayout | None = None  # the same blocks on a larger card, for a design too full for this one
 
     @property
     def card_pt(self) -> tuple[float, float]:
@@ -187,6 +190,34 @@ class CardLayout:
 
 
 _PT_PER_MM = 72.0 / 25.4
+
+# ------------------------------------------------- what a card must hold at 6 pt
+# A card's type never sets below 6 pt (common practice for printed instructions, no source), so a card
+# must at least hold, at that size, what every card prints whatever its design: its footer line, set
+# whole, and on the side that carries them its header, footer and the cautions.  The card renderer
+# (outputs/pdf/cards.py) sets its sides inside these figures; tests/outputs/test_cards.py measures the
+# two text figures again with the renderer and the catalog's words, so they cannot drift.
+
+#: Inner safe area on every edge of a card: survives a cut a little off the mark and a back printed askew.
+CARD_PAD_MM = 4.0
+#: A front's header (builder label and event, the name's band, the design title, a rule), in points.
+CARD_FRONT_HEAD_PT = 8.0 + 23.0 + 16.0
+#: A back's header (kit letter and design title, a rule) and either side's footer line, in points.
+CARD_BACK_HEAD_PT = 18.0
+CARD_FOOT_PT = 8.5
+#: The footer (the low-voltage scope line) set whole at 6 pt: 212.5 pt of DejaVu Sans = 75.0 mm.
+CARD_FOOTER_LINE_MM = 75.0
+#: The narrowest card: its footer line at 6 pt between the pads.
+CARD_MIN_WIDTH_MM = CARD_FOOTER_LINE_MM + 2 * CARD_PAD_MM
+#: The longest cautions a card can carry (the fuse, a heatsink and its heat, a vehicle's two, no
+#: over-voltage cut-off: six), set at the card's smallest type (6.7 pt) on the narrowest card:
+#: 118.3 pt = 41.75 mm, title bar and frame included.
+CARD_CAUTIONS_MM = 42.0
+
+
+def card_side_min_mm(head_pt: float) -> float:
+    """The least height of a card whose side with this header carries the cautions."""
+    return CARD_CAUTIONS_MM + 2 * CARD_PAD_MM + (head_pt + CARD_FOOT_PT) / _PT_PER_MM
 
 
 def _fit(length_pt: float, card_pt: float, margin_pt: float, gap_pt: float) -> int:
@@ -454,7 +485,7 @@ def _card_layout(root: MappingNode, source: str, problems: Problems) -> CardLayo
             problems.add(root, needed, "is missing")
     name = _name(top["name"][1], problems) if "name" in top else None
     page = _paper(top["page"][1], problems) if "page" in top else None
-    card = _card_size(top["card"][1], problems)
+    card = _card_size(top["card"][1], problems) if "card" in top else None
     margins = 10.0
     if "margins" in top:
         got = _length_mm(top["margins"][1], "margins", *MARGIN_RANGE_MM, problems)
@@ -470,6 +501,12 @@ def _card_layout(root: MappingNode, source: str, problems: Problems) -> CardLayo
     if (front or back) and "cautions" not in where:
         problems.add(top.get("front", (root, root))[1], "front",
                      "the cautions block must be on the front or the back: every card carries them")
+    if "card" in top and card is not None:
+        side = "front" if "cautions" in front else "back"
+        _check_card_room(top["card"][1], "card", card, side, problems)
+    larger = None
+    if "larger" in top:
+        larger = _larger(top["larger"][1], card, margins, gap, problems)
     problems.raise_if_any()
     layout = CardLayout(name=name, source=source, page_size=page, card_mm=card, margins_mm=margins, gap_mm=gap,
                         front=front, back=back, balance=balance)
@@ -477,29 +514,85 @@ def _card_layout(root: MappingNode, source: str, problems: Problems) -> CardLayo
         (w, h), line = card, top["card"][0].start_mark.line + 1
         raise SpecError(f"{source}:{line}: card: {w:g} × {h:g} mm does not fit on {page} paper with {margins:g} mm "
                         "margins; make the card or the margins smaller")
+    if larger is not None:
+        big_card, big_margins, big_gap = larger
+        big = replace(layout, card_mm=big_card, margins_mm=big_margins, gap_mm=big_gap)
+        if big.per_sheet == 0:
+            line = top["larger"][0].start_mark.line + 1
+            raise SpecError(f"{source}:{line}: larger: {big_card[0]:g} × {big_card[1]:g} mm does not fit on {page} "
+                            f"paper with {big_margins:g} mm margins; make the larger card or its margins smaller")
+        layout = replace(layout, larger=big)
     return layout
 
 
-def _card_size(node: Node, problems: Problems) -> tuple[float, float]:
-    """A named card size or {width, height}; a fallback size when it is wrong (the problem is noted)."""
-    fallback = CARD_SIZES_MM["A6"]
+def _check_card_room(node: Node, key: str, card: tuple[float, float], side: str, problems: Problems) -> None:
+    """A card must hold its footer line and, on the side that carries them, the cautions, all at 6 pt."""
+    w, h = card
+    where = node
+    keys = {"width": key, "height": key}
     if isinstance(node, MappingNode):
-        sides = mapping(node, "card", _CARD_SIZE_KEYS, problems)
+        fields = {k.value: (k, v) for k, v in node.value if isinstance(k, ScalarNode)}
+        keys = {k: f"{key}.{k}" for k in keys}
+        where = {k: fields[k][1] for k in ("width", "height") if k in fields}
+    spot = (lambda k: where[k]) if isinstance(where, dict) else (lambda k: where)
+    if w < CARD_MIN_WIDTH_MM - 1e-9:
+        problems.add(spot("width"), keys["width"],
+                     f"{w:g} mm is too narrow: a card sets its footer line whole at 6 pt, which needs a card at "
+                     f"least {CARD_MIN_WIDTH_MM:g} mm wide")
+    need = card_side_min_mm(CARD_FRONT_HEAD_PT if side == "front" else CARD_BACK_HEAD_PT)
+    if h < need - 1e-9:
+        problems.add(spot("height"), keys["height"],
+                     f"{h:g} mm is too short: the cautions at 6 pt with the {side}'s header and footer need a card "
+                     f"at least {math.ceil(need):g} mm tall")
+
+
+def _larger(node: Node, card: tuple[float, float] | None, margins: float, gap: float,
+            problems: Problems) -> tuple[tuple[float, float], float, float] | None:
+    """``larger:``: the card a design moves to when its own card cannot set it at 6 pt with every step."""
+    if not isinstance(node, MappingNode):
+        problems.add(node, "larger", "should be {card: .., margins: .., gap: ..}: the card a design too full for "
+                                     "this one is set on")
+        return None
+    fields = mapping(node, "larger", _LARGER_KEYS, problems)
+    if "card" not in fields:
+        problems.add(node, "larger.card", "is missing")
+        return None
+    size_node = fields["card"][1]
+    size = _card_size(size_node, problems, key="larger.card")
+    if "margins" in fields:
+        got = _length_mm(fields["margins"][1], "larger.margins", *MARGIN_RANGE_MM, problems)
+        margins = got if got is not None else margins
+    if "gap" in fields:
+        got = _length_mm(fields["gap"][1], "larger.gap", *CARD_GAP_RANGE_MM, problems)
+        gap = got if got is not None else gap
+    if size is None:
+        return None
+    if card is not None and (size[0] < card[0] or size[1] < card[1] or size == card):
+        problems.add(size_node, "larger.card", f"{size[0]:g} × {size[1]:g} mm is not larger than the card "
+                                               f"({card[0]:g} × {card[1]:g} mm) in both directions")
+        return None
+    return size, margins, gap
+
+
+def _card_size(node: Node, problems: Problems, *, key: str = "card") -> tuple[float, float] | None:
+    """A named card size or {width, height}; None when it is wrong (the problem is noted)."""
+    if isinstance(node, MappingNode):
+        sides = mapping(node, key, _CARD_SIZE_KEYS, problems)
         got = []
-        for key in _CARD_SIZE_KEYS:
-            if key not in sides:
-                problems.add(node, f"card.{key}", "is missing")
+        for side in _CARD_SIZE_KEYS:
+            if side not in sides:
+                problems.add(node, f"{key}.{side}", "is missing")
                 got.append(None)
             else:
-                got.append(_length_mm(sides[key][1], f"card.{key}", *CARD_RANGE_MM, problems))
-        return (got[0], got[1]) if None not in got else fallback
-    text = _scalar(node, "card", problems)
+                got.append(_length_mm(sides[side][1], f"{key}.{side}", *CARD_RANGE_MM, problems))
+        return (got[0], got[1]) if None not in got else None
+    text = _scalar(node, key, problems)
     if text is None:
-        return fallback
+        return None
     if text not in CARD_SIZES_MM:
-        problems.add(node, "card", f"{excerpt(text)} is not a card size{_suggest(text, CARD_SIZES_MM)}; known: "
-                                   f"{', '.join(CARD_SIZES_MM)}, or {{width: 100 mm, height: 140 mm}}")
-        return fallback
+        problems.add(node, key, f"{excerpt(text)} is not a card size{_suggest(text, CARD_SIZES_MM)}; known: "
+                                f"{', '.join(CARD_SIZES_MM)}, or {{width: 100 mm, height: 140 mm}}")
+        return None
     return CARD_SIZES_MM[text]
 
 

@@ -85,7 +85,7 @@ def make_pack(event: Event, *, sheet_layout, card_layout, output: str | os.PathL
     """Size, render and write the pack of a checked ``event``: the three paths written and a summary line."""
     from sheetgen.outputs.parallel import render_all
     from sheetgen.outputs.pdf.booklet import render_booklet
-    from sheetgen.outputs.pdf.cards import Card, render_cards
+    from sheetgen.outputs.pdf.cards import Card, fit_card, render_cards
     from sheetgen.outputs.pdf.sheet import sheet_date
     from sheetgen.outputs.write import atomic_write_files, check_folder
     from sheetgen.pack.kit import kit_csv, kit_list
@@ -109,17 +109,27 @@ def make_pack(event: Event, *, sheet_layout, card_layout, output: str | os.PathL
                  for c in plan.cards]
         designs = list(plan.designs)
         bar.set_description_str("cards and booklet")
-        sheets = sum(-(-d.kits // card_layout.per_sheet) for d in designs)
+        fits = {}
+        for d in designs:  # which card each design is set on: the layout's own or its larger one
+            try:
+                fits[id(d.report)] = fit_card(d.report, card_layout)
+            except SpecError as exc:
+                build = d.builds[0]
+                raise SpecError(f"{build.where} ({build.spec_label}): kit {d.letter}: {exc}") from None
+        sheets = sum(-(-d.kits // fits[id(d.report)].layout.per_sheet) for d in designs)
+        moved = [(d.letter, fits[id(d.report)].layout) for d in designs if fits[id(d.report)].moved_from is not None]
         try:
             cards_pdf, booklet = render_all(
-                [lambda: render_cards(cards, card_layout, title=event.title, on_design=lambda _d: bar.update()),
-                 lambda: render_booklet(event, designs, kit, sheet_layout, card_layout, card_sheets=sheets)],
+                [lambda: render_cards(cards, card_layout, title=event.title, on_design=lambda _d: bar.update(),
+                                      fits=fits),
+                 lambda: render_booklet(event, designs, kit, sheet_layout, card_layout, card_sheets=sheets,
+                                        larger=moved)],
                 jobs=jobs or batch.default_jobs(2))
         except Exception as exc:
             if not _laying_out(exc):
                 raise
             who = (_find_the_design(plan, lambda d: render_cards([c for c in cards if c.design == d.letter],
-                                                                 card_layout, title=event.title))
+                                                                 card_layout, title=event.title, fits=fits))
                    or _find_the_design(plan, lambda d: render_booklet(event, [d], kit, sheet_layout, card_layout,
                                                                       card_sheets=1)))
             raise SpecError(f"{who}{card_layout.source} / {sheet_layout.source}: these layouts cannot set the "

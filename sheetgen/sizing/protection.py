@@ -34,7 +34,7 @@ from sheetgen.parts import installs as profiles
 from sheetgen.parts.catalog import Diode
 from sheetgen.parts.protective import protective
 
-__all__ = ["wanted", "system_of", "apply", "drop_v", "surge_v", "cutoff_trip_v", "jump_v", "without_cutoff", "CUTOFF_ROLES", "GUARD_ROLES", "RAIL", "SUPPLY"]
+__all__ = ["wanted", "system_of", "apply", "drop_v", "surge_v", "cutoff_trip_v", "jump_v", "CUTOFF_ROLES", "GUARD_ROLES", "RAIL", "SUPPLY"]
 
 SUPPLY = "supply"  # where the always-on wire lands: the Schottky's anode once protected
 RAIL = "rail"  # the protected rail every other part hangs from
@@ -209,8 +209,3 @@ def apply(netlist: Netlist, spec: Spec) -> Netlist:
 CUTOFF_ROLES = ("cutoff", "cutoff_series", "cutoff_bias")
 #: Every part the supply guard adds, by role.
 GUARD_ROLES = ("reverse_polarity", "surge") + CUTOFF_ROLES
-
-
-def without_cutoff(netlist: Netlist) -> Netlist:
-    """The netlist less its over-voltage cut-off: for a drawing with no room for it (a card names it instead)."""
-    return replace(netlist, parts=tuple(p for p in netlist.parts if p.role not in CUTOFF_ROLES))

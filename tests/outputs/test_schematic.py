@@ -225,3 +225,48 @@ def test_the_pen_speaks_the_whole_protocol_and_refuses_a_wrong_net():
     ground = _netlist(LOADS["1 LED"], TOPOLOGIES["npn-ground"])
     with pytest.raises(ValueError, match="Q2: base is on 'q2_base'"):
         pen.pnp(ground.part("Q2"))
+
+
+def _guarded(load: dict, topology):
+    """The netlist as a 12 V vehicle build has it: the supply guard, the TVS and the over-voltage cut-off."""
+    from sheetgen.sizing import protection
+
+    if load.get("per_string", 1) > 3:  # at 11 V no more than three white LEDs fit one string
+        load = {**load, "per_string": 3}
+    netlist = _netlist(load, topology, supply="12 V")
+    spec = spec_from_mapping({"title": "test", "supply": "12 V", "load": load, "install": "vehicle",
+                              "fade": {"in": "1 s", "out": "3 s"}}, source="<test>")
+    return protection.apply(netlist, spec)
+
+
+@pytest.mark.parametrize("topology,load", CASES)
+def test_the_cards_narrower_drawing_names_everything_and_moves_the_cut_off_clear(topology, load):
+    from sheetgen.outputs.pdf.schematic import _element_box, _union
+
+    topo = TOPOLOGIES[topology]
+    netlist = _guarded(LOADS[load], topo)
+    assert netlist.by_role("cutoff")  # a 12 V vehicle supply has room for the cut-off
+    full, narrow = _layout(netlist, topo), _layout(netlist, topo, compact=True)
+    assert narrow.collisions == [] and set(narrow.named) >= {p.ref for p in netlist.parts}
+    for i, a in enumerate(narrow.boxes):
+        for b in narrow.boxes[i + 1:]:
+            assert not a.overlaps(b), (a.text, b.text)
+    # Narrower than the sheet's drawing, which puts the cut-off beside Q1.
+    width = lambda pen: _union([_element_box(e) for e in pen.drawing.elements] + pen.boxes)
+    assert width(narrow).x1 - width(narrow).x0 < width(full).x1 - width(full).x0
+    # The piece moved apart meets no symbol or wire of the rest; only its own flags join it.
+    (first, last), = narrow.pieces
+    elements = narrow.drawing.elements
+    piece = _union([_element_box(e) for e in elements[first:last]])
+    labels = {id(e) for e in elements if type(e).__name__ == "Element"}  # the label holders finish() adds
+    for e in elements[:first] + elements[last:]:
+        if id(e) not in labels:
+            assert not piece.overlaps(_element_box(e)), type(e).__name__
+    assert _layout(netlist, topo).pieces == []  # the sheet's drawing leaves it where the recipe put it
+
+
+def test_the_narrower_drawing_sets_terminal_words_on_short_lines():
+    netlist = _netlist(LOADS["1 LED"])
+    text = _pdf_text(schematic_drawing(netlist, NPN, max_width_pt=900, max_height_pt=900, compact=True))
+    lines = {line.strip() for line in text.splitlines()}
+    assert {"+24 V", "always-on", "(via fuse)", "switched", "feed", "ground"} <= lines

@@ -98,13 +98,23 @@ def _esc(text: str) -> str:
     return escape(text)
 
 
-def _howto_block(cards: CardLayout, card_sheets: int) -> Block:
+def _howto_block(cards: CardLayout, card_sheets: int, larger: Sequence[tuple[str, CardLayout]] = ()) -> Block:
     s = styles()
     w, h = cards.card_mm
     two_sided = bool(cards.back)
+    moved = ""
+    if larger:
+        letters = [letter for letter, _ in larger]
+        named = letters[0] if len(letters) == 1 else f"{', '.join(letters[:-1])} and {letters[-1]}"
+        sizes = sorted({(round(c.card_mm[0], 1), round(c.card_mm[1], 1), c.per_sheet) for _, c in larger})
+        on = " or ".join(f"{bw:g} \u00d7 {bh:g} mm cards, {n} to a sheet" for bw, bh, n in sizes)
+        moved = (f" Design{'s' if len(letters) > 1 else ''} {named} {'are' if len(letters) > 1 else 'is'} set on "
+                 f"{on}: {'their cards hold' if len(letters) > 1 else 'its card holds'} too much for "
+                 f"{w:g} \u00d7 {h:g} mm with every step at 6 pt; {'their' if len(letters) > 1 else 'its'} "
+                 "sheets say so.")
     lines = [
         f"<b>cards.pdf</b>: one card per builder, {cards.per_sheet} to a sheet of {cards.page_size} "
-        f"({w:g} \u00d7 {h:g} mm cards), {card_sheets} sheet{'s' if card_sheets != 1 else ''}. "
+        f"({w:g} \u00d7 {h:g} mm cards), {card_sheets} sheet{'s' if card_sheets != 1 else ''}.{moved} "
         + ("Print both sides; either flip edge works, because every sheet holds one design and no back "
            "carries a name. " if two_sided else "")
         + "Cut at the marks at the corners.",
@@ -145,7 +155,8 @@ def _kit_block(event: Event, kit: Sequence[KitLine], *, page_height_pt: float) -
 
 
 def render_booklet(event: Event, designs: Sequence[PackDesign], kit: Sequence[KitLine], layout: Layout,
-                   cards: CardLayout, *, card_sheets: int, environ=None) -> bytes:
+                   cards: CardLayout, *, card_sheets: int, larger: Sequence[tuple[str, CardLayout]] = (),
+                   environ=None) -> bytes:
     """The booklet as PDF bytes: cover, builds, how to print, kit list, then every design's sheet."""
     env = os.environ if environ is None else environ
     cs = _cover_styles()
@@ -159,7 +170,7 @@ def render_booklet(event: Event, designs: Sequence[PackDesign], kit: Sequence[Ki
                               "holds the builds, the kit list and then each design's full build sheet; the cards "
                               "are for the bench.", cs["lead"]),
               Spacer(1, 10),
-              _builds_block(event, designs), _howto_block(cards, card_sheets),
+              _builds_block(event, designs), _howto_block(cards, card_sheets, larger),
               _kit_block(event, kit, page_height_pt=frame_box(layout)[3])]
     info = SheetInfo(title=event.title,
                      subtitle=f"Build-night pack \u00b7 {event.builder_count} builders \u00b7 {n_designs} designs",

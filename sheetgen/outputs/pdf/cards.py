@@ -22,11 +22,15 @@ as plain text, never parsed as markup.
 
 Type is set as large as the side allows: the sizes step down from a 9 pt body
 to a 7 pt floor until every block fits (the schematic keeps at least two thirds of its
-natural size), and up to two blocks at the fold may cross to the other side when
-that sets the more crowded side larger.  A schematic whose labels would print under
-6 pt gives way: blocks move to the other side, or several parallel strings are
-drawn as one and a note naming the others.  A design too large even then keeps as many
-steps as fit and says where the rest are; nothing is ever clipped.
+natural size, so its labels print at 6 pt or more), and up to two blocks at the fold
+may cross to the other side when that sets the more crowded side larger.  Nothing on
+a card prints below 6 pt.  Where the sheet's drawing is too wide, the card's narrower
+one is tried: terminal words on short lines, one of several parallel strings drawn
+and a note naming the others, a piece joined only by flags (the over-voltage cut-off)
+moved into free room.  A design whose card still cannot hold every step at that size
+moves to the layout's larger card (``larger:``), and its sheet of cards says so; without
+one it keeps as many steps as fit and says where the rest are.  Nothing is ever
+clipped or shrunk below 6 pt: a card that cannot be set is refused, naming the layout.
 """
 
 from __future__ import annotations
@@ -44,27 +48,30 @@ from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 
 from sheetgen import __version__
-from sheetgen.sizing import protection, runs
+from sheetgen.sizing import runs
+from sheetgen.sizing.protection import GUARD_ROLES
 from sheetgen.sizing.report import Report
 
 from sheetgen.outputs.wording import keep_units, refs_text, volts_range
 from sheetgen.outputs.pdf.blocks import Heading, paragraph_style, part_bands, part_groups, part_rating, part_value
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import CARD_BLOCKS
-from sheetgen.inputs.layout import CardLayout, Slot
-from sheetgen.circuits.loads import kind_of
+from sheetgen.errors import SpecError
+from sheetgen.inputs.layout import (CARD_BACK_HEAD_PT, CARD_FOOT_PT, CARD_FRONT_HEAD_PT, CARD_PAD_MM, CardLayout,
+                                    Slot)
 from sheetgen.outputs.pdf.sheet import FOOTER_TEXT, design_digest
 
-__all__ = ["Card", "render_cards", "card_sides", "cut_marks", "CARD_PAD_MM", "MARK_OFFSET_MM", "MARK_LENGTH_MM"]
+__all__ = ["Card", "Fitted", "render_cards", "fit_card", "card_sides", "cut_marks", "CARD_PAD_MM", "MARK_OFFSET_MM",
+           "MARK_LENGTH_MM", "MIN_TEXT_PT"]
 
 PT_PER_MM = 72.0 / 25.4
-CARD_PAD_MM = 4.0  # inner safe area: survives a cut a little off the mark and a back printed a little askew
+MIN_TEXT_PT = 6.0  # nothing on a card prints smaller (common practice for printed instructions, no source)
 MARK_OFFSET_MM = 1.5  # a mark starts this far beyond the corner, so a slightly wide cut leaves none on the card
 MARK_LENGTH_MM = 4.0
 MARK_LINE_PT = 0.5
 SCALES = (1.0, 0.96, 0.92, 0.88, 0.85, 0.82, 0.8, 0.78)  # type sizes tried, largest first: 9 pt body down to 7 pt
-SCHEMATIC_MIN_SCALE = 6.0 / 9.0  # labels of 9 pt at natural size stay at 6 pt or more
-SCHEMATIC_MAX_SHARE = 0.62  # of a side's height, so the parts list keeps its room
+SCHEMATIC_MIN_SCALE = MIN_TEXT_PT / 9.0  # labels of 9 pt at natural size stay at 6 pt or more
+SCHEMATIC_MAX_SHARE = 0.62  # of a side's height, so the parts list keeps its room (more only to reach 6 pt)
 BLACK = colors.black
 WHITE = colors.white
 EN_DASH = "\u2013"
@@ -261,10 +268,6 @@ def _natural_schematic(report: Report, *, compact: bool = False) -> Flowable:
     return schematic_drawing(d.netlist, d.topology, max_width_pt=1e5, max_height_pt=1e5, compact=compact)
 
 
-#: Roles of the supply protection (sizing/protection.py), listed on one card line.
-GUARD_ROLES = ("reverse_polarity", "surge", "cutoff", "cutoff_series", "cutoff_bias")
-
-
 def _card_value(part) -> str:
     """What the tray is labelled with: a value or a part number; an LED by its colour, a lamp by its rating."""
     if part.kind == "led":
@@ -327,10 +330,8 @@ def _parts(report: Report, frame: _Frame) -> Flowable:
         texts.append((refs_text([q.ref for q in parts]), str(len(parts)), _card_value(p) or EN_DASH, _card_rating(p),
                       _identify(p) or EN_DASH))
     if guard:
-        left_out = getattr(frame.art, "left_out", ())
-        note = f" ({', '.join(left_out)}: the cut-off, drawn on the build sheet)" if left_out else ""
         texts.append((refs_text([q.ref for q in guard]), str(len(guard)), "supply guard", EN_DASH,
-                      ", ".join(f"{q.ref} {_card_value(q)}" for q in guard) + note))
+                      ", ".join(f"{q.ref} {_card_value(q)}" for q in guard)))
     bold_columns = (0, 2)
     rows = [[_p(t, st.cell_bold) for t in texts[0]]]
     rows += [[_p(t, st.cell_bold if k in bold_columns else st.cell) for k, t in enumerate(row)] for row in texts[1:]]
@@ -465,7 +466,7 @@ def _try_side(report: Report, blocks: tuple[str, ...], scale: float, keep: int |
         rest = _measure(_build_side(report, others, st, width=width, schematic_h=1.0, keep_steps=keep, art=art),
                         width, st.gap_pt * 2)
         room = height - rest - (st.gap_pt * 2 if others else 0.0)
-        schematic_h = min(full, room, SCHEMATIC_MAX_SHARE * height)
+        schematic_h = min(full, room, max(SCHEMATIC_MAX_SHARE * height, art.height * SCHEMATIC_MIN_SCALE))
         if schematic_h < art.height * SCHEMATIC_MIN_SCALE or width < art.width * SCHEMATIC_MIN_SCALE:
             return None  # its labels would print under 6 pt
     items = _build_side(report, blocks, st, width=width, schematic_h=schematic_h, keep_steps=keep, art=art)
@@ -516,12 +517,14 @@ def _fit_side(report: Report, blocks: Sequence[str], *, width: float, height: fl
                  steps_cut=steps > 1, shrink=shrink, legible=shrink == 1.0 and not wide)
 
 
-def card_sides(report: Report, layout: CardLayout) -> dict[str, _Side]:
-    """Both sides of this design's card, fitted to the layout.
+def _best_sides(report: Report, layout: CardLayout) -> tuple[tuple, dict[str, _Side]]:
+    """Both sides of this design's card on this layout's card, and their rank.
 
     With ``balance`` on, up to two blocks at the fold (the front's last, the
     back's first) may cross to the other side, order kept, when that lets the more
-    crowded side set larger type; on a tie the layout's own split stands.
+    crowded side set larger type; on a tie the layout's own split stands.  The
+    sheet's drawing and the card's narrower one are both tried; on a tie the
+    sheet's stands.
     """
     if "board" in layout.front + layout.back and report.brief.board_steps:
         report = replace(report, brief=replace(report.brief, steps=report.brief.board_steps))
@@ -531,27 +534,61 @@ def card_sides(report: Report, layout: CardLayout) -> dict[str, _Side]:
     front_h = h - 2 * pad - _FRONT_HEAD_PT - _FOOT_PT
     back_h = h - 2 * pad - _BACK_HEAD_PT - _FOOT_PT
     if "schematic" not in layout.front + layout.back:
-        return _sides(report, layout, None, inner_w=inner_w, front_h=front_h, back_h=back_h)[1]
+        return _sides(report, layout, None, inner_w=inner_w, front_h=front_h, back_h=back_h)
     best = _sides(report, layout, _natural_schematic(report), inner_w=inner_w, front_h=front_h, back_h=back_h)
-    load = report.design.spec.load
-    branches = kind_of(load).branches(load)
-    if branches > 1 and best[0] < ((True, 1.0, True, SCALES[0]),) * 2:
-        # Every string drawn side by side leaves the card short of room: draw one and name the rest.
-        compact = _sides(report, layout, _natural_schematic(report, compact=True), inner_w=inner_w,
-                         front_h=front_h, back_h=back_h)
-        if compact[0] > best[0]:
-            best = compact
-    cutoff = [p.ref for p in report.design.netlist.parts if p.role in protection.CUTOFF_ROLES]
-    if cutoff and not all(side.legible for side in best[1].values()):
-        # Still no room for 6 pt labels: leave the over-voltage cut-off off the card's drawing; the parts
-        # line names it and the build sheet draws it.
-        bare = replace(report, design=replace(report.design, netlist=protection.without_cutoff(report.design.netlist)))
-        art = _natural_schematic(bare, compact=branches > 1)
-        art.__dict__["left_out"] = tuple(cutoff)  # a reportlab Drawing refuses unknown attributes by setattr
-        lean = _sides(report, layout, art, inner_w=inner_w, front_h=front_h, back_h=back_h)
-        if lean[0] > best[0]:
-            best = lean
-    return best[1]
+    if best[0] < ((True, 1.0, True, SCALES[0]),) * 2:
+        narrow = _sides(report, layout, _natural_schematic(report, compact=True), inner_w=inner_w,
+                        front_h=front_h, back_h=back_h)
+        if narrow[0] > best[0]:
+            best = narrow
+    return best
+
+
+def card_sides(report: Report, layout: CardLayout) -> dict[str, _Side]:
+    """Both sides of this design's card, fitted to the layout's own card (never its larger one)."""
+    return _best_sides(report, layout)[1]
+
+
+def _complete(rank: tuple) -> bool:
+    """Every side legible at 6 pt or more, unshrunk, with every step."""
+    return all(side[0] and side[1] == 1.0 and side[2] for side in rank)
+
+
+@dataclass(frozen=True)
+class Fitted:
+    """A design's card as it is printed: the card layout it is set on and its two sides."""
+
+    layout: CardLayout  # the layout's own card, or its larger card
+    sides: dict[str, _Side]
+    moved_from: CardLayout | None = None  # the layout whose card was too small, when on its larger card
+
+    @property
+    def note(self) -> str:
+        """The line a sheet of these cards carries when they are on the larger card."""
+        if self.moved_from is None:
+            return ""
+        (w, h), (sw, sh) = (tuple(round(x, 1) for x in c.card_mm) for c in (self.layout, self.moved_from))
+        return (f"set on {w:g} \u00d7 {h:g} mm cards: this design does not fit {sw:g} \u00d7 {sh:g} mm "
+                f"with every step at {MIN_TEXT_PT:g} pt")
+
+
+def fit_card(report: Report, layout: CardLayout) -> Fitted:
+    """The card a design is printed on: the layout's own, or its larger card when the own one cannot set
+    every step at 6 pt or more.  A card that no layout card can set at 6 pt is refused (SpecError)."""
+    rank, sides = _best_sides(report, layout)
+    fitted = Fitted(layout=layout, sides=sides)
+    if not _complete(rank) and layout.larger is not None:
+        big_rank, big_sides = _best_sides(report, layout.larger)
+        if big_rank >= rank:
+            rank, fitted = big_rank, Fitted(layout=layout.larger, sides=big_sides, moved_from=layout)
+    if not all(side[0] and side[1] == 1.0 for side in rank):
+        w, h = (round(x, 1) for x in fitted.layout.card_mm)
+        key, what = (("larger", "make the larger card bigger") if fitted.moved_from is not None
+                     else ("card", "give the layout a larger card (`larger:`, as layouts/a6-card.yaml does)"))
+        raise SpecError(f"{layout.source}: {key}: {w:g} \u00d7 {h:g} mm cannot set the card of "
+                        f"{report.design.spec.title!r} with its text at {MIN_TEXT_PT:g} pt or more; {what}, "
+                        "or choose another card layout")
+    return fitted
 
 
 def _sides(report: Report, layout: CardLayout, art: Flowable | None, *, inner_w: float, front_h: float,
@@ -574,10 +611,10 @@ def _sides(report: Report, layout: CardLayout, art: Flowable | None, *, inner_w:
 
 
 # ------------------------------------------------------------ card drawing
-_NAME_PT = 23.0  # the name's band: one line of 15 pt or two of up to 9.5 pt
-_FRONT_HEAD_PT = 8.0 + _NAME_PT + 16.0  # label and event, name, design title, rule
-_BACK_HEAD_PT = 18.0
-_FOOT_PT = 8.5
+_NAME_PT = 23.0  # the name's band: one line of 15 pt, two of up to 9.5 pt or three of 6 pt
+_FRONT_HEAD_PT = CARD_FRONT_HEAD_PT  # label and event, name, design title, rule
+_BACK_HEAD_PT = CARD_BACK_HEAD_PT
+_FOOT_PT = CARD_FOOT_PT
 _LETTER_BOX_PT = 30.0
 
 
@@ -616,31 +653,43 @@ def _fit_lines(text: str, font: str, largest: float, smallest: float, width: flo
         size = max(size - 0.5, smallest)
 
 
-def _letter_box(c, x: float, y_top: float, letter: str, size_pt: float) -> None:
+def _letter_size(letter: str, size_pt: float) -> tuple[float, float]:
+    """The kit letter's type size (never under 6 pt) and the box's width, widened when the letters need it."""
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
+    font_size = max(size_pt * (0.62 if len(letter) == 1 else 0.42), MIN_TEXT_PT)
+    return font_size, max(size_pt, stringWidth(letter, BOLD, font_size) + 4.0)
+
+
+def _letter_box(c, x: float, y_top: float, letter: str, size_pt: float) -> float:
+    """A black box with the kit letter in white, ``size_pt`` tall; returns its width."""
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    font_size, width = _letter_size(letter, size_pt)
     c.setFillColor(BLACK)
-    c.rect(x, y_top - size_pt, size_pt, size_pt, stroke=0, fill=1)
+    c.rect(x, y_top - size_pt, width, size_pt, stroke=0, fill=1)
     c.setFillColor(WHITE)
-    font_size = size_pt * (0.62 if len(letter) == 1 else 0.42)
     c.setFont(BOLD, font_size)
-    c.drawString(x + (size_pt - stringWidth(letter, BOLD, font_size)) / 2, y_top - size_pt * 0.5 - font_size * 0.36,
+    c.drawString(x + (width - stringWidth(letter, BOLD, font_size)) / 2, y_top - size_pt * 0.5 - font_size * 0.36,
                  letter)
     c.setFillColor(BLACK)
+    return width
 
 
 def _front_header(c, card: Card, *, x: float, y_top: float, width: float) -> None:
     """Builder, design title and event at the top of a front, drawn on the page as plain text.
 
     The name gets the most room: one line from 15 pt down to 10 pt, else two
-    lines down to 5 pt, breaking a word only when it is wider than the card.
+    lines down to 6 pt, else three of 6 pt, breaking a word only when it is wider
+    than the card; a name longer still ends in an ellipsis.
     """
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
     d = card.report.design
-    text_w = width - (_LETTER_BOX_PT + 6 if card.design else 0)
+    box_w = _letter_size(card.design, _LETTER_BOX_PT)[1] if card.design else 0.0
+    text_w = width - (box_w + 6 if card.design else 0)
     if card.design:
-        _letter_box(c, x + width - _LETTER_BOX_PT, y_top, card.design, _LETTER_BOX_PT)
+        _letter_box(c, x + width - box_w, y_top, card.design, _LETTER_BOX_PT)
     c.setFillColor(BLACK)
     c.setFont(REGULAR, 6.5)
     c.drawString(x, y_top - 5.5, card.place.upper() if card.place else "BUILDER")  # "BUILDER 3 OF 7"
@@ -648,7 +697,9 @@ def _front_header(c, card: Card, *, x: float, y_top: float, width: float) -> Non
     if card.name is not None:
         lines, size = _fit_lines(card.name, BOLD, 15.0, 10.0, text_w, 1)
         if len(lines) > 1:
-            lines, size = _fit_lines(card.name, BOLD, 9.5, 5.0, text_w, 2)
+            lines, size = _fit_lines(card.name, BOLD, 9.5, MIN_TEXT_PT, text_w, 2)
+        if len(lines) > 3:
+            lines = lines[:2] + [_one_line(" ".join(lines[2:]), BOLD, size, size, text_w)[0]]
         c.setFont(BOLD, size)
         if len(lines) == 1:
             c.drawString(x, name_top - _NAME_PT / 2 - size * 0.36, lines[0])
@@ -707,8 +758,7 @@ def _back_header(c, report: Report, design: str, *, x: float, y_top: float, widt
     box = 14.0
     text_x = x
     if design:
-        _letter_box(c, x, y_top, design, box)
-        text_x = x + box + 5.0
+        text_x = x + _letter_box(c, x, y_top, design, box) + 5.0
     title, size = _one_line(report.design.spec.title, BOLD, 9.0, 7.0, x + width - text_x)
     c.setFillColor(BLACK)
     c.setFont(BOLD, size)
@@ -781,11 +831,12 @@ def _mirrors(slot: Slot, layout: CardLayout) -> tuple[tuple[int, int], tuple[int
 PRINTABLE_EDGE_MM = 4.0  # most printers leave this much of the paper's edge blank
 
 
-def _sheet_note(c, layout: CardLayout, text: str) -> None:
+def _sheet_note(c, layout: CardLayout, title: str, text: str) -> None:
     """One line above the cards (or below them), clear of the cut marks and the printer's blank edge.
 
-    On paper with no room for it outside the marks the note is left out; the
-    cards say what they are without it.
+    ``title`` leads the line; it is shortened (with an ellipsis) before the line
+    would set under 6 pt.  On paper with no room for it outside the marks the
+    note is left out; the cards say what they are without it.
     """
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
@@ -795,9 +846,13 @@ def _sheet_note(c, layout: CardLayout, text: str) -> None:
     top = max(max(m[1], m[3]) for m in marks)
     bottom = min(min(m[1], m[3]) for m in marks)
     edge = PRINTABLE_EDGE_MM * PT_PER_MM
+    room = page_w - 2 * edge
     size = 7.0
-    while size > 5.0 and stringWidth(text, REGULAR, size) > page_w - 2 * edge:
+    while size > MIN_TEXT_PT and stringWidth(f"{title} \u00b7 {text}", REGULAR, size) > room:
         size -= 0.5
+    rest = f" \u00b7 {text}"
+    short, _ = _one_line(title, REGULAR, size, size, max(room - stringWidth(rest, REGULAR, size), 0.0))
+    text = short + rest
     clear = 1.2 * PT_PER_MM
     if top + clear + size <= page_h - edge:
         y = min(top + clear + (page_h - edge - top - clear - size) / 2, top + 8 * PT_PER_MM)
@@ -812,12 +867,15 @@ def _sheet_note(c, layout: CardLayout, text: str) -> None:
 
 # ------------------------------------------------------------------ the file
 def render_cards(cards: Sequence[Card], layout: CardLayout, *, title: str, environ=None,
-                 on_design: Callable[[str], None] | None = None) -> bytes:
+                 on_design: Callable[[str], None] | None = None, fits: dict[int, Fitted] | None = None) -> bytes:
     """Every card as PDF bytes: per sheet a page of fronts, then (two-sided cards) a page of backs.
 
     Cards are grouped by design, in the order the designs first appear; a
-    sheet holds one design only.  ``on_design`` is called with each design's
-    letter once its sides are fitted, for a progress bar.
+    sheet holds one design only, on the card ``fit_card`` chose for it (the
+    layout's own or its larger one: the paper turns as that card needs).
+    ``fits`` may give those choices already made, by ``id(report)``.
+    ``on_design`` is called with each design's letter once its sides are
+    fitted, for a progress bar.
     """
     from reportlab.pdfgen.canvas import Canvas
 
@@ -838,32 +896,36 @@ def render_cards(cards: Sequence[Card], layout: CardLayout, *, title: str, envir
     for card in cards:
         order.setdefault(id(card.report), []).append(card)
     groups = list(order.values())
-    sheets = [(group, group[k:k + layout.per_sheet]) for group in groups
-              for k in range(0, len(group), layout.per_sheet)]
-    slots = layout.slots()
-    by_grid = {(s.column, s.row): s for s in slots}
-    w, h = layout.card_pt
-    pad = CARD_PAD_MM * PT_PER_MM
     forms: dict[int, dict[str, str]] = {}
+    fitted: dict[int, Fitted] = {}
     for n, group in enumerate(groups):
         first = group[0]
-        sides = card_sides(first.report, layout)
+        fit = (fits or {}).get(id(first.report)) or fit_card(first.report, layout)
+        fitted[id(first.report)] = fit
         forms[id(first.report)] = {}
-        for which, side in sides.items():
+        for which, side in fit.sides.items():
             name = f"card_{n}_{which}"
-            _side_form(c, name, first.report, first.design, side, which, layout)
+            _side_form(c, name, first.report, first.design, side, which, fit.layout)
             forms[id(first.report)][which] = name
         if on_design is not None:
             on_design(first.design)
 
-    for k, (group, batch) in enumerate(sheets, start=1):
+    sheets = [batch for group in groups for batch in _batches(group, fitted[id(group[0].report)].layout.per_sheet)]
+    for k, batch in enumerate(sheets, start=1):
         report = batch[0].report
         design = batch[0].design
+        fit = fitted[id(report)]
+        here = fit.layout
+        slots = here.slots()
+        by_grid = {(s.column, s.row): s for s in slots}
+        w, h = here.card_pt
+        pad = CARD_PAD_MM * PT_PER_MM
         label = f"design {design} \u00b7 " if design else ""
+        moved = f" \u00b7 {fit.note}" if fit.note else ""
         two_sided = "back" in forms[id(report)]
         how = "print both sides (either flip), then cut at the marks" if two_sided else "cut at the marks"
-        where = f"{title} \u00b7 {label}"
-        _sheet_note(c, layout, f"{where}sheet {k} of {len(sheets)}, fronts \u00b7 {how}")
+        c.setPageSize(here.sheet_size_pt)
+        _sheet_note(c, here, title, f"{label}sheet {k} of {len(sheets)}, fronts \u00b7 {how}{moved}")
         c.setStrokeColor(BLACK)
         for card, slot in zip(batch, slots):
             c.saveState()
@@ -872,12 +934,13 @@ def render_cards(cards: Sequence[Card], layout: CardLayout, *, title: str, envir
             c.restoreState()
             _front_header(c, card, x=slot.x_pt + pad, y_top=slot.y_pt + h - pad, width=w - 2 * pad)
             c.setLineWidth(MARK_LINE_PT)
-            for x1, y1, x2, y2 in cut_marks(slot, layout):
+            for x1, y1, x2, y2 in cut_marks(slot, here):
                 c.line(x1, y1, x2, y2)
         c.showPage()
         if two_sided:
-            _sheet_note(c, layout, f"{where}sheet {k} of {len(sheets)}, backs")
-            behind = {pos for slot in slots[:len(batch)] for pos in _mirrors(slot, layout)}
+            c.setPageSize(here.sheet_size_pt)
+            _sheet_note(c, here, title, f"{label}sheet {k} of {len(sheets)}, backs{moved}")
+            behind = {pos for slot in slots[:len(batch)] for pos in _mirrors(slot, here)}
             for pos in sorted(behind, key=lambda p: (p[1], p[0])):
                 slot = by_grid[pos]
                 c.saveState()
@@ -889,6 +952,10 @@ def render_cards(cards: Sequence[Card], layout: CardLayout, *, title: str, envir
     return buffer.getvalue()
 
 
-def single_design_cards(report: Report, layout: CardLayout) -> list[Card]:
-    """A sheet's worth of cards for one design, each with a line to write a builder's name on."""
-    return [Card(report=report) for _ in range(layout.per_sheet)]
+def _batches(group: Sequence[Card], per_sheet: int) -> list[Sequence[Card]]:
+    return [group[k:k + per_sheet] for k in range(0, len(group), per_sheet)]
+
+
+def single_design_cards(report: Report, fitted: Fitted) -> list[Card]:
+    """A sheet's worth of cards for one design on the card it was fitted to, each with a line for a name."""
+    return [Card(report=report) for _ in range(fitted.layout.per_sheet)]

@@ -23,15 +23,15 @@ from __future__ import annotations
 import hashlib
 import io
 import math
-from typing import TYPE_CHECKING, Any, Sequence
+from typing import TYPE_CHECKING, Any, Callable, Sequence
 from xml.etree import ElementTree as ET
 
 from sheetgen.model.netlist import GROUND, PIN_ORDER, Netlist, Part
 
 from sheetgen.outputs.pdf.fonts import REGULAR as PDF_FONT
 from sheetgen.outputs.pdf.fonts import register as register_fonts
-from sheetgen.outputs.pdf.labels import (FONT_PT, INCHES_PER_UNIT, PART, SIGN, TAG, Ask, Box, Spot, part_label,
-                                         place, probe_tag, spots_around, text_width)
+from sheetgen.outputs.pdf.labels import (FONT_PT, INCHES_PER_UNIT, PART, SIGN, TAG, Ask, Box, Spot, label_box,
+                                         part_label, place, probe_tag, spots_around, text_width)
 from sheetgen.outputs.wording import refs_text as span
 
 if TYPE_CHECKING:
@@ -50,6 +50,10 @@ STUB = 0.55  # a test point's stub, drawing units
 TP_RADIUS = 0.1  # test point and terminal circles, drawing units
 SHOW_ALL_BRANCHES = 3  # more parallel branches than this are drawn as the first, a note, and the last
 SHOW_ALL_IN_SERIES = 3  # more LEDs in one string than this are drawn as first, dotted line, last
+APART_STEP = 0.25  # drawing units between the places tried for a piece drawn apart (compact)
+APART_CLEARANCE = 0.3  # drawing units of white kept round a piece drawn apart, so it reads as its own
+APART_CLEARANCE_TIGHT = 0.15  # the least, taken only where it keeps the piece inside the drawing
+NARROW_LINE = "(via fuse)"  # the widest line a terminal's words take in the compact drawing
 
 _SVG_NS = "{http://www.w3.org/2000/svg}"
 
@@ -68,8 +72,12 @@ class SchemdrawPen:
     then, each with a few candidate spots, and placed by ``finish`` once every
     symbol is known, so a label never lands on a part drawn after it.  The pen
     keeps what a check needs: every label's box (``boxes``), the labels that
-    found no free spot (``collisions``) and the references it has drawn or
-    named (``named``).
+    found no free spot (``collisions``), the references it has drawn or
+    named (``named``) and the pieces it moved apart (``pieces``).
+
+    ``compact`` is the card's narrower drawing: the terminals' words on short
+    lines, one of several parallel strings drawn and a note naming the rest, and
+    a piece joined only by flags moved into free room.
     """
 
     def __init__(self, *, compact: bool = False) -> None:
@@ -82,6 +90,7 @@ class SchemdrawPen:
         self.boxes: list[Box] = []
         self.collisions: list[str] = []
         self.named: list[str] = []
+        self.pieces: list[tuple[int, int]] = []  # the elements (first, past last) of each piece moved apart
         self._asks: list[Ask] = []
         self._compact = compact  # parallel branches drawn as the first and a note naming the rest
         self._here = (0.0, 0.0)
@@ -221,7 +230,7 @@ class SchemdrawPen:
             for j in real:  # the bus tees where the cursor's wire joins and at every inner column
                 if 0 < j < len(xs) - 1 or j == on:
                     self._dot((xs[j], y_bus))
-        self._here, self._net = (xs[0], y_top), top
+        self._here, self._net = (xs[real[0]], y_top), top  # the rail meets the first branch drawn, over any note
 
     def ground(self) -> None:
         import schemdraw.elements as elm
@@ -236,7 +245,10 @@ class SchemdrawPen:
         self._current()
         radius = TP_RADIUS * 1.3
         self.drawing.add(elm.Dot(open=True, radius=radius).at(self._here))
-        self._ask(text.split("\n"), spots_around(self._here, (toward,), radius + GAP), PART)
+        lines = text.split("\n")
+        if self._compact:  # short lines: the terminals' words set the drawing's left edge
+            lines = _narrow(lines)
+        self._ask(lines, spots_around(self._here, (toward,), radius + GAP), PART)
 
     def net_label(self, text: str, toward: Direction) -> None:
         import schemdraw.elements as elm
@@ -266,6 +278,69 @@ class SchemdrawPen:
         else:
             sides = ("right", "left", toward)
         self._ask([probe_tag(label)], spots_around(tip, sides, TP_RADIUS + 0.08), TAG)
+
+    def apart(self, draw: Callable[[], None]) -> None:
+        """Draw a piece joined by flags only: at the cursor, or (compact) in the first free room found.
+
+        The compact drawing is for a card, where width is what runs short: the
+        piece is drawn once to learn its extent, taken out again, and drawn
+        where it meets no symbol, wire or label of the rest, inside the drawing's
+        width and growing its height as little as it can, nearest the place the
+        recipe chose.
+        """
+        if not self._compact:
+            draw()
+            return
+        start, net = self._here, self._net
+        counts = len(self.drawing.elements), len(self._asks), len(self.named)
+        draw()
+        extent = _union([_element_box(e) for e in self.drawing.elements[counts[0]:]]
+                        + [label_box(a.lines, a.spots[0]) for a in self._asks[counts[1]:]])
+        del self.drawing.elements[counts[0]:]
+        del self._asks[counts[1]:]
+        del self.named[counts[2]:]
+        dx, dy = self._room_for(extent)
+        self._here, self._net = (start[0] + dx, start[1] + dy), net
+        draw()
+        self.pieces.append((counts[0], len(self.drawing.elements)))
+
+    def _room_for(self, extent: Box) -> tuple[float, float]:
+        """The shift that puts ``extent`` clear of everything drawn and every label asked for so far.
+
+        Room inside the drawing comes first, with the full clearance, then with the
+        tight one; failing both, the least growth of the drawing's height.
+        """
+        import numpy as np
+
+        taken = [_element_box(e) for e in self.drawing.elements]
+        placed, _ = place(self._asks, [Box(b.x0 - 0.05, b.y0 - 0.05, b.x1 + 0.05, b.y1 + 0.05, b.text)
+                                       for b in taken])
+        taken += [p.box for p in placed]
+        whole = _union(taken)
+        boxes = np.array([(b.x0, b.y0, b.x1, b.y1) for b in taken])
+        w, h = extent.x1 - extent.x0, extent.y1 - extent.y0
+
+        def free(m: float, below: float) -> tuple[np.ndarray, np.ndarray]:
+            """Lower-left corners, on the grid, at which ``extent`` keeps ``m`` clear of everything."""
+            xs = np.arange(whole.x0, max(whole.x1 - w, whole.x0) + 1e-9, APART_STEP)
+            ys = np.arange(whole.y0 - below, whole.y1 - h + 1e-9, APART_STEP)
+            gx, gy = (a.ravel() for a in np.meshgrid(xs, ys))
+            hits = ((gx[:, None] - m < boxes[None, :, 2]) & (boxes[None, :, 0] < gx[:, None] + w + m)
+                    & (gy[:, None] - m < boxes[None, :, 3]) & (boxes[None, :, 1] < gy[:, None] + h + m)).any(axis=1)
+            return gx[~hits], gy[~hits]
+
+        for m in (APART_CLEARANCE, APART_CLEARANCE_TIGHT):
+            gx, gy = free(m, 0.0)
+            if gx.size:
+                best = int(np.argmin(np.hypot(gx - extent.x0, gy - extent.y0)))
+                return float(gx[best] - extent.x0), float(gy[best] - extent.y0)
+        gx, gy = free(APART_CLEARANCE, h + APART_CLEARANCE)
+        if gx.size == 0:  # nothing free even below: under the lot, at its left edge
+            return whole.x0 - extent.x0, whole.y0 - APART_CLEARANCE - extent.y1
+        growth = np.maximum(whole.y0 - gy, 0.0)
+        distance = np.hypot(gx - extent.x0, gy - extent.y0)
+        best = np.lexsort((distance, np.round(growth, 6)))[0]
+        return float(gx[best] - extent.x0), float(gy[best] - extent.y0)
 
     # -- after the recipe -------------------------------------------------------------------
 
@@ -408,6 +483,33 @@ class SchemdrawPen:
                 raise ValueError(f"{group[0].ref}: a {kind} cannot be drawn in a load branch")
 
 
+def _element_box(element: Any) -> Box:
+    b = element.get_bbox(transform=True, includetext=False)
+    return Box(b.xmin, b.ymin, b.xmax, b.ymax, type(element).__name__)
+
+
+def _union(boxes: Sequence[Box]) -> Box:
+    return Box(min(b.x0 for b in boxes), min(b.y0 for b in boxes), max(b.x1 for b in boxes),
+               max(b.y1 for b in boxes), "")
+
+
+def _narrow(lines: Sequence[str]) -> list[str]:
+    """Label lines broken at spaces, each no wider than ``NARROW_LINE`` unless a single word is."""
+    limit = text_width(NARROW_LINE)
+    out: list[str] = []
+    for line in lines:
+        current = ""
+        for word in line.split(" "):
+            trial = f"{current} {word}" if current else word
+            if current and text_width(trial) > limit:
+                out.append(current)
+                current = word
+            else:
+                current = trial
+        out.append(current)
+    return out
+
+
 def _unit_vector(toward: Direction) -> tuple[float, float]:
     return {"right": (1.0, 0.0), "left": (-1.0, 0.0), "up": (0.0, 1.0), "down": (0.0, -1.0)}[toward]
 
@@ -510,8 +612,9 @@ def _svg_of(pen: SchemdrawPen) -> bytes:
 def schematic_svg(netlist: Netlist, topology: Topology, *, compact: bool = False) -> bytes:
     """The schematic as a standalone SVG document (UTF-8), text kept as text.
 
-    ``compact`` draws one of several parallel load branches and names the rest in a note
-    ("+ 2 strings the same"), for a card too narrow for every string at a readable size.
+    ``compact`` is the card's narrower drawing (``SchemdrawPen``): terminal words on short
+    lines, one of several parallel load branches drawn and the rest named in a note
+    ("+ 2 strings the same"), the over-voltage cut-off moved into free room.
     """
     return _svg_of(_layout(netlist, topology, compact=compact))
 
