@@ -174,9 +174,14 @@ SINGLE_NPN = Stage(kind="bjt", darlington=False, vce_sat_v=0.2, v_drive_v=0.75, 
 CURRENT_NPN = Stage(kind="bjt", darlington=False, vce_sat_v=0.2, v_drive_v=0.7, cost_rank=1,
                     emitter_resistor=True, loads=("led",))
 # Darlington Vce(sat) about 1 V at moderate currents, VBE(on) 1.2-1.5 V (TIP120: 2 V max at 3 A, onsemi TIP120 data sheet; read in the source)
-DARLINGTON = Stage(kind="bjt", darlington=True, vce_sat_v=1.0, v_drive_v=1.4, cost_rank=2)
+# A Darlington as a current stage: the same emitter resistor sets the LED current, and its gain in the
+# thousands draws so little base current that the R1-R_div divider holds C1's top voltage whatever the
+# part's gain or the cold; it needs about 1 V more headroom than a single NPN.
+CURRENT_DARLINGTON = Stage(kind="bjt", darlington=True, vce_sat_v=1.0, v_drive_v=1.4, cost_rank=2,
+                           emitter_resistor=True, loads=("led",))
+DARLINGTON = Stage(kind="bjt", darlington=True, vce_sat_v=1.0, v_drive_v=1.4, cost_rank=3)
 # A logic-level MOSFET fully on drops only I·RDS(on): tens of millivolts at an amp (IRLZ44N, 25 mΩ at 5 V)
-LOGIC_MOSFET = Stage(kind="mosfet", darlington=False, vce_sat_v=0.05, v_drive_v=0.0, cost_rank=3,
+LOGIC_MOSFET = Stage(kind="mosfet", darlington=False, vce_sat_v=0.05, v_drive_v=0.0, cost_rank=4,
                      drive_net="gate", out_net="drain")
 
 INPUT_PNP = "BC327-40"
@@ -279,7 +284,8 @@ def _switch(values: Values, stage: Stage) -> list[Part]:
         return [
             _resistor("R3", "timer", drive, "base", values.r_base_ohm, values, "base resistor: isolates Q1's base"),
             Part(ref="Q1", kind="npn", pins=(("C", out), ("B", drive), ("E", "emitter")), role="switch",
-                 model=q.model, part_number=q.part_number, description="NPN current stage, low side",
+                 model=q.model, part_number=q.part_number,
+                 description="Darlington current stage, low side" if q.darlington else "NPN current stage, low side",
                  rating_v=q.vmax_v, rating_w=q.pd_free_air_w, package=q.package),
         ]
     return [
@@ -602,11 +608,20 @@ DARLINGTON_LOW = _topology("darlington", "Darlington, low side",
                            stage=DARLINGTON, trigger="positive", draw=_draw_positive_feed)
 _CURRENT_SUMMARY = (" R_E in Q1's emitter sets the LED current, so the light follows C1's voltage over its whole "
                     "charge and does not depend on Q1's gain.")
+_FOLLOWER_SUMMARY = (" The Darlington's gain draws so little base current that C1's divider holds its voltage "
+                     "whatever the part's gain or the cold.")
 NPN_CURRENT = _topology("npn-current", "NPN current stage, low side", _SUMMARY + _CURRENT_SUMMARY,
                         stage=CURRENT_NPN, trigger="positive", draw=_draw_positive_feed)
 NPN_CURRENT_GROUND = _topology("npn-current-ground", "NPN current stage, low side, ground-switched input",
                                _SUMMARY + _CURRENT_SUMMARY + _GROUND_SUMMARY, stage=CURRENT_NPN, trigger="ground",
                                draw=_draw_ground_feed)
+DARLINGTON_CURRENT = _topology("darlington-current", "Darlington current stage, low side",
+                                _SUMMARY + _CURRENT_SUMMARY + _FOLLOWER_SUMMARY, stage=CURRENT_DARLINGTON,
+                                trigger="positive", draw=_draw_positive_feed)
+DARLINGTON_CURRENT_GROUND = _topology("darlington-current-ground",
+                                       "Darlington current stage, low side, ground-switched input",
+                                       _SUMMARY + _CURRENT_SUMMARY + _FOLLOWER_SUMMARY + _GROUND_SUMMARY,
+                                       stage=CURRENT_DARLINGTON, trigger="ground", draw=_draw_ground_feed)
 NPN_GROUND = _topology("npn-ground", "Single NPN, low side, ground-switched input", _SUMMARY + _GROUND_SUMMARY,
                        stage=SINGLE_NPN, trigger="ground", draw=_draw_ground_feed)
 DARLINGTON_GROUND = _topology("darlington-ground", "Darlington, low side, ground-switched input",
@@ -621,8 +636,9 @@ MOSFET_GROUND = _topology("mosfet-ground", "Logic-level MOSFET, low side, ground
                           _MOSFET_SUMMARY + _GROUND_SUMMARY, stage=LOGIC_MOSFET, trigger="ground",
                           draw=_draw_ground_feed)
 
-TOPOLOGIES: dict[str, Topology] = {t.name: t for t in (NPN, NPN_CURRENT, DARLINGTON_LOW, MOSFET_LOW, NPN_GROUND,
-                                                       NPN_CURRENT_GROUND, DARLINGTON_GROUND, MOSFET_GROUND)}
+TOPOLOGIES: dict[str, Topology] = {t.name: t for t in (NPN, NPN_CURRENT, DARLINGTON_CURRENT, DARLINGTON_LOW, MOSFET_LOW,
+                                                       NPN_GROUND, NPN_CURRENT_GROUND, DARLINGTON_CURRENT_GROUND,
+                                                       DARLINGTON_GROUND, MOSFET_GROUND)}
 
 
 def topologies_for(trigger: str) -> tuple[Topology, ...]:

@@ -601,7 +601,8 @@ class _CurrentDrive:
                                                                                - tolerance.T_MODEL_C))
         ballast = eseries.above("E24", BALLAST_V / load.current_a) * load.current_a
         # What R_E may drop at the bottom of the range, with the LEDs and the ballast, before Q1 saturates.
-        self.room_v = spec.supply.min_v - protection.drop_v(spec) - load.per_string * load.vf_v - ballast - 0.3
+        self.room_v = (spec.supply.min_v - protection.drop_v(spec) - load.per_string * load.vf_v - ballast
+                       - max(0.3, topology.stage.vce_sat_v))
         self.hot = VBE_CORNER_SHIFT_V * (spec.ambient_c - tolerance.T_MODEL_C)
 
     def _vc(self, supply_v, R1, RD, R2, RE, beta=None):
