@@ -64,6 +64,8 @@ DIODE_DROP_V = 0.75  # rough forward drop of the blocking diode at a few mA; fir
 CANDIDATES_PER_ROUND = 48
 C_PENALTY = 0.01  # a tenfold larger capacitor must buy 2.3 % of accuracy: cans grow and cost
 ROUNDS = 4
+REFINE_ROUNDS = 3  # rounds of simulating a near miss's neighbours on the grid
+REFINE_WITHIN = 3.0  # a miss within this many times the band is worth searching around
 SETTLE_TAUS = 5.0  # the capacitor is within 1 % of its final voltage after five time constants
 YIELD_ATTEMPTS = 3
 STIFF_DIVIDER = 0.94  # C1's top with the weakest part's base load, against no load at all (first-guess filter)
@@ -364,9 +366,50 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_m
             break
         if round_no >= 1 and (best is None or best.error(spec) > 4 * ACCURACY):
             break
+    best = _refine(spec, topology, drive, base_values, (C, R1, R2, R3, RE), tried, best)
     if best is None or best.error(spec) > ACCURACY:
         raise _NoFit(_why_not(spec, best, c_max, drive.limit_note))
     return _finish(spec, topology, base_values, _window(spec, drive, [best]), best, drive.reason(best))
+
+
+def _refine(spec: Spec, topology: Topology, drive, base_values: Values, grid: tuple, tried: dict,
+            best: "_Trial | None") -> "_Trial | None":
+    """A near miss searched around on the grid itself: the closed form steers the rounds above, but where
+    it is off by more than its learnt ratio (a saturating switch's delay, a divider's loading) the nearest
+    standard values of the best candidates are simulated directly, one step each way in C1, R1 and R2."""
+    C, R1, R2, R3, RE = grid
+    steps = [np.searchsorted(np.unique(a), a) for a in (C, R1, R2)]
+    for _ in range(REFINE_ROUNDS):
+        if best is None or not ACCURACY < best.error(spec) <= REFINE_WITHIN * ACCURACY:
+            break
+        near = sorted((t for t in tried.values() if math.isfinite(t.error(spec))), key=lambda t: t.error(spec))
+        picks: list[_Trial] = []
+        for t in near[:6]:
+            j = np.flatnonzero((C == t.c) & (R1 == t.r1) & (R2 == t.r2))
+            if not len(j):
+                continue
+            close = np.all([np.abs(s - s[j[0]]) <= 1 for s in steps], axis=0)
+            for k in np.flatnonzero(close):
+                key = (C[k], R1[k], R2[k], R3[k], RE[k])
+                if key not in tried and len(picks) < CANDIDATES_PER_ROUND:
+                    picks.append(_Trial(c=C[k], r1=R1[k], r2=R2[k], r3=R3[k], re=RE[k]))
+                    tried[key] = picks[-1]
+        window = _window(spec, drive, picks + near[:6])
+        netlist = _netlist(topology, spec, _values(base_values, (picks + near)[0]), window)
+        picks = drive.check(netlist, picks, window) if picks else []
+        if hasattr(drive, "neighbours"):
+            for t in drive.neighbours(netlist, near[:6], window):
+                key = (t.c, t.r1, t.r2, t.r3, t.re)
+                if key not in tried:
+                    tried[key] = t
+                    picks.append(t)
+        if not picks:
+            break
+        _simulate(spec, topology, base_values, _window(spec, drive, picks), picks)
+        for t in picks:
+            if math.isfinite(t.error(spec)) and _rank(t, spec) < _rank(best, spec):
+                best = t
+    return best
 
 
 def _netlist(topology: Topology, spec: Spec, values: Values, window: Window):
@@ -381,9 +424,12 @@ def _window(spec: Spec, drive, trials) -> Window:
 
 
 def _rank(t: _Trial, spec: Spec) -> tuple:
-    """Order of preference: inside ±5 %, then inside ±10 %; the smallest capacitor among those."""
+    """Order of preference: inside ±5 %, then inside ±10 %, the smallest capacitor among those; outside the
+    band, the nearest miss (the search steers by it and a refusal quotes it)."""
     err = t.error(spec)
-    return (err > ACCURACY, err > ACCURACY / 2, t.c, err)
+    if err > ACCURACY:
+        return (True, True, 0.0, err)
+    return (False, err > ACCURACY / 2, t.c, err)
 
 
 def _load_scale(spec: Spec, supply_v: float, stage: Stage) -> float:
@@ -489,6 +535,20 @@ class _BaseDrive:
             if not moved:
                 break
         return [t for t in trials if self.od_min <= t.overdrive <= self.od_max * 1.1]
+
+    def neighbours(self, netlist, trials, window) -> list:
+        """R3 one E24 step either side of each candidate's, kept while Q1 still saturates at minimum gain and
+        supply: near a miss the drive window above is a first guess, and the simulation and the corners
+        judge the hold and the light."""
+        out = [replace(t, r3=r3) for t in trials
+               for r3 in (eseries.below("E24", t.r3 * 0.999), eseries.above("E24", t.r3 * 1.001))]
+        if not out:
+            return []
+        ib, ic = drive_at_minimum(netlist, _batch_overrides(out), n=len(out), supply_v=self.spec.supply.min_v,
+                                  hfe_min=self.hfe_min, window=window, hfe_typ=self.q.hfe_typ_at(self.i_nom))
+        for t, o in zip(out, ib * self.hfe_min / ic):
+            t.overdrive = float(o)
+        return [t for t in out if t.overdrive >= self.od_min]
 
     limit_note = "the base current this load needs drains C1 quickly"
 

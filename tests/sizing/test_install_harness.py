@@ -15,13 +15,13 @@ EXAMPLES = Path(__file__).parent.parent.parent / "examples"
 
 
 @pytest.fixture(scope="module")
-def boat(lamp_sizing):
-    return report_dict(analyse(lamp_sizing(load_spec(EXAMPLES / "refused" / "boat-cabin-lamp.yaml")), draws=50))
+def boat():
+    return report_dict(analyse(size(load_spec(EXAMPLES / "boat-saloon-reading-light.yaml")), draws=50))
 
 
 def test_a_boat_never_gets_wire_below_the_marine_minimum(boat):
     # ISO 10133: 1 mm² smallest conductor on small craft; ABYC E-11: 16 AWG (both from memory).
-    # The boat lamp draws a quarter of an amp: on its own, 0.5 mm² would carry its 1 A fuse.
+    # The boat's LEDs draw tens of milliamps: on their own, 0.5 mm² would carry the 1 A fuse.
     assert boat["harness"]["max_current_a"] < 0.5
     assert boat["install"] == {"name": "boat", "title": boat["install"]["title"], "ambient_c": 35.0,
                                "wire_min_mm2": 1.0, "supply_system": "battery-12"}

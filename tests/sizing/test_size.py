@@ -221,3 +221,24 @@ def test_a_hold_the_stages_cannot_give_is_refused_naming_the_hold():
         size(_spec(LED2X3, 1.5, 4, extra="delay: {off: 3 s}\nambient: 40 °C\n"))
     text = str(err.value)
     assert "hold off 3 s" in text and "holds at full" in text
+
+
+def test_a_near_miss_is_searched_around_until_the_design_next_to_it_is_found():
+    # Two strings of three white LEDs at 1.5 s / 4 s in a 35 °C cabin: with Vf 3.1 V the first rounds land
+    # inside ±10 %; with Vf 3.0 V (an easier load) they only come near (fade-out 3.6 s, delay at its
+    # limit), and the design one standard value away (2200 µF, 6.8 kΩ, 2.7 kΩ, 18 kΩ: found by hand with
+    # the simulator) must still be found, not refused.
+    load = LED2X3.replace("3.1 V", "3.0 V")
+    d = size(_spec(load, 1.5, 4, extra="ambient: 35 °C\ninstall: vehicle\n"))
+    assert d.fade_in_s == pytest.approx(1.5, rel=0.10) and d.fade_out_s == pytest.approx(4.0, rel=0.10)
+
+
+def test_outside_the_band_the_nearest_miss_ranks_first_whatever_its_capacitor():
+    from sheetgen.sizing.size import _Trial, _rank
+
+    spec = _spec(LED2X3, 1.5, 4)
+    near = _Trial(c=1e-3, r1=1e4, r2=1e4, r3=1e4, delay_on=1.0, t_in=1.36, hold_off=3.0, t_out=3.6)
+    far = _Trial(c=1e-4, r1=1e4, r2=1e4, r3=1e4, delay_on=0.5, t_in=0.6, hold_off=3.0, t_out=4.3)
+    assert _rank(near, spec) < _rank(far, spec)
+    inside = _Trial(c=2.2e-3, r1=1e4, r2=1e4, r3=1e4, delay_on=1.0, t_in=1.5, hold_off=3.0, t_out=4.1)
+    assert _rank(inside, spec) < _rank(near, spec)
