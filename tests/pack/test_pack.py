@@ -12,6 +12,7 @@ from __future__ import annotations
 import csv
 import io
 import math
+import re
 from collections import Counter
 from fractions import Fraction
 from pathlib import Path
@@ -322,6 +323,18 @@ def test_booklet_cover_builds_kit_list_and_every_design_sheet(packed):
     assert f"page 1 of {len(reader.pages)}" in first
     for page in reader.pages:
         assert (float(page.mediabox.width), float(page.mediabox.height)) == pytest.approx((595.28, 841.89), abs=0.01)
+
+
+def test_the_booklet_names_no_wire_colour_that_nobody_chose(packed):
+    out, _, _ = packed
+    reader = PdfReader(out / "booklet.pdf")
+    kit_page = next(" ".join(p.extract_text().split()) for p in reader.pages if "Kit list" in p.extract_text())
+    # Neither the example specs nor the event give wires:, so the CSV names each run, not a colour...
+    rows = list(csv.DictReader(io.StringIO((out / "kit-list.csv").read_text(encoding="utf-8-sig"), newline="")))
+    assert all("colour as you choose" in row["note"] for row in rows if row["item"].startswith("wire for"))
+    # ... and the printed list's note must not invent one.
+    assert not re.search(r"\b(red|yellow|black)\b", kit_page), kit_page
+    assert f"{WIRE_M_PER_RUN} m per build for each off-board run" in kit_page
 
 
 def test_cards_one_per_builder_with_names_as_written(packed):
