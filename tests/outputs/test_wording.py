@@ -165,3 +165,14 @@ def test_the_heatsink_reads_the_same_in_the_terminal_as_on_the_sheet(camper_repo
     heat = dataclasses.replace(camper_report.heat, heatsink_c_per_w=7.0921)
     text = summary_text(dataclasses.replace(camper_report, heat=heat))
     assert "(heatsink 7.1 °C/W or better)" in text  # the sheet's heat block prints "7.1 °C/W or better"
+
+
+def test_q1_heat_reads_the_same_in_the_terminal_as_on_the_sheet(camper_report):
+    from sheetgen.outputs.wording import watts
+
+    summary = summary_text(camper_report)
+    h = camper_report.heat
+    # The sheet's heat block prints watts(peak) and watts(steady) (tests/outputs/test_sheet.py); the terminal
+    # must print the same two figures, not a rounding of them that reads as zero.
+    assert f"peak {watts(h.peak_power_w)} while fading, {watts(h.steady_power_w)} fully on" in summary
+    assert 0 < h.steady_power_w < 0.005 and "0.00 W" not in summary

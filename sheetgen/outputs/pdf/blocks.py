@@ -31,7 +31,7 @@ from sheetgen.circuits.loads import kind_of
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
 
 from sheetgen.outputs.pdf import plot
-from sheetgen.outputs.wording import current_stage_words, keep_units, led_dimming_words, refs_text, standby_text, volts_range
+from sheetgen.outputs.wording import current_stage_words, keep_units, led_dimming_words, refs_text, standby_text, volts_range, watts
 from sheetgen.parts.colour_code import bands
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import SHEET_BLOCKS
@@ -411,11 +411,6 @@ def seconds(t_s: float) -> str:
     return format_quantity(t_s, "s") if np.isfinite(t_s) else "does not finish"
 
 
-def watts(p_w: float) -> str:
-    """A dissipation as printed; below a microwatt the digits mean nothing at the bench."""
-    return format_quantity(p_w, "W") if p_w >= 1e-6 else "under 1 µW"
-
-
 def joules(e_j: float) -> str:
     return format_quantity(e_j, "W")[:-1] + "J"
 
@@ -709,7 +704,7 @@ def heat_block(report: Report, frame: Frame) -> Block:
         stuck = _pm(hover + f"junction <b>{m.junction_c:.0f} °C</b> on {m.heatsink.ref} (limit {escape(limit)}); "
                     f"{escape(mounting.free_air_words(m))}", s.cell)
     rows = [
-        [_p("Peak power in a fade", s.cell_bold), _p(format_quantity(h.peak_power_w, "W"), s.cell)],
+        [_p("Peak power in a fade", s.cell_bold), _p(watts(h.peak_power_w), s.cell)],
         [_p("Energy per fade", s.cell_bold), _p(joules(h.fade_energy_j), s.cell)],
         [_p("Steady, fully on", s.cell_bold), _p(watts(h.steady_power_w), s.cell)],
         [_p("Junction in use", s.cell_bold), _p(f"{h.fade_peak_junction_c:.0f} °C at most, fading on and off", s.cell)],
