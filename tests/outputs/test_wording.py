@@ -176,3 +176,16 @@ def test_q1_heat_reads_the_same_in_the_terminal_as_on_the_sheet(camper_report):
     # must print the same two figures, not a rounding of them that reads as zero.
     assert f"peak {watts(h.peak_power_w)} while fading, {watts(h.steady_power_w)} fully on" in summary
     assert 0 < h.steady_power_w < 0.005 and "0.00 W" not in summary
+
+
+def test_the_load_current_is_one_figure_in_the_summary_the_reasons_and_the_sheet(camper_report):
+    from sheetgen.inputs.units import format_quantity
+
+    steady = format_quantity(camper_report.steady_a, "A")  # what the sheet's "Load current" row prints
+    summary = summary_text(camper_report)
+    assert f"load current {steady} (steady, nominal supply)" in summary
+    printed = set(re.findall(r"carries (\d[\d.]* [mµ]?A)", " ".join(camper_report.design.reasons)))
+    assert printed == {steady}  # never the sizer's screening estimate (rated current scaled to the top supply)
+    # The one other load figure printed, the harness's, is the steady current at the top of the supply range:
+    # at least the nominal one, as the LED strings' series resistors make it rise with the supply.
+    assert camper_report.harness.max_current_a > camper_report.steady_a
