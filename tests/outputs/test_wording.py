@@ -189,3 +189,17 @@ def test_the_load_current_is_one_figure_in_the_summary_the_reasons_and_the_sheet
     # The one other load figure printed, the harness's, is the steady current at the top of the supply range:
     # at least the nominal one, as the LED strings' series resistors make it rise with the supply.
     assert camper_report.harness.max_current_a > camper_report.steady_a
+
+
+@pytest.mark.parametrize("which", ["camper_report", "railway_report"])
+def test_the_light_curve_labelled_percent_of_full_levels_at_100(which, request):
+    import numpy as np
+
+    report = request.getfixturevalue(which)
+    c = report.curves
+    # The timing plot's right axis reads "light output (% of full)", full being the steady light with the feed
+    # on (engine/measure.py FULL_MEANS): just before the feed goes the curve must sit at 100 %, not at a
+    # fraction of some rating (a lamp normalised to its rated temperature once levelled near 53 %).
+    before = c.light[np.searchsorted(c.t_s, report.design.netlist.release_s) - 1]
+    assert before == pytest.approx(1.0, abs=0.01)
+    assert float(np.max(c.light)) == pytest.approx(1.0, abs=0.02)
