@@ -149,16 +149,34 @@ def blocks_p(text, k):
     return plain_paragraph(text, styles().step, bulletText=f"{k}.")
 
 
-def test_card_steps_past_nine_line_up_with_the_first_nine():
-    from reportlab.pdfbase.pdfmetrics import stringWidth
+def _first_line_x(style, numbers) -> dict[int, float]:
+    """Where each numbered step's text starts on a rendered page, read back from the PDF."""
+    import io
 
+    from pypdf import PdfReader
+    from reportlab.platypus import Paragraph, SimpleDocTemplate
+
+    buf = io.BytesIO()
+    SimpleDocTemplate(buf).build([Paragraph(f"Step{k} joins", style, bulletText=f"{k}.") for k in numbers])
+    found = {}
+
+    def visit(text, cm, tm, font, size):
+        if text.startswith("Step"):
+            found[int(text[4:].split()[0])] = round(cm[4] + tm[4], 2)
+
+    PdfReader(buf).pages[0].extract_text(visitor_text=visit)
+    return found
+
+
+def test_steps_past_nine_line_up_with_the_first_nine_on_cards_and_sheets():
+    from sheetgen.outputs.pdf.blocks import styles
     from sheetgen.outputs.pdf.cards import SCALES, _styles
-    from sheetgen.outputs.pdf.fonts import BOLD
 
-    for scale in SCALES:
-        st = _styles(scale).step
-        widest = max(stringWidth(f"{k}.", BOLD, st.fontSize) for k in range(1, 100))
-        assert widest < st.leftIndent - st.bulletIndent  # the number never pushes its text to the right
+    numbers = (1, 9, 10, 11, 28, 99)
+    for name, style in [("sheet", styles().step), *((f"card at {s}", _styles(s).step) for s in SCALES)]:
+        x = _first_line_x(style, numbers)
+        assert sorted(x) == list(numbers), name
+        assert max(x.values()) - min(x.values()) < 0.01, (name, x)  # every step's text starts at one x
 
 
 def test_the_heatsink_reads_the_same_in_the_terminal_as_on_the_sheet(camper_report):

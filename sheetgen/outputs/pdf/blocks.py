@@ -72,6 +72,18 @@ def paragraph_style(name, size, *, font=REGULAR, leading=None, **kw) -> Paragrap
                           alignment=TA_LEFT, **kw)
 
 
+def number_room(size_pt: float) -> float:
+    """The left indent a numbered step needs so that steps 10 to 99 line up with 1 to 9.
+
+    The page setter starts a paragraph's first line after its bullet plus 0.6 of the bullet's size
+    whenever that reaches past the left indent (reportlab's ``_handleBulletWidth``), so the indent must
+    hold the widest two-digit number, its full stop and that gap; a little air on top.
+    """
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    return max(stringWidth(f"{d}{d}.", BOLD, size_pt) for d in "0123456789") + 0.7 * size_pt
+
+
 @lru_cache(maxsize=1)
 def styles() -> Styles:
     """Build the styles once, after the fonts are registered."""
@@ -82,7 +94,7 @@ def styles() -> Styles:
         cell=paragraph_style("cell", 8.3),
         cell_bold=paragraph_style("cell_bold", 8.3, font=BOLD),
         heading=paragraph_style("heading", 11.5, font=BOLD, leading=13),
-        step=paragraph_style("step", 9, leftIndent=21, bulletIndent=0, bulletFontName=BOLD),
+        step=paragraph_style("step", 9, leftIndent=number_room(9), bulletIndent=0, bulletFontName=BOLD),
         bullet=paragraph_style("bullet", 8.3, leftIndent=10, bulletIndent=1),
         caution_head=paragraph_style("caution_head", 10.5, font=BOLD, textColor=WHITE),
         caution=paragraph_style("caution", 8.6, leftIndent=11, bulletIndent=2, bulletFontName=BOLD),

@@ -48,7 +48,7 @@ from sheetgen.sizing import protection, runs
 from sheetgen.sizing.report import Report
 
 from sheetgen.outputs.wording import keep_units, refs_text, volts_range
-from sheetgen.outputs.pdf.blocks import Heading, paragraph_style, part_bands, part_groups, part_rating, part_value
+from sheetgen.outputs.pdf.blocks import Heading, number_room, paragraph_style, part_bands, part_groups, part_rating, part_value
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import CARD_BLOCKS
 from sheetgen.inputs.layout import CardLayout, Slot
@@ -95,13 +95,6 @@ class _Styles:
     gap_pt: float
 
 
-def _number_room(size_pt: float) -> float:
-    """The indent that holds a step number up to 99 and its full stop, with a little air."""
-    from reportlab.pdfbase.pdfmetrics import stringWidth
-
-    return stringWidth("00.", BOLD, size_pt) + 0.3 * size_pt
-
-
 @lru_cache(maxsize=None)
 def _styles(scale: float) -> _Styles:
     """The card's styles with every size multiplied by ``scale`` (1.0: a 9 pt body)."""
@@ -118,7 +111,7 @@ def _styles(scale: float) -> _Styles:
         cell_bold=style("cell_bold", 8.6, font=BOLD),
         heading=style("heading", 9.8, font=BOLD),
         # Room for a two-digit number, so steps 10 and on line up with 1 to 9.
-        step=style("step", 9.0, leftIndent=_number_room(9.0 * scale), bulletIndent=0, bulletFontName=BOLD),
+        step=style("step", 9.0, leftIndent=number_room(9.0 * scale), bulletIndent=0, bulletFontName=BOLD),
         caution_head=style("caution_head", 9.4, font=BOLD, textColor=WHITE),
         caution=style("caution", 8.6, leftIndent=9 * scale, bulletIndent=1, bulletFontName=BOLD),
         gap_pt=3.0 * scale,
