@@ -221,3 +221,17 @@ def test_the_light_curve_labelled_percent_of_full_levels_at_100(which, request):
     before = c.light[np.searchsorted(c.t_s, report.design.netlist.release_s) - 1]
     assert before == pytest.approx(1.0, abs=0.01)
     assert float(np.max(c.light)) == pytest.approx(1.0, abs=0.02)
+
+
+def test_a_darlingtons_gain_of_a_thousand_prints_as_1000_not_1e03():
+    from types import SimpleNamespace
+
+    from sheetgen.sizing.size import OVERDRIVE_MIN, _BaseDrive
+
+    # 25 strings of 20 mA: 0.5 A, where the TIP120's datasheet minimum gain is 1000 (onsemi/Diotec TIP120
+    # data sheets: hFE at least 1000 at 0.5 A and 3 A, VCE 3 V).
+    spec = parse_spec("supply: 12 V\nload: {kind: led, current: 20 mA, vf: 3.1 V, strings: 25}\n"
+                      "fade: {in: 1 s, out: 3 s}\ntopology: darlington\n", source="d.yaml")
+    drive = _BaseDrive(spec, TOPOLOGIES["darlington"], catalog.transistor("TIP120"), OVERDRIVE_MIN)
+    reason = drive.reason(SimpleNamespace(i_load=0.5, overdrive=2.0))
+    assert "hFE_min 1000)" in reason and not re.search(r"\d[eE][+-]\d", reason)
