@@ -235,3 +235,19 @@ def test_a_darlingtons_gain_of_a_thousand_prints_as_1000_not_1e03():
     drive = _BaseDrive(spec, TOPOLOGIES["darlington"], catalog.transistor("TIP120"), OVERDRIVE_MIN)
     reason = drive.reason(SimpleNamespace(i_load=0.5, overdrive=2.0))
     assert "hFE_min 1000)" in reason and not re.search(r"\d[eE][+-]\d", reason)
+
+
+def test_the_card_harness_box_and_the_board_lists_keep_numbers_with_their_units(camper_report):
+    from sheetgen.outputs.pdf import cards
+    from sheetgen.outputs.pdf.board_view import board_items
+    from sheetgen.outputs.pdf.blocks import styles
+
+    st = cards._styles(1.0)
+    harness = cards._harness(camper_report, cards._Frame(st, 300.0, 100.0, None, None))
+    paragraphs = list(harness._body.items)
+    paragraphs += [f for f in board_items(camper_report.board, camper_report.design.netlist, styles().small)
+                   if hasattr(f, "text")]
+    texts = [p.text for p in paragraphs]
+    assert any("mm²" in t for t in texts)  # the fuse and wire line is among them
+    for text in texts:  # "1 A", "0.5 mm²", "20 AWG": never a plain space a line could break at
+        assert not re.search(r"\d (?:[mµk]?[AVWΩ]\b|mm²|AWG|°C)", text), text

@@ -356,8 +356,8 @@ def _harness(report: Report, frame: _Frame) -> Flowable:
     h = report.harness
     trigger = ("grounded when the light should be on" if report.design.spec.trigger == "ground"
                else "goes positive when the light should be on")
-    lines = [Paragraph(f"<b>Fuse {h.fuse_a:g} A</b> (always-on feed) \u00b7 "
-                       f"<b>Wire {h.wire_mm2:g} mm² ({h.wire_awg} AWG)</b>", st.body),
+    lines = [Paragraph(keep_units(f"<b>Fuse {h.fuse_a:g} A</b> (always-on feed) \u00b7 "
+                       f"<b>Wire {h.wire_mm2:g} mm² ({h.wire_awg} AWG)</b>"), st.body),
              Paragraph(f"Switched feed: {trigger}", st.body),
              Paragraph("Wires: " + " \u00b7 ".join(escape(runs.label(report.design.spec, net))
                                                    for net, _ in report.design.topology.wiring)
@@ -366,8 +366,8 @@ def _harness(report: Report, frame: _Frame) -> Flowable:
     if m is not None:
         name = f"{m.heatsink.ref} {m.heatsink.part_number}".strip()
         kit = f" on kit {m.insulator.ref}" if m.insulator else ""
-        lines.append(Paragraph(f"<b>Q1 on heatsink {escape(name)}</b> ({m.heatsink.rating_c_per_w:g} °C/W, "
-                               f"{escape(m.heatsink.package)}){kit}", st.body))
+        lines.append(Paragraph(keep_units(f"<b>Q1 on heatsink {escape(name)}</b> ({m.heatsink.rating_c_per_w:g} °C/W, "
+                               f"{escape(m.heatsink.package)}){kit}"), st.body))
     return _Framed(lines, pad_pt=4.0 * st.gap_pt / 3.0, line_pt=1.2)
 
 
