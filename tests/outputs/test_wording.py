@@ -251,3 +251,27 @@ def test_the_card_harness_box_and_the_board_lists_keep_numbers_with_their_units(
     assert any("mm²" in t for t in texts)  # the fuse and wire line is among them
     for text in texts:  # "1 A", "0.5 mm²", "20 AWG": never a plain space a line could break at
         assert not re.search(r"\d (?:[mµk]?[AVWΩ]\b|mm²|AWG|°C)", text), text
+
+
+def test_a_title_the_font_cannot_draw_is_refused_with_its_line_not_printed_as_boxes(tmp_path, capsys):
+    from sheetgen.outputs.pdf.fonts import unprintable
+
+    # DejaVu Sans, the bundled face, has no CJK ideographs or kana (its coverage table, dejavu-fonts.github.io,
+    # from memory); Latin, Greek and Cyrillic print.
+    assert unprintable("Zoë Ødegård Ελένη Юлия") == ""
+    assert unprintable("山田の車 田") == "山田の車"  # each once, in the order written
+    spec = tmp_path / "van.yaml"
+    spec.write_text("# a van\ntitle: 山田の車\nsupply: 12 V\nload: {kind: led, current: 20 mA, vf: 3.1 V}\n"
+                    "fade: {in: 1 s, out: 3 s}\n", encoding="utf-8")
+    assert main(["build", str(spec), "-o", str(tmp_path / "van.pdf")]) == 2
+    err = capsys.readouterr().err
+    assert f"{spec}:2: title: " in err and "cannot print (山田の車)" in err
+    assert [p.name for p in tmp_path.iterdir()] == ["van.yaml"]
+    # An event's inline design is held to the same, naming the build.
+    from sheetgen.errors import SpecError
+    from sheetgen.inputs.event import parse_event
+
+    event = ("title: Night\nbuilds:\n  - design: {title: \"Ana の\", supply: 12 V, load: {kind: led, current: 20 mA, "
+             "vf: 3 V}, fade: {in: 1 s, out: 2 s}}\n    count: 1\n")
+    with pytest.raises(SpecError, match=r"night.yaml:3: builds\[0\].design.title: .*cannot print \(の\)"):
+        parse_event(event, source="night.yaml", unprintable=unprintable)
