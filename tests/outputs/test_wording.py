@@ -275,3 +275,11 @@ def test_a_title_the_font_cannot_draw_is_refused_with_its_line_not_printed_as_bo
              "vf: 3 V}, fade: {in: 1 s, out: 2 s}}\n    count: 1\n")
     with pytest.raises(SpecError, match=r"night.yaml:3: builds\[0\].design.title: .*cannot print \(の\)"):
         parse_event(event, source="night.yaml", unprintable=unprintable)
+
+
+def test_the_door_test_step_never_reads_minus_zero():
+    from sheetgen.sizing.feeds import _about
+
+    assert _about((-0.04, 0.06)) == "0.0–0.1 V"
+    assert _about((-0.02, 0.01)) == "about 0 V"
+    assert _about((-0.3, 11.36)) == "-0.3–11.4 V"  # a real negative reading stays
