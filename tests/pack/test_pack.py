@@ -148,6 +148,29 @@ def test_kit_list_matches_an_independent_count_of_the_netlists(camper_report, ra
     assert by_item[("diode", "1N4007")].designs == ("A", "B")  # one line for both designs
 
 
+@pytest.mark.parametrize("load, item", [
+    ("{kind: led, current: 20 mA, colour: red}", "red LED"),
+    ("{kind: led, current: 15 mA, vf: 3 V}", "LED, any colour with this Vf"),
+])
+def test_an_led_kit_line_names_its_colour_forward_voltage_and_current(load, item):
+    from sheetgen.circuits.loads import kind_of
+    from sheetgen.inputs.spec import parse_spec
+    from sheetgen.model.netlist import Part
+    from sheetgen.pack.kit import _part_item
+
+    spec = parse_spec(f"supply: 12 V\nload: {load}\nfade: {{in: 1 s, out: 2 s}}\n", source="k.yaml")
+
+    def series(ref, a, b):
+        return Part(ref=ref, kind="resistor", pins=(("1", a), ("2", b)), role="led_series", value=470.0)
+
+    led = next(p for p in kind_of(spec.load).parts(spec.load, top="rail", bottom="sw", first_r=4, series=series)
+               if p.kind == "led")
+    line = _part_item(led)
+    assert line.item == item
+    assert line.value == f"Vf {format_quantity(spec.load.vf_v, 'V')}"  # the red's from the catalog
+    assert line.rating == f"runs at {format_quantity(spec.load.current_a, 'A')}"
+
+
 def test_spares_are_exact_not_float_rounded():
     assert spares_for(30, Fraction(1, 10)) == 3  # 30 × 0.1 is 3.0000000000000004 as floats: ceil gives 4
     assert spares_for(100, Fraction(7, 100)) == 7  # and 100 × 0.07 is 7.000000000000001
