@@ -34,10 +34,17 @@ def _topologies() -> tuple[str, ...]:
     return forced_names()
 
 
-def _spec(path: str):
+def _spec(path: str, *, printed: bool = False):
+    """The spec at ``path``; ``printed``: it goes on a sheet, so its title must be one the font can draw."""
     from sheetgen.inputs.spec import load_spec
 
-    return load_spec(path, topologies=_topologies())
+    return load_spec(path, topologies=_topologies(), unprintable=_unprintable() if printed else None)
+
+
+def _unprintable():
+    from sheetgen.outputs.pdf.fonts import unprintable
+
+    return unprintable
 
 
 def cmd_size(args) -> int:
@@ -90,7 +97,7 @@ def cmd_build(args) -> int:
 
     from sheetgen.inputs.layout import CardLayout, load_layout
 
-    spec = _spec(args.spec)
+    spec = _spec(args.spec, printed=True)
     layout = load_layout(args.layout)
     suffix = "-cards.pdf" if isinstance(layout, CardLayout) else ".pdf"
     out = args.output or f"{Path(args.spec).stem}{suffix}"
@@ -115,7 +122,7 @@ def cmd_pack(args) -> int:
     from sheetgen.inputs.layout import load_card_layout, load_sheet_layout
     from sheetgen.outputs.pack import make_pack
 
-    event = load_event(args.event, topologies=_topologies())
+    event = load_event(args.event, topologies=_topologies(), unprintable=_unprintable())
     for warning in event.warnings:
         print(f"warning: {warning}", file=sys.stderr)
     made = make_pack(event, sheet_layout=load_sheet_layout(args.layout), card_layout=load_card_layout(args.cards),

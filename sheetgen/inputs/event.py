@@ -36,7 +36,7 @@ from pathlib import Path
 from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
 
 from sheetgen.errors import SpecError
-from sheetgen.inputs.spec import BOARDS, Spec, load_spec, spec_from_node
+from sheetgen.inputs.spec import BOARDS, Spec, Unprintable, load_spec, spec_from_node
 from sheetgen.inputs.wires import RUNS, check_wires
 from sheetgen.reader.files import read_text
 from sheetgen.reader.text import line_problem
@@ -107,18 +107,20 @@ class Event:
         return sum(len(b.builders) for b in self.builds)
 
 
-def load_event(path: str | os.PathLike[str], *, topologies: tuple[str, ...] | None = None) -> Event:
+def load_event(path: str | os.PathLike[str], *, topologies: tuple[str, ...] | None = None,
+               unprintable: Unprintable | None = None) -> Event:
     """Read and check an event file and every spec it names; all problems raised together.
 
-    ``topologies``, when given, are the names a spec's ``topology:`` may take.
+    ``topologies``, when given, are the names a spec's ``topology:`` may take; ``unprintable``
+    checks each spec's title against the sheets' font (``load_spec``).
     """
     source = os.fspath(path)
     return parse_event(read_text(source, what="event"), source=source, folder=Path(source).parent,
-                       topologies=topologies)
+                       topologies=topologies, unprintable=unprintable)
 
 
 def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".",
-                topologies: tuple[str, ...] | None = None) -> Event:
+                topologies: tuple[str, ...] | None = None, unprintable: Unprintable | None = None) -> Event:
     """Check an event given as YAML text; ``spec:`` paths are read relative to ``folder``."""
     problems = Problems(source)
     root = compose(text, source=source)
@@ -134,7 +136,7 @@ def parse_event(text: str, *, source: str, folder: str | os.PathLike[str] = ".",
     venue = _line(top["venue"][1], "venue", problems) if "venue" in top else None
     date = _date(top["date"][1], problems) if "date" in top else None
     spares, spares_text = (_spares(top["spares"][1], problems) if "spares" in top else (Fraction(0), "0 %"))
-    reader = _SpecReader(source, Path(folder), topologies)
+    reader = _SpecReader(source, Path(folder), topologies, unprintable)
     builds = _builds(top["builds"][1], reader, problems) if "builds" in top else ()
     if "wires" in top:
         colours = _wires(top["wires"][1], problems)
@@ -261,8 +263,9 @@ def _spares(node: Node, problems: Problems) -> tuple[Fraction, str]:
 class _SpecReader:
     """Reads the specs an event names, each file once however many builds name it."""
 
-    def __init__(self, source: str, folder: Path, topologies: tuple[str, ...] | None) -> None:
-        self.source, self.folder, self.topologies = source, folder, topologies
+    def __init__(self, source: str, folder: Path, topologies: tuple[str, ...] | None,
+                 unprintable: Unprintable | None = None) -> None:
+        self.source, self.folder, self.topologies, self.unprintable = source, folder, topologies, unprintable
         self._files: dict[Path, Spec | SpecError] = {}
 
     def file(self, path: Path) -> Spec:
@@ -270,7 +273,7 @@ class _SpecReader:
         key = path.absolute()
         if key not in self._files:
             try:
-                self._files[key] = load_spec(path, topologies=self.topologies)
+                self._files[key] = load_spec(path, topologies=self.topologies, unprintable=self.unprintable)
             except SpecError as exc:
                 self._files[key] = exc
         got = self._files[key]
@@ -352,7 +355,7 @@ def _inline(node: Node, key: str, reader: _SpecReader, problems: Problems) -> tu
         return None, ""
     try:
         return spec_from_node(node, source=reader.source, key_prefix=f"{key}.design",
-                              topologies=reader.topologies), "inline design"
+                              topologies=reader.topologies, unprintable=reader.unprintable), "inline design"
     except SpecError as exc:
         problems.extend(node.start_mark.line + 1, exc.problems)
         return None, ""

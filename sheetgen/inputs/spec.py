@@ -18,7 +18,7 @@ import math
 import os
 import re
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Callable
 
 import yaml
 
@@ -29,6 +29,9 @@ from sheetgen.parts import installs as profiles
 from sheetgen.reader.files import read_text
 from sheetgen.reader.text import line_problem
 from sheetgen.reader.yamltree import Converter, compose, excerpt, suggest, unknown_key
+
+#: Given a text, the characters of it the sheets' font cannot draw, in the order written ("" when none).
+Unprintable = Callable[[str], str]
 
 __all__ = [
     "Supply",
@@ -141,19 +144,25 @@ def default_supply_span(nominal_v: float, install: str = "vehicle", system: str 
 # Reading YAML into plain data with line numbers
 
 
-def load_spec(path: str | os.PathLike[str], *, topologies: tuple[str, ...] | None = None) -> Spec:
+def load_spec(path: str | os.PathLike[str], *, topologies: tuple[str, ...] | None = None,
+              unprintable: Unprintable | None = None) -> Spec:
     """Read and check a spec file; every problem in it is raised in one ``SpecError``.
 
     ``topologies`` are the names ``topology:`` may take (besides auto), when the
     caller knows the registry; a name outside it is then refused with its line.
+    ``unprintable``, when the caller will print the spec, gives the characters of a
+    text the sheets' font cannot draw (``inputs/`` cannot see the font); a title
+    holding any is refused with its line, rather than printed as boxes.
     """
     source = os.fspath(path)
-    return parse_spec(read_text(source, what="spec"), source=source, topologies=topologies)
+    return parse_spec(read_text(source, what="spec"), source=source, topologies=topologies,
+                      unprintable=unprintable)
 
 
-def parse_spec(text: str, *, source: str, topologies: tuple[str, ...] | None = None) -> Spec:
+def parse_spec(text: str, *, source: str, topologies: tuple[str, ...] | None = None,
+               unprintable: Unprintable | None = None) -> Spec:
     """Check a spec given as YAML text; ``source`` names it in messages."""
-    problems = _Problems(source, topologies=topologies)
+    problems = _Problems(source, topologies=topologies, unprintable=unprintable)
     root = compose(text, source=source)
     if root is None:
         data: Any = None
@@ -172,14 +181,14 @@ def spec_from_mapping(data: dict, *, source: str) -> Spec:
 
 
 def spec_from_node(node: yaml.Node, *, source: str, key_prefix: str,
-                   topologies: tuple[str, ...] | None = None) -> Spec:
+                   topologies: tuple[str, ...] | None = None, unprintable: Unprintable | None = None) -> Spec:
     """Check a spec that sits inside another YAML file (an event's inline design).
 
     ``node`` is the composed mapping from that file, so problems keep its real
     line numbers; each key path is printed after ``key_prefix``
     (``builds[2].design``), so the message says which spec it is about.
     """
-    problems = _Problems(source, key_prefix=key_prefix, topologies=topologies)
+    problems = _Problems(source, key_prefix=key_prefix, topologies=topologies, unprintable=unprintable)
     problems.lines[()] = node.start_mark.line + 1
     return _build(Converter(problems.add_at, problems.lines).convert(node, ()), problems)
 
@@ -191,9 +200,11 @@ def spec_from_node(node: yaml.Node, *, source: str, key_prefix: str,
 class _Problems:
     """Collects problems with their lines so they can be reported together, in file order."""
 
-    def __init__(self, source: str, *, key_prefix: str = "", topologies: tuple[str, ...] | None = None) -> None:
+    def __init__(self, source: str, *, key_prefix: str = "", topologies: tuple[str, ...] | None = None,
+                 unprintable: Unprintable | None = None) -> None:
         self.source = source
         self.topologies = topologies  # the registry's names, when the caller gave them
+        self.unprintable = unprintable  # the characters the sheets' font lacks, when the caller gave the font
         self.key_prefix = key_prefix  # the spec's own place in a larger file, e.g. "builds[2].design"
         self.lines: dict[tuple[str, ...], int] = {}
         self._items: list[tuple[int, int, str]] = []
@@ -438,6 +449,9 @@ def _title(p: _Problems, data: dict) -> str:
         return DEFAULT_TITLE
     elif len(title) > TITLE_MAX_CHARS:
         p.add(("title",), f"is {len(title)} characters long; keep it to {TITLE_MAX_CHARS}")
+    elif p.unprintable is not None and p.unprintable(title):
+        p.add(("title",), f"{excerpt(title)} has characters the sheets' font cannot print ({p.unprintable(title)}); "
+                          "it covers Latin, Greek and Cyrillic letters: write the title in those")
     return title
 
 

@@ -57,7 +57,7 @@ _WRITE_IN = {
     "s": ("s", "ms"),
     "ohm": (OMEGA, f"k{OMEGA}"),
     "F": (f"{MICRO}F",),
-    "degC": (f"{DEGREE}C",),
+    "degC": (f"{DEGREE}C", f"{DEGREE}F"),
 }
 
 #: Prefix letter -> power of ten.  Kept as exponents so that "2200 µF" becomes

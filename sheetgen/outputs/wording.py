@@ -29,6 +29,12 @@ def standby_text(i_a: float) -> str:
     return format_quantity(i_a, "A") if i_a >= 1e-9 else "under 1 nA (no real drain)"
 
 
+def watts(p_w: float) -> str:
+    """A dissipation as printed (``59.1 mW``, never ``0.06 W`` or ``0.00 W``); below a microwatt the digits
+    mean nothing at the bench."""
+    return format_quantity(p_w, "W") if p_w >= 1e-6 else "under 1 µW"
+
+
 def volts_range(lo_hi: tuple[float, float]) -> str:
     """A meter reading window, e.g. ``10.85–14.45 V``; a window at 0 V reads ``0.00–0.00 V``, never ``-0.00``."""
     lo, hi = (0.0 if abs(v) < 0.005 else v for v in lo_hi)

@@ -16,7 +16,8 @@ __all__ = ["with_door_test"]
 
 
 def _about(lo_hi: tuple[float, float]) -> str:
-    lo, hi = lo_hi
+    """A bench window in a step's words, to 0.1 V; a reading that rounds to zero is 0.0, never -0.0."""
+    lo, hi = (0.0 if abs(v) < 0.05 else v for v in lo_hi)
     if hi < 0.05:
         return "about 0 V"
     return f"{lo:.1f}–{hi:.1f} V"

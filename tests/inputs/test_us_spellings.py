@@ -57,3 +57,11 @@ def test_an_led_current_in_the_wrong_unit_hints_milliamps(written):
 def test_a_voltage_hint_keeps_the_users_own_prefix():
     with pytest.raises(SpecError, match=r"e\.g\. 20 mA"):
         parse_quantity("20 mV", "A", key="load.current")
+
+
+@pytest.mark.parametrize("written", ["10 s", "40 V", "40 Q"])
+def test_a_temperature_in_the_wrong_unit_names_both_units_that_work(written):
+    with pytest.raises(SpecError) as info:
+        _spec(ambient=written)
+    (problem,) = info.value.problems
+    assert "us.yaml:5: ambient" in problem and "°C or °F" in problem and "(e.g. " in problem

@@ -149,19 +149,137 @@ def blocks_p(text, k):
     return plain_paragraph(text, styles().step, bulletText=f"{k}.")
 
 
-def test_card_steps_past_nine_line_up_with_the_first_nine():
-    from reportlab.pdfbase.pdfmetrics import stringWidth
+def _first_line_x(style, numbers) -> dict[int, float]:
+    """Where each numbered step's text starts on a rendered page, read back from the PDF."""
+    import io
 
+    from pypdf import PdfReader
+    from reportlab.platypus import Paragraph, SimpleDocTemplate
+
+    buf = io.BytesIO()
+    SimpleDocTemplate(buf).build([Paragraph(f"Step{k} joins", style, bulletText=f"{k}.") for k in numbers])
+    found = {}
+
+    def visit(text, cm, tm, font, size):
+        if text.startswith("Step"):
+            found[int(text[4:].split()[0])] = round(cm[4] + tm[4], 2)
+
+    PdfReader(buf).pages[0].extract_text(visitor_text=visit)
+    return found
+
+
+def test_steps_past_nine_line_up_with_the_first_nine_on_cards_and_sheets():
+    from sheetgen.outputs.pdf.blocks import styles
     from sheetgen.outputs.pdf.cards import SCALES, _styles
-    from sheetgen.outputs.pdf.fonts import BOLD
 
-    for scale in SCALES:
-        st = _styles(scale).step
-        widest = max(stringWidth(f"{k}.", BOLD, st.fontSize) for k in range(1, 100))
-        assert widest < st.leftIndent - st.bulletIndent  # the number never pushes its text to the right
+    numbers = (1, 9, 10, 11, 28, 99)
+    for name, style in [("sheet", styles().step), *((f"card at {s}", _styles(s).step) for s in SCALES)]:
+        x = _first_line_x(style, numbers)
+        assert sorted(x) == list(numbers), name
+        assert max(x.values()) - min(x.values()) < 0.01, (name, x)  # every step's text starts at one x
 
 
 def test_the_heatsink_reads_the_same_in_the_terminal_as_on_the_sheet(camper_report):
     heat = dataclasses.replace(camper_report.heat, heatsink_c_per_w=7.0921)
     text = summary_text(dataclasses.replace(camper_report, heat=heat))
     assert "(heatsink 7.1 °C/W or better)" in text  # the sheet's heat block prints "7.1 °C/W or better"
+
+
+def test_q1_heat_reads_the_same_in_the_terminal_as_on_the_sheet(camper_report):
+    from sheetgen.outputs.wording import watts
+
+    summary = summary_text(camper_report)
+    h = camper_report.heat
+    # The sheet's heat block prints watts(peak) and watts(steady) (tests/outputs/test_sheet.py); the terminal
+    # must print the same two figures, not a rounding of them that reads as zero.
+    assert f"peak {watts(h.peak_power_w)} while fading, {watts(h.steady_power_w)} fully on" in summary
+    assert 0 < h.steady_power_w < 0.005 and "0.00 W" not in summary
+
+
+def test_the_load_current_is_one_figure_in_the_summary_the_reasons_and_the_sheet(camper_report):
+    from sheetgen.inputs.units import format_quantity
+
+    steady = format_quantity(camper_report.steady_a, "A")  # what the sheet's "Load current" row prints
+    summary = summary_text(camper_report)
+    assert f"load current {steady} (steady, nominal supply)" in summary
+    printed = set(re.findall(r"carries (\d[\d.]* [mµ]?A)", " ".join(camper_report.design.reasons)))
+    assert printed == {steady}  # never the sizer's screening estimate (rated current scaled to the top supply)
+    # The one other load figure printed, the harness's, is the steady current at the top of the supply range:
+    # at least the nominal one, as the LED strings' series resistors make it rise with the supply.
+    assert camper_report.harness.max_current_a > camper_report.steady_a
+
+
+@pytest.mark.parametrize("which", ["camper_report", "railway_report"])
+def test_the_light_curve_labelled_percent_of_full_levels_at_100(which, request):
+    import numpy as np
+
+    report = request.getfixturevalue(which)
+    c = report.curves
+    # The timing plot's right axis reads "light output (% of full)", full being the steady light with the feed
+    # on (engine/measure.py FULL_MEANS): just before the feed goes the curve must sit at 100 %, not at a
+    # fraction of some rating (a lamp normalised to its rated temperature once levelled near 53 %).
+    before = c.light[np.searchsorted(c.t_s, report.design.netlist.release_s) - 1]
+    assert before == pytest.approx(1.0, abs=0.01)
+    assert float(np.max(c.light)) == pytest.approx(1.0, abs=0.02)
+
+
+def test_a_darlingtons_gain_of_a_thousand_prints_as_1000_not_1e03():
+    from types import SimpleNamespace
+
+    from sheetgen.sizing.size import OVERDRIVE_MIN, _BaseDrive
+
+    # 25 strings of 20 mA: 0.5 A, where the TIP120's datasheet minimum gain is 1000 (onsemi/Diotec TIP120
+    # data sheets: hFE at least 1000 at 0.5 A and 3 A, VCE 3 V).
+    spec = parse_spec("supply: 12 V\nload: {kind: led, current: 20 mA, vf: 3.1 V, strings: 25}\n"
+                      "fade: {in: 1 s, out: 3 s}\ntopology: darlington\n", source="d.yaml")
+    drive = _BaseDrive(spec, TOPOLOGIES["darlington"], catalog.transistor("TIP120"), OVERDRIVE_MIN)
+    reason = drive.reason(SimpleNamespace(i_load=0.5, overdrive=2.0))
+    assert "hFE_min 1000)" in reason and not re.search(r"\d[eE][+-]\d", reason)
+
+
+def test_the_card_harness_box_and_the_board_lists_keep_numbers_with_their_units(camper_report):
+    from sheetgen.outputs.pdf import cards
+    from sheetgen.outputs.pdf.board_view import board_items
+    from sheetgen.outputs.pdf.blocks import styles
+
+    st = cards._styles(1.0)
+    harness = cards._harness(camper_report, cards._Frame(st, 300.0, 100.0, None, None))
+    paragraphs = list(harness._body.items)
+    paragraphs += [f for f in board_items(camper_report.board, camper_report.design.netlist, styles().small)
+                   if hasattr(f, "text")]
+    texts = [p.text for p in paragraphs]
+    assert any("mm²" in t for t in texts)  # the fuse and wire line is among them
+    for text in texts:  # "1 A", "0.5 mm²", "20 AWG": never a plain space a line could break at
+        assert not re.search(r"\d (?:[mµk]?[AVWΩ]\b|mm²|AWG|°C)", text), text
+
+
+def test_a_title_the_font_cannot_draw_is_refused_with_its_line_not_printed_as_boxes(tmp_path, capsys):
+    from sheetgen.outputs.pdf.fonts import unprintable
+
+    # DejaVu Sans, the bundled face, has no CJK ideographs or kana (its coverage table, dejavu-fonts.github.io,
+    # from memory); Latin, Greek and Cyrillic print.
+    assert unprintable("Zoë Ødegård Ελένη Юлия") == ""
+    assert unprintable("山田の車 田") == "山田の車"  # each once, in the order written
+    spec = tmp_path / "van.yaml"
+    spec.write_text("# a van\ntitle: 山田の車\nsupply: 12 V\nload: {kind: led, current: 20 mA, vf: 3.1 V}\n"
+                    "fade: {in: 1 s, out: 3 s}\n", encoding="utf-8")
+    assert main(["build", str(spec), "-o", str(tmp_path / "van.pdf")]) == 2
+    err = capsys.readouterr().err
+    assert f"{spec}:2: title: " in err and "cannot print (山田の車)" in err
+    assert [p.name for p in tmp_path.iterdir()] == ["van.yaml"]
+    # An event's inline design is held to the same, naming the build.
+    from sheetgen.errors import SpecError
+    from sheetgen.inputs.event import parse_event
+
+    event = ("title: Night\nbuilds:\n  - design: {title: \"Ana の\", supply: 12 V, load: {kind: led, current: 20 mA, "
+             "vf: 3 V}, fade: {in: 1 s, out: 2 s}}\n    count: 1\n")
+    with pytest.raises(SpecError, match=r"night.yaml:3: builds\[0\].design.title: .*cannot print \(の\)"):
+        parse_event(event, source="night.yaml", unprintable=unprintable)
+
+
+def test_the_door_test_step_never_reads_minus_zero():
+    from sheetgen.sizing.feeds import _about
+
+    assert _about((-0.04, 0.06)) == "0.0–0.1 V"
+    assert _about((-0.02, 0.01)) == "about 0 V"
+    assert _about((-0.3, 11.36)) == "-0.3–11.4 V"  # a real negative reading stays

@@ -12,6 +12,7 @@ from __future__ import annotations
 import csv
 import io
 import math
+import re
 from collections import Counter
 from fractions import Fraction
 from pathlib import Path
@@ -145,6 +146,29 @@ def test_kit_list_matches_an_independent_count_of_the_netlists(camper_report, ra
     for line in lines:
         assert line.spares == math.ceil(line.needed / 10 - 1e-9) and line.total == line.needed + line.spares
     assert by_item[("diode", "1N4007")].designs == ("A", "B")  # one line for both designs
+
+
+@pytest.mark.parametrize("load, item", [
+    ("{kind: led, current: 20 mA, colour: red}", "red LED"),
+    ("{kind: led, current: 15 mA, vf: 3 V}", "LED, any colour with this Vf"),
+])
+def test_an_led_kit_line_names_its_colour_forward_voltage_and_current(load, item):
+    from sheetgen.circuits.loads import kind_of
+    from sheetgen.inputs.spec import parse_spec
+    from sheetgen.model.netlist import Part
+    from sheetgen.pack.kit import _part_item
+
+    spec = parse_spec(f"supply: 12 V\nload: {load}\nfade: {{in: 1 s, out: 2 s}}\n", source="k.yaml")
+
+    def series(ref, a, b):
+        return Part(ref=ref, kind="resistor", pins=(("1", a), ("2", b)), role="led_series", value=470.0)
+
+    led = next(p for p in kind_of(spec.load).parts(spec.load, top="rail", bottom="sw", first_r=4, series=series)
+               if p.kind == "led")
+    line = _part_item(led)
+    assert line.item == item
+    assert line.value == f"Vf {format_quantity(spec.load.vf_v, 'V')}"  # the red's from the catalog
+    assert line.rating == f"runs at {format_quantity(spec.load.current_a, 'A')}"
 
 
 def test_spares_are_exact_not_float_rounded():
@@ -322,6 +346,18 @@ def test_booklet_cover_builds_kit_list_and_every_design_sheet(packed):
     assert f"page 1 of {len(reader.pages)}" in first
     for page in reader.pages:
         assert (float(page.mediabox.width), float(page.mediabox.height)) == pytest.approx((595.28, 841.89), abs=0.01)
+
+
+def test_the_booklet_names_no_wire_colour_that_nobody_chose(packed):
+    out, _, _ = packed
+    reader = PdfReader(out / "booklet.pdf")
+    kit_page = next(" ".join(p.extract_text().split()) for p in reader.pages if "Kit list" in p.extract_text())
+    # Neither the example specs nor the event give wires:, so the CSV names each run, not a colour...
+    rows = list(csv.DictReader(io.StringIO((out / "kit-list.csv").read_text(encoding="utf-8-sig"), newline="")))
+    assert all("colour as you choose" in row["note"] for row in rows if row["item"].startswith("wire for"))
+    # ... and the printed list's note must not invent one.
+    assert not re.search(r"\b(red|yellow|black)\b", kit_page), kit_page
+    assert f"{WIRE_M_PER_RUN} m per build for each off-board run" in kit_page
 
 
 def test_cards_one_per_builder_with_names_as_written(packed):

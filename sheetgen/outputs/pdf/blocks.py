@@ -31,7 +31,7 @@ from sheetgen.circuits.loads import kind_of
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
 
 from sheetgen.outputs.pdf import plot
-from sheetgen.outputs.wording import current_stage_words, keep_units, led_dimming_words, refs_text, standby_text, volts_range
+from sheetgen.outputs.wording import current_stage_words, keep_units, led_dimming_words, refs_text, standby_text, volts_range, watts
 from sheetgen.parts.colour_code import bands
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import SHEET_BLOCKS
@@ -72,6 +72,18 @@ def paragraph_style(name, size, *, font=REGULAR, leading=None, **kw) -> Paragrap
                           alignment=TA_LEFT, **kw)
 
 
+def number_room(size_pt: float) -> float:
+    """The left indent a numbered step needs so that steps 10 to 99 line up with 1 to 9.
+
+    The page setter starts a paragraph's first line after its bullet plus 0.6 of the bullet's size
+    whenever that reaches past the left indent (reportlab's ``_handleBulletWidth``), so the indent must
+    hold the widest two-digit number, its full stop and that gap; a little air on top.
+    """
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    return max(stringWidth(f"{d}{d}.", BOLD, size_pt) for d in "0123456789") + 0.7 * size_pt
+
+
 @lru_cache(maxsize=1)
 def styles() -> Styles:
     """Build the styles once, after the fonts are registered."""
@@ -82,7 +94,7 @@ def styles() -> Styles:
         cell=paragraph_style("cell", 8.3),
         cell_bold=paragraph_style("cell_bold", 8.3, font=BOLD),
         heading=paragraph_style("heading", 11.5, font=BOLD, leading=13),
-        step=paragraph_style("step", 9, leftIndent=21, bulletIndent=0, bulletFontName=BOLD),
+        step=paragraph_style("step", 9, leftIndent=number_room(9), bulletIndent=0, bulletFontName=BOLD),
         bullet=paragraph_style("bullet", 8.3, leftIndent=10, bulletIndent=1),
         caution_head=paragraph_style("caution_head", 10.5, font=BOLD, textColor=WHITE),
         caution=paragraph_style("caution", 8.6, leftIndent=11, bulletIndent=2, bulletFontName=BOLD),
@@ -411,11 +423,6 @@ def seconds(t_s: float) -> str:
     return format_quantity(t_s, "s") if np.isfinite(t_s) else "does not finish"
 
 
-def watts(p_w: float) -> str:
-    """A dissipation as printed; below a microwatt the digits mean nothing at the bench."""
-    return format_quantity(p_w, "W") if p_w >= 1e-6 else "under 1 µW"
-
-
 def joules(e_j: float) -> str:
     return format_quantity(e_j, "W")[:-1] + "J"
 
@@ -709,7 +716,7 @@ def heat_block(report: Report, frame: Frame) -> Block:
         stuck = _pm(hover + f"junction <b>{m.junction_c:.0f} °C</b> on {m.heatsink.ref} (limit {escape(limit)}); "
                     f"{escape(mounting.free_air_words(m))}", s.cell)
     rows = [
-        [_p("Peak power in a fade", s.cell_bold), _p(format_quantity(h.peak_power_w, "W"), s.cell)],
+        [_p("Peak power in a fade", s.cell_bold), _p(watts(h.peak_power_w), s.cell)],
         [_p("Energy per fade", s.cell_bold), _p(joules(h.fade_energy_j), s.cell)],
         [_p("Steady, fully on", s.cell_bold), _p(watts(h.steady_power_w), s.cell)],
         [_p("Junction in use", s.cell_bold), _p(f"{h.fade_peak_junction_c:.0f} °C at most, fading on and off", s.cell)],

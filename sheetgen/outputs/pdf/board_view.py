@@ -17,6 +17,7 @@ from sheetgen.board import words
 from sheetgen.board.model import Board, Hole, row_letter
 from sheetgen.model.netlist import Netlist
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
+from sheetgen.outputs.wording import keep_units
 
 BLACK = colors.black
 WHITE = colors.white
@@ -292,5 +293,5 @@ def _lines(board: Board, netlist: Netlist) -> list[str]:
 
 def board_items(board: Board, netlist: Netlist, style) -> list[Flowable]:
     """The views and the lists in words, for a sheet block."""
-    return [BoardViews(board, netlist, font_pt=style.fontSize)] + [Paragraph(escape(t), style)
+    return [BoardViews(board, netlist, font_pt=style.fontSize)] + [Paragraph(keep_units(escape(t)), style)
                                                                     for t in _lines(board, netlist)]

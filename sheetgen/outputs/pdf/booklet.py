@@ -148,8 +148,8 @@ def _kit_block(event: Event, kit: Sequence[KitLine], *, page_height_pt: float) -
               if event.spares else "Spares: none (the event gives spares: 0 %); add some for parts that go astray.")
     note = plain_paragraph(
         f"Needed: parts per kit \u00d7 kits, summed over the designs that use the line. {spares} "
-        f"Wire: {WIRE_M_PER_RUN} m per build of each colour (red always-on feed, yellow switched feed, black ground), "
-        "a common-practice estimate; measure the real runs.", s.small)
+        f"Wire: {WIRE_M_PER_RUN} m per build for each off-board run, each line named by its run or by the colour "
+        "the spec or event chose, a common-practice estimate; measure the real runs.", s.small)
     # Whole: a list cut to leave its last lines alone on the next page reads worse than a list moved there.
     return Block("Kit list", [SizedToWidth(build), note], whole=True, page_height_pt=page_height_pt)
 

@@ -53,7 +53,7 @@ from sheetgen.sizing.protection import GUARD_ROLES
 from sheetgen.sizing.report import Report
 
 from sheetgen.outputs.wording import keep_units, refs_text, volts_range
-from sheetgen.outputs.pdf.blocks import Heading, paragraph_style, part_bands, part_groups, part_rating, part_value
+from sheetgen.outputs.pdf.blocks import Heading, number_room, paragraph_style, part_bands, part_groups, part_rating, part_value
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import CARD_BLOCKS
 from sheetgen.errors import SpecError
@@ -102,13 +102,6 @@ class _Styles:
     gap_pt: float
 
 
-def _number_room(size_pt: float) -> float:
-    """The indent that holds a step number up to 99 and its full stop, with a little air."""
-    from reportlab.pdfbase.pdfmetrics import stringWidth
-
-    return stringWidth("00.", BOLD, size_pt) + 0.3 * size_pt
-
-
 @lru_cache(maxsize=None)
 def _styles(scale: float) -> _Styles:
     """The card's styles with every size multiplied by ``scale`` (1.0: a 9 pt body)."""
@@ -125,7 +118,7 @@ def _styles(scale: float) -> _Styles:
         cell_bold=style("cell_bold", 8.6, font=BOLD),
         heading=style("heading", 9.8, font=BOLD),
         # Room for a two-digit number, so steps 10 and on line up with 1 to 9.
-        step=style("step", 9.0, leftIndent=_number_room(9.0 * scale), bulletIndent=0, bulletFontName=BOLD),
+        step=style("step", 9.0, leftIndent=number_room(9.0 * scale), bulletIndent=0, bulletFontName=BOLD),
         caution_head=style("caution_head", 9.4, font=BOLD, textColor=WHITE),
         caution=style("caution", 8.6, leftIndent=9 * scale, bulletIndent=1, bulletFontName=BOLD),
         gap_pt=3.0 * scale,
@@ -364,8 +357,8 @@ def _harness(report: Report, frame: _Frame) -> Flowable:
     h = report.harness
     trigger = ("grounded when the light should be on" if report.design.spec.trigger == "ground"
                else "goes positive when the light should be on")
-    lines = [Paragraph(f"<b>Fuse {h.fuse_a:g} A</b> (always-on feed) \u00b7 "
-                       f"<b>Wire {h.wire_mm2:g} mm² ({h.wire_awg} AWG)</b>", st.body),
+    lines = [Paragraph(keep_units(f"<b>Fuse {h.fuse_a:g} A</b> (always-on feed) \u00b7 "
+                       f"<b>Wire {h.wire_mm2:g} mm² ({h.wire_awg} AWG)</b>"), st.body),
              Paragraph(f"Switched feed: {trigger}", st.body),
              Paragraph("Wires: " + " \u00b7 ".join(escape(runs.label(report.design.spec, net))
                                                    for net, _ in report.design.topology.wiring)
@@ -374,8 +367,8 @@ def _harness(report: Report, frame: _Frame) -> Flowable:
     if m is not None:
         name = f"{m.heatsink.ref} {m.heatsink.part_number}".strip()
         kit = f" on kit {m.insulator.ref}" if m.insulator else ""
-        lines.append(Paragraph(f"<b>Q1 on heatsink {escape(name)}</b> ({m.heatsink.rating_c_per_w:g} °C/W, "
-                               f"{escape(m.heatsink.package)}){kit}", st.body))
+        lines.append(Paragraph(keep_units(f"<b>Q1 on heatsink {escape(name)}</b> ({m.heatsink.rating_c_per_w:g} °C/W, "
+                               f"{escape(m.heatsink.package)}){kit}"), st.body))
     return _Framed(lines, pad_pt=4.0 * st.gap_pt / 3.0, line_pt=1.2)
 
 

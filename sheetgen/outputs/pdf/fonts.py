@@ -48,3 +48,9 @@ def missing_glyphs(text: str, *, font: str = REGULAR) -> str:
     register()
     face = pdfmetrics.getFont(font).face
     return "".join(dict.fromkeys(ch for ch in text if ord(ch) not in face.charToGlyph))
+
+
+def unprintable(text: str) -> str:
+    """The characters of ``text`` either face cannot draw, in the order written: what a title set in bold
+    and quoted in the regular face would print as boxes."""
+    return "".join(dict.fromkeys(missing_glyphs(text, font=BOLD) + missing_glyphs(text, font=REGULAR)))
