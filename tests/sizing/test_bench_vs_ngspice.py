@@ -22,7 +22,7 @@ def _operating_point(deck: str, node: str, feed_v: float, tmp: Path) -> float:
     """ngspice's DC operating point of the deck with the feed held at ``feed_v`` and a meter on ``node``."""
     lines = []
     for line in deck.splitlines():
-        if line.startswith((".tran", ".print", ".end")) and line.strip() != ".ends":
+        if line.startswith((".tran", ".print")) or line.strip().lower() == ".end":  # a .subckt's .ends stays
             continue
         if line.startswith("VFEED "):
             line = re.sub(r"PWL\(.*\)", f"DC {feed_v:g}", line)
