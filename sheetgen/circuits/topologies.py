@@ -563,6 +563,8 @@ def _draw_cutoff(pen: Pen, netlist: Netlist) -> None:
     pen.move("down", 0.5, net=rail)
     pen.net_label(f"rail ({tp[rail].split()[0]})", "left")
     pen.resistor(upper, "right")
+    for zener in netlist.by_role("cutoff_zener"):  # a 24 V system's cut-off: its trip set by a zener
+        pen.diode(zener, "right")
     _shunt(pen, pen.resistor, lower, mark="cut_b")
     pen.wire("right", 1.0)
     pen.npn(q)

@@ -112,6 +112,10 @@ def _part_stresses(design: Design, part: Part, states, *, short_time: bool = Fal
     if part.kind == "diode":
         reverse = [-x for x in across("A", "K")]
         d = protective.find(part.part_number)
+        if part.role == "cutoff_zener":  # works in breakdown: held to its regulator current, IZM
+            series = design.netlist.by_role("cutoff_series")[0]
+            current = [(v(series.net("1")) - v(series.net("2"))) / series.value for v in states]
+            return [_worst(ref, "zener current", current, d.if_avg_a, "A")]
         if d.vz_min_v is not None:  # a TVS or gate clamp must stay below its breakdown in these faults
             return [_worst(ref, "reverse voltage", reverse, d.vz_min_v, "V")]
         return [_worst(ref, "reverse voltage", reverse, d.vrrm_v, "V")]

@@ -12,8 +12,10 @@ the board gets, whatever stage the sizer chose:
 - an over-voltage cut-off: a divider from the rail into the base of a small
   NPN that pulls the output stage's drive (base or gate) to ground above a
   jump-start threshold, so the light goes out instead of overrunning its LEDs
-  or lamp, and comes back when the supply falls.  (A divider, not a zener:
-  the engine's diode has no breakdown, and the check must be the simulator's.)
+  or lamp, and comes back when the supply falls.  A divider's trip moves with
+  V_BE (about ±13 % over −20…+60 °C); where that is wider than the gap between
+  charging and jump start (a 24 V system: 29.2 V against 36 V) a zener in the
+  divider's upper leg sets the trip instead, to its ±5 % tolerance.
 
 The step only reads the netlist (the rail is whatever hangs on ``supply``;
 the drive is the switch's base or gate), so it fits stages added later.
@@ -34,7 +36,7 @@ from sheetgen.parts import installs as profiles
 from sheetgen.parts.catalog import Diode
 from sheetgen.parts.protective import protective
 
-__all__ = ["wanted", "system_of", "apply", "drop_v", "surge_v", "cutoff_trip_v", "jump_v", "CUTOFF_ROLES", "GUARD_ROLES", "RAIL", "SUPPLY"]
+__all__ = ["wanted", "system_of", "apply", "drop_v", "surge_v", "cutoff_trip_v", "cutoff_zener", "jump_v", "CUTOFF_ROLES", "GUARD_ROLES", "RAIL", "SUPPLY"]
 
 SUPPLY = "supply"  # where the always-on wire lands: the Schottky's anode once protected
 RAIL = "rail"  # the protected rail every other part hangs from
@@ -45,6 +47,8 @@ CUTOFF_VBE_V = 0.6  # the cut-off NPN pulls hard at about this base voltage at 2
 VBE_TEMPCO_V_PER_C = -0.002  # V_BE falls about 2 mV/°C (Sedra & Smith, Microelectronic Circuits; from memory)
 COLD_C = -20.0  # the cold corner of the acceptance contract
 R_CUTOFF_BIAS_OHM = 10_000.0  # lower divider resistor (common practice, no source)
+R_CUTOFF_ZENER_OHM = 1_000.0  # in series with the cut-off zener: limits its current in a load dump (common practice, no source)
+CUTOFF_ZENERS = ("1N4752A",)  # zeners the cut-off may use, by part number, in diodes.yaml
 CUTOFF_NPN = "BC337-40"
 _DRIVE_PINS = ("B", "G")
 
@@ -135,6 +139,27 @@ def cutoff_trip_v(spec: Spec) -> float | None:
     return float(np.sqrt(lo * hi)) if lo < hi else None
 
 
+def cutoff_zener(spec: Spec) -> Diode | None:
+    """The zener that sets the cut-off's trip where a plain divider cannot, or None.
+
+    The trip is V_Z + V_BE + R_series · V_BE / R_bias.  Its lowest (the
+    zener's printed minimum, V_BE at the spec's ambient) must clear the highest
+    normal supply, and its highest (printed maximum, V_BE at −20 °C) must stay
+    under the jump start, each by CUTOFF_MARGIN_V.  A zener above about 6 V
+    rises with temperature, which only widens that window; it is left out.
+    """
+    if cutoff_trip_v(spec) is not None:
+        return None
+    _, jump = _dump_jump(spec)
+    for number in CUTOFF_ZENERS:
+        z = catalog.diode(number)
+        lo = z.vz_min_v + _vbe(spec.ambient_c) * (1 + R_CUTOFF_ZENER_OHM / R_CUTOFF_BIAS_OHM)
+        hi = z.vz_max_v + _vbe(COLD_C) * (1 + R_CUTOFF_ZENER_OHM / R_CUTOFF_BIAS_OHM)
+        if lo >= spec.supply.max_v + CUTOFF_MARGIN_V and hi <= jump - CUTOFF_MARGIN_V:
+            return z
+    return None
+
+
 def _divider(netlist: Netlist, trip_v: float, jump_v: float, npn) -> tuple[float, float]:
     """(upper, lower) divider resistors: the trip ratio, stiff enough to sink the stage's drive in a jump start.
 
@@ -182,18 +207,30 @@ def apply(netlist: Netlist, spec: Spec) -> Netlist:
                     f"TVS, breakdown {tvs.vz_min_v:g}-{tvs.vz_max_v:g} V: takes fast spikes on the supply; the "
                     f"alternator's own {dump:g} V load-dump clamp stays below it"),
     )
-    trip = cutoff_trip_v(spec)
-    if trip is not None:
+    trip, zener = cutoff_trip_v(spec), cutoff_zener(spec)
+    if trip is not None or zener is not None:
         switch = netlist.by_role("switch")[0]
         drive = next(n for p, n in switch.pins if p in _DRIVE_PINS)
         npn = catalog.transistor(CUTOFF_NPN)
-        r_top, r_bottom = _divider(netlist, trip, jump, npn)
+        if zener is not None:
+            trip = zener.vrrm_v + CUTOFF_VBE_V * (1 + R_CUTOFF_ZENER_OHM / R_CUTOFF_BIAS_OHM)
+            added += (
+                Part(ref=f"R{r}", kind="resistor", pins=(("1", RAIL), ("2", "cut_z")), role="cutoff_series",
+                     value=R_CUTOFF_ZENER_OHM, description="cut-off zener's series resistor: limits its current "
+                     "in a load dump", rating_w=0.25, tolerance=0.05, package="axial"),
+                _diode_part(f"D{d + 2}", zener, "cut_b", "cut_z", "cutoff_zener",
+                            f"{zener.vrrm_v:g} V zener: sets the cut-off's trip to within its "
+                            f"{zener.vz_min_v:g}-{zener.vz_max_v:g} V"),
+            )
+            bias = R_CUTOFF_BIAS_OHM
+        else:
+            r_top, bias = _divider(netlist, trip, jump, npn)
+            added += (Part(ref=f"R{r}", kind="resistor", pins=(("1", RAIL), ("2", "cut_b")), role="cutoff_series",
+                           value=r_top, description="cut-off divider, upper: sets the trip voltage", rating_w=0.25,
+                           tolerance=0.05, package="axial"),)
         added += (
-            Part(ref=f"R{r}", kind="resistor", pins=(("1", RAIL), ("2", "cut_b")), role="cutoff_series",
-                 value=r_top, description="cut-off divider, upper: sets the trip voltage", rating_w=0.25,
-                 tolerance=0.05, package="axial"),
             Part(ref=f"R{r + 1}", kind="resistor", pins=(("1", "cut_b"), ("2", GROUND)), role="cutoff_bias",
-                 value=r_bottom, description="cut-off divider, lower: holds the cut-off off at normal "
+                 value=bias, description="cut-off divider, lower: holds the cut-off off at normal "
                  "supply", rating_w=0.25, tolerance=0.05, package="axial"),
             Part(ref=f"Q{q}", kind="npn", pins=(("C", drive), ("B", "cut_b"), ("E", GROUND)), role="cutoff",
                  model=npn.model, part_number=npn.part_number,
@@ -206,6 +243,6 @@ def apply(netlist: Netlist, spec: Spec) -> Netlist:
     return replace(netlist, parts=moved + added, probes=netlist.probes + ((label, RAIL),))
 
 
-CUTOFF_ROLES = ("cutoff", "cutoff_series", "cutoff_bias")
+CUTOFF_ROLES = ("cutoff", "cutoff_series", "cutoff_zener", "cutoff_bias")
 #: Every part the supply guard adds, by role.
 GUARD_ROLES = ("reverse_polarity", "surge") + CUTOFF_ROLES

@@ -181,11 +181,42 @@ def test_benches_get_none_unless_asked():
     assert not protection.wanted(parse_spec(text.replace("bench", "vehicle") + "protection: false\n", source="t"))
 
 
-def test_a_24_v_system_without_a_cut_off_says_what_a_jump_start_does():
-    report = analyse(size(load_spec(EXAMPLES / "truck-sleeper-cab-light.yaml")), draws=20)
-    assert not report.design.netlist.by_role("cutoff")
-    jump = _case(report, "jump")
-    # C1's top follows the supply through its divider, so a 36 V jump lifts the LED strings over 20 mA.
-    assert not jump.ok and jump.worst.quantity == "LED string current"
-    assert any("no over-voltage cut-off" in c for c in report.cautions)
-    assert _case(report, "reverse").ok
+def test_a_24_v_system_gets_a_zener_cut_off_between_charging_and_a_jump_start():
+    spec = load_spec(EXAMPLES / "truck-sleeper-cab-light.yaml")
+    # A divider's trip moves with V_BE, 2 mV/°C (Sedra & Smith, from memory): over -20...+60 °C that is
+    # wider than 29.7...35.5 V, so the divider has no room and a zener sets the trip.
+    assert protection.cutoff_trip_v(spec) is None
+    zener = protection.cutoff_zener(spec)
+    assert zener.part_number == "1N4752A"
+    # Fairchild 1N4728A - 1N4764A, Rev. G2: 1N4752A VZ 31.35-34.65 V (from memory); the trip adds V_BE and
+    # its share across the 1 kΩ series resistor (V_BE / 10 kΩ).  The lowest trip, hot, clears the
+    # 29.2 V charging maximum and the highest, cold, stays under the ISO 16750-2 36 V jump start.
+    lo = 31.35 + (0.6 - 0.002 * (60 - 25)) * 1.1
+    hi = 34.65 + (0.6 + 0.002 * (25 + 20)) * 1.1
+    assert lo > 29.2 + 0.5 and hi < 36.0 - 0.5
+    report = analyse(size(spec), draws=20)
+    assert _case(report, "jump").ok and _case(report, "dump").ok
+    assert not any("no over-voltage cut-off" in c for c in report.cautions)
+
+
+@pytest.mark.requires_ngspice
+def test_ngspice_sees_the_zener_cut_off_leave_charging_alone_and_put_out_a_jump_start():
+    """ngspice 39 (Debian) on the exported deck, feed on: at 29.2 V the LEDs carry their current, at a
+    36 V jump the zener cut-off holds Q1 off and they go dark."""
+    from sheetgen.outputs.spice_run import run_operating_point
+
+    design = size(load_spec(EXAMPLES / "truck-sleeper-cab-light.yaml"))
+    nl = design.netlist
+    r_string = nl.by_role("led_series")[0]
+    a, b = r_string.net("1"), r_string.net("2")
+    names = node_names(nl)
+    amps = {}
+    for supply_v in (29.2, 36.0):
+        ov = {("VSUPPLY", "level"): np.array([supply_v]), ("VFEED", "level"): np.array([supply_v])}
+        deck = spice_deck(nl, overrides=ov)
+        deck = "\n".join(f"{line.split(' PWL(')[0]} DC {supply_v:g}" if line.startswith("VFEED ") else line
+                         for line in deck.splitlines())
+        got = run_operating_point(deck, vectors=[f"v({names[a]})", f"v({names[b]})"])
+        amps[supply_v] = (got[f"v({names[a]})"] - got[f"v({names[b]})"]) / r_string.value
+    assert 0.015 <= amps[29.2] <= 0.020 * 1.01
+    assert abs(amps[36.0]) < 1e-4

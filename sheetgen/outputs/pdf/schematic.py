@@ -62,7 +62,7 @@ _HALF = {"resistor": 0.3, "capacitor": 0.3, "diode": 0.3, "led": 0.3, "lamp": 0.
 _LED_ARROWS = 0.85  # how far an LED's light arrows reach on their side
 
 
-_BREAKDOWN_ROLES = ("clamp", "surge", "cutoff")
+_BREAKDOWN_ROLES = ("clamp", "surge", "cutoff_zener")
 
 
 class SchemdrawPen:
