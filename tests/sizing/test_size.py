@@ -36,7 +36,9 @@ GRID = [
 #: Valid specs no design here meets, each with the limit its refusal must name.
 REFUSED = [
     (LED2X3, 1, 1, "12 V", "light"),  # symmetric fades over a 3.3 V swing of the supply: no headroom
-    (LED24, 2, 8, "24 V", "corners of supply, gain and temperature"),
+    # Four strings of five on 24 V: with string resistors that share the current over a forward-voltage
+    # bin, a current stage reaches 2 s and 8 s only past the largest timing capacitor.
+    (LED24, 2, 8, "24 V", "fades can only be as long as C1 allows"),
     (LAMP3, 0.3, 3, "12 V", "top third of its current"),
     (LAMP3, 0.5, 20, "12 V", "top third of its current"),
 ]
@@ -105,12 +107,14 @@ def test_saturates_at_minimum_gain_and_minimum_supply():
 def test_led_series_resistor_follows_the_standard_formula_at_the_top_of_the_supply():
     # R = (Vs - n·Vf - Vce(sat)) / I (components101.com "5mm round LED"; read in the source), taken at
     # the highest supply (14.6 V) so the string never runs over its rating, with the forward voltage at
-    # the spec's ambient and the next E24 value up.  A bench supply: in a vehicle the series
+    # the spec's ambient and the next E24 value up.  Each LED at the bottom of its forward-voltage bin,
+    # 0.1 V under the stated 3.1 V (a 0.2 V bin: Lumileds DS144 bins AlGaInP 0.2 V wide; InGaN from
+    # memory), so no string of the bag can run over.  A bench supply: in a vehicle the series
     # reverse-battery Schottky's drop comes off Vs as well (tests/sizing/test_protection.py).
     d = size(_spec(LED2X3, 0.3, 3, extra="protection: false\nambient: 25 °C\n"))
-    r = (14.6 - 3 * 3.1 - 0.2 / 3) / 0.020 * 1.02
+    r = (14.6 - 3 * (3.1 - 0.1) - 0.2 / 3) / 0.020 * 1.02
     assert d.values.r_led_ohm == eseries.above("E24", r)
-    assert d.values.r_led_ohm == 270.0
+    assert d.values.r_led_ohm == 300.0
 
 
 def test_a_single_red_led_on_12v_gets_a_current_stage_within_its_rating():
