@@ -188,6 +188,12 @@ def test_mismatched_strings_stay_within_rating_and_share_fairly_in_ngspice(which
         assert nominal.min() / nominal.max() >= 0.70, (which, offsets, nominal)
         assert nominal == pytest.approx(np.array(share["nominal_spread_a"][k]), rel=0.01)
     assert share["max_a"] <= rated * 1.001 and share["ratio_at_nominal"] >= share["ratio_min"] == 0.70
+    # The JSON keeps its older keys beside the new ones: one figure per string at every corner.
+    assert report["led_current_a"] == pytest.approx(max(share["nominal_typical_a"]), rel=1e-4)
+    for corner in report["corners"]:
+        assert len(corner["led_string_max_a"]) == strings
+        assert corner["led_current_max_a"] >= max(corner["led_string_max_a"]) * (1 - 1e-9)
+    assert share["draws"]["max_a"] <= rated * 1.001 and share["draws"]["over_rating"] == 0.0
 
 
 def test_a_current_stages_string_resistors_follow_ohms_law_on_the_bin():
