@@ -124,14 +124,60 @@ class LedKind:
         return i * (headroom - i * r_total)
 
     @staticmethod
-    def draw_overrides(load: LedLoad, netlist: Netlist, rng: np.random.Generator, n: int,
-                       dt: np.ndarray) -> Overrides:
-        """Each LED's forward voltage drawn over its colour's typical-to-maximum spread, drifting with ``dt``."""
+    def vf_spread_v(load: LedLoad) -> float:
+        """How far apart two of the load's LEDs may lie in forward voltage: one bin of its colour."""
+        return led_colour(load).vf_bin_v
+
+    @staticmethod
+    def slope_ohm(load: LedLoad) -> float:
+        """One LED's slope resistance dV/dI at its rated current, from its card: RS + N·Vt / I."""
+        m = led_model(load)
+        return m["RS"] + m["N"] * VT_NOMINAL / load.current_a
+
+    @staticmethod
+    def mismatches(load: LedLoad) -> np.ndarray:
+        """The worst spreads of forward voltage over the strings, each LED's offset in volts.
+
+        Rows: the first string's LEDs at the bottom of the bin and every other string's at the
+        top (the first string takes the most of a shared current), then the reverse (the first
+        string is the dimmest).  Columns: the strings.  Centred on the spec's vf.
+        """
+        half = led_colour(load).vf_bin_v / 2
+        low_first = np.full(load.strings, half)
+        low_first[0] = -half
+        return np.stack([low_first, -low_first])
+
+    @classmethod
+    def spread_overrides(cls, load: LedLoad, netlist: Netlist, dt: np.ndarray,
+                         offsets_v: np.ndarray) -> Overrides:
+        """Each string's LEDs moved by ``offsets_v`` (strings × N, volts) in Vf, drifting with ``dt`` °C.
+
+        An offset of the card's IS by exp(-dV / (N·Vt)) moves its forward voltage by dV at every
+        current (the Shockley law the card follows).
+        """
         colour = led_colour(load)
-        spread = (colour.vf_max_v - colour.vf_typ_v) / colour.vf_typ_v
+        offsets_v = np.asarray(offsets_v, dtype=float)
+        ov = {}
+        for chain, dv in zip(led_strings(netlist), offsets_v):
+            for led in chain:
+                ov[(led.ref, "IS")] = (led.model["IS"] * np.exp(-dv / (led.model["N"] * VT_NOMINAL))
+                                       * colour.is_drift(dt, n=led.model["N"]))
+        return ov
+
+    @classmethod
+    def draw_overrides(cls, load: LedLoad, netlist: Netlist, rng: np.random.Generator, n: int,
+                       dt: np.ndarray) -> Overrides:
+        """Each LED's forward voltage drawn on its own, uniform over its colour's bin around the spec's vf.
+
+        The LEDs of a build come from one bag, one bin: every string's LEDs are drawn apart from
+        every other's, so the strings' forward voltages (and with them their shares of the
+        current) differ from draw to draw.  Each drifts with ``dt`` °C.
+        """
+        half = led_colour(load).vf_bin_v / 2
+        colour = led_colour(load)
         ov = {}
         for led in (p for p in netlist.parts if p.kind == "led"):
-            dv = load.vf_v * rng.uniform(-spread / 2, spread, n)
+            dv = rng.uniform(-half, half, n)
             ov[(led.ref, "IS")] = (led.model["IS"] * np.exp(-dv / (led.model["N"] * VT_NOMINAL))
                                    * colour.is_drift(dt, n=led.model["N"]))
         return ov
@@ -240,6 +286,14 @@ class LampKind:
     @staticmethod
     def corner_overrides(load: LampLoad, netlist: Netlist, dt: np.ndarray) -> Overrides:
         return {}
+
+    @staticmethod
+    def mismatches(load: LampLoad) -> None:
+        return None  # identical filaments: no branch takes another's share
+
+    @staticmethod
+    def vf_spread_v(load: LampLoad) -> None:
+        return None
 
     @staticmethod
     def describe(load: LampLoad, format_quantity: Callable[[float, str], str]) -> str:

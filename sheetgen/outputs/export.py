@@ -85,7 +85,24 @@ def corner_entry(c) -> dict:
     """One corner of supply, gain and temperature, as the JSON contract names its keys."""
     return {"supply_v": c.supply_v, "gain": c.gain, "temp_c": c.temp_c, **c.times,
             "light_fraction": c.light_fraction, "drive_fraction": c.drive_fraction,
-            "led_current_max_a": c.led_current_max_a, "tj_max_c": c.tj_max_c}
+            "led_current_max_a": c.led_current_max_a, "tj_max_c": c.tj_max_c,
+            "led_string_max_a": list(c.led_string_max_a) if c.led_string_max_a is not None else None}
+
+
+def led_strings_entry(report: Report) -> dict | None:
+    """The LED strings' shares of the current with their LEDs at opposite ends of one forward-voltage bin."""
+    share = report.design.strings
+    if share is None:
+        return None
+    drawn = report.spread.strings
+    series = report.design.netlist.by_role("led_series")
+    return {"vf_spread_v": share.vf_spread_v, "string_resistor_ohm": series[0].value if series else None,
+            "nominal_typical_a": list(share.typical_a),
+            "nominal_spread_a": [list(row) for row in share.nominal_a],
+            "ratio_at_nominal": share.ratio, "ratio_min": share.ratio_min,
+            "max_a": share.max_a, "max_at": share.max_where, "rated_a": share.rated_a,
+            "draws": None if drawn is None else {"max_a": drawn.max_a, "over_rating": drawn.over_rating,
+                                                 "ratio_p5": drawn.ratio_p5, "ratio_min": drawn.ratio_min}}
 
 
 def report_dict(report: Report) -> dict:
@@ -110,6 +127,7 @@ def report_dict(report: Report) -> dict:
         "corners": [corner_entry(c) for c in d.corners],
         "led_current_a": report.led_current_a,
         "led_rated_a": spec.load.current_a if report.led_current_a is not None else None,
+        "led_strings": led_strings_entry(report),
         "supply": {"nominal_v": spec.supply.nominal_v, "min_v": spec.supply.min_v, "max_v": spec.supply.max_v},
         "ambient_c": spec.ambient_c,
         "install": install_entry(spec),

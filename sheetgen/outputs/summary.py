@@ -5,7 +5,7 @@ from __future__ import annotations
 from sheetgen.sizing import mounting
 from sheetgen.sizing.report import Report
 from sheetgen.engine.measure import DEFINITIONS, FULL_MEANS
-from sheetgen.outputs.wording import current_stage_words, led_dimming_words, watts
+from sheetgen.outputs.wording import current_stage_words, led_dimming_words, led_string_words, watts
 from sheetgen.sizing.size import delay_limits
 from sheetgen.inputs.units import format_quantity
 from sheetgen.outputs.wording import refs_text, standby_text
@@ -22,8 +22,7 @@ def _value(part) -> str:
 
 
 def _led_line(report: Report) -> list[str]:
-    words = led_dimming_words(report)
-    return [f"  {words}"] if words else []
+    return [f"  {words}" for words in (led_dimming_words(report), led_string_words(report)) if words]
 
 
 def _drive_line(report: Report) -> str:

@@ -61,6 +61,21 @@ def led_dimming_words(report) -> str | None:
             f"{format_quantity(rated, 'A')} rating: sized so that at {spec.supply.max_v:g} V it stays within it")
 
 
+def led_string_words(report) -> str | None:
+    """How unequal the LED strings may run with their LEDs at opposite ends of one bin; None for one string."""
+    share = report.design.strings
+    if share is None or len(share.typical_a) < 2:
+        return None
+    spec = report.design.spec
+    currents = [i for row in share.nominal_a for i in row]
+    return (f"with one string's LEDs at the bottom of their {format_quantity(share.vf_spread_v, 'V')} "
+            f"forward-voltage bin and another's at the top, the strings carry "
+            f"{format_quantity(min(currents), 'A')} to {format_quantity(max(currents), 'A')} at "
+            f"{spec.supply.nominal_v:g} V, the dimmest {share.ratio:.0%} of the brightest (at least "
+            f"{share.ratio_min:.0%} wanted), and none more than {format_quantity(share.max_a, 'A')} "
+            f"(at {share.max_where})")
+
+
 def current_stage_words(report) -> str | None:
     """What sets the LED current in a current stage; None for a switch driven into saturation."""
     d = report.design

@@ -6,8 +6,13 @@ gain is the highest V_GS(th).  At each corner the design must
 
 * reach at least 90 % of the light the same corner gives with the switch driven
   as hard as it can go (gain × 1000): the drive, not the battery, may not dim it;
-* keep every LED string at or under its rated current;
+* keep every LED string at or under its rated current, with the strings' LEDs at
+  opposite ends of their colour's forward-voltage bin (one string's all at the bottom,
+  the others' at the top, and the reverse), not only with typical LEDs;
 * keep the junction under 125 °C, with the heatsink the sheet states.
+
+At nominal supply, with the same worst spread, the dimmest string must carry at least
+``STRING_RATIO_MIN`` of the brightest's current, or the strings glow visibly unequal.
 
 The four light times are read at each corner too, each against that corner's
 own steady light; ``light_fraction`` says how bright that steady light is
@@ -37,6 +42,9 @@ COLD_C = -20.0
 FULL_LIGHT = 0.90
 TJ_LIMIT_C = 125.0
 TJ_ROUNDING_C = 0.01  # a heatsink sized to the limit lands on it, give or take the arithmetic
+#: With the strings' LEDs at opposite ends of their bin, the dimmest string carries at least this
+#: share of the brightest's current at nominal supply (common practice, no source).
+STRING_RATIO_MIN = 0.70
 
 
 @dataclass(frozen=True)
@@ -49,8 +57,24 @@ class Corner:
     times: dict[str, float]
     light_fraction: float  # steady light at this corner / steady light at nominal
     drive_fraction: float  # steady light / the light of a hard-switched stage at this corner
-    led_current_max_a: float | None
+    led_current_max_a: float | None  # the most any string carries: typical LEDs or the worst spread of Vf
     tj_max_c: float
+    led_string_max_a: tuple[float, ...] | None = None  # each string's most under either worst spread of Vf
+
+
+@dataclass(frozen=True)
+class StringShare:
+    """How LED strings share their current when their LEDs lie at opposite ends of one bin."""
+
+    vf_spread_v: float                # the bin: how far apart two LEDs' forward voltages may lie
+    nominal_a: tuple[tuple[float, ...], ...]  # at nominal supply, typical part, 27 °C: each string's
+    #                                             current, one row per worst spread (LEDs.mismatches)
+    typical_a: tuple[float, ...]      # the same with typical LEDs
+    ratio: float                      # dimmest / brightest string at nominal, worst spread
+    ratio_min: float                  # what the ratio must reach
+    max_a: float                      # the most any string carries at any corner, worst spread
+    max_where: str                    # that corner in words
+    rated_a: float
 
 
 def _conditions(spec) -> list[tuple[float, str, float]]:
@@ -100,6 +124,11 @@ def corners(design: "Design") -> tuple[Corner, ...]:
     drive = steady / kind.light(nl, hard.v, ov)
     branches = kind.branch_currents(nl, op.v, ov)
     leds = None if branches is None else branches.max(axis=0)
+    spread = _spread_currents(design, conds[:-1], at)  # (rows, strings, corners) or None
+    worst = None
+    if spread is not None:
+        worst = spread.max(axis=0)  # each string's most over the spreads: (strings, corners)
+        leds = np.maximum(leds[:-1], worst.max(axis=0))
     tj = _junction(design, conds)
     out = []
     nominal_light = steady[-1]
@@ -107,8 +136,47 @@ def corners(design: "Design") -> tuple[Corner, ...]:
         out.append(Corner(supply_v=supply_v, gain=gain, temp_c=temp_c,
                           times={name: float(getattr(times, name)[k]) for name in LightTimes._fields},
                           light_fraction=float(steady[k] / nominal_light), drive_fraction=float(drive[k]),
-                          led_current_max_a=None if leds is None else float(leds[k]), tj_max_c=float(tj[k])))
+                          led_current_max_a=None if leds is None else float(leds[k]), tj_max_c=float(tj[k]),
+                          led_string_max_a=None if worst is None else tuple(float(x) for x in worst[:, k])))
     return tuple(out)
+
+
+def _spread_currents(design: "Design", conds, at_s: float) -> np.ndarray | None:
+    """Each string's steady current under each worst spread of Vf at each condition: (spreads, strings, N)."""
+    spec, nl = design.spec, design.netlist
+    kind = kind_of(spec.load)
+    offsets = kind.mismatches(spec.load)
+    if offsets is None:
+        return None
+    rows = [c for c in conds for _ in offsets]
+    ov = overrides(design, rows)
+    dt = np.array([c[2] for c in rows], dtype=float) - tolerance.T_MODEL_C
+    ov.update(kind.spread_overrides(spec.load, nl, dt, np.tile(offsets, (len(conds), 1)).T))
+    op = simulate.operating_point(nl, at_s=at_s, overrides=ov, n=len(rows))
+    i = kind.branch_currents(nl, op.v, ov)  # (strings, rows)
+    return i.reshape(i.shape[0], len(conds), len(offsets)).transpose(2, 0, 1)
+
+
+def string_share(design: "Design", found: tuple[Corner, ...]) -> StringShare | None:
+    """The strings' currents at nominal with their LEDs at opposite ends of the bin, and the worst corner."""
+    spec, nl = design.spec, design.netlist
+    kind = kind_of(spec.load)
+    if kind.mismatches(spec.load) is None or not found:
+        return None
+    nominal = (spec.supply.nominal_v, "typ", tolerance.T_MODEL_C)
+    at = nl.release_s * 0.999
+    spread = _spread_currents(design, [nominal], at)[:, :, 0]  # (spreads, strings)
+    ov = overrides(design, [nominal])
+    op = simulate.operating_point(nl, at_s=at, overrides=ov, n=1)
+    typical = kind.branch_currents(nl, op.v, ov)[:, 0]
+    worst = max(found, key=lambda c: c.led_current_max_a)
+    ratio = float(min(row.min() / row.max() for row in spread))
+    return StringShare(vf_spread_v=float(kind.vf_spread_v(spec.load)),
+                       nominal_a=tuple(tuple(float(x) for x in row) for row in spread),
+                       typical_a=tuple(float(x) for x in typical), ratio=ratio, ratio_min=STRING_RATIO_MIN,
+                       max_a=float(worst.led_current_max_a),
+                       max_where=f"{worst.supply_v:g} V, {worst.temp_c:g} °C, {worst.gain} gain",
+                       rated_a=float(kind.branch_rating_a(spec.load)))
 
 
 def _junction(design: "Design", conds) -> np.ndarray:
@@ -124,17 +192,22 @@ def _junction(design: "Design", conds) -> np.ndarray:
     return np.array([temp_c + p * rth for p, (_, _, temp_c) in zip(power, conds)])
 
 
-def failures(design: "Design", found: tuple[Corner, ...]) -> list[str]:
+def failures(design: "Design", found: tuple[Corner, ...], share: StringShare | None = None) -> list[str]:
     """What fails the acceptance rules, worst first, in words a refusal can print."""
     out = []
+    if share is not None and len(share.nominal_a[0]) > 1 and share.ratio < share.ratio_min:
+        out.append(f"with one string's LEDs at the bottom of their {share.vf_spread_v:g} V bin and another's at "
+                   f"the top, the dimmest string carries only {share.ratio:.0%} of the brightest's current at "
+                   f"{design.spec.supply.nominal_v:g} V (at least {share.ratio_min:.0%} wanted)")
     rated = kind_of(design.spec.load).branch_rating_a(design.spec.load)
     for c in found:
         where = f"at {c.supply_v:g} V, {c.temp_c:g} °C, {c.gain} gain"
         if c.drive_fraction < FULL_LIGHT:
             out.append(f"{where} the light reaches only {c.drive_fraction:.0%} of full drive")
         if rated is not None and c.led_current_max_a > rated * (1 + 1e-3):
-            out.append(f"{where} an LED string carries {format_quantity(c.led_current_max_a, 'A')}, over its "
-                       f"{format_quantity(rated, 'A')} rating")
+            spread = "" if c.led_string_max_a is None else " with its LEDs at the bottom of their forward-voltage bin"
+            out.append(f"{where} an LED string carries {format_quantity(c.led_current_max_a, 'A')}{spread}, over "
+                       f"its {format_quantity(rated, 'A')} rating")
         if c.tj_max_c > TJ_LIMIT_C + TJ_ROUNDING_C:
             out.append(f"{where} the junction would reach {c.tj_max_c:.0f} °C")
     return out

@@ -29,3 +29,4 @@ class Design:
     delay_on_s: float = float("nan")  # light times per the timing contract (engine.measure)
     hold_off_s: float = float("nan")
     corners: tuple = ()  # sizing.corners.Corner, one per corner, set once accepted
+    strings: "object" = None  # sizing.corners.StringShare: LED strings' currents with their Vf spread, or None

@@ -69,7 +69,8 @@ REFINE_WITHIN = 3.0  # a miss within this many times the band is worth searching
 SETTLE_TAUS = 5.0  # the capacitor is within 1 % of its final voltage after five time constants
 YIELD_ATTEMPTS = 3
 STIFF_DIVIDER = 0.94  # C1's top with the weakest part's base load, against no load at all (first-guess filter)
-BALLAST_V = 0.3  # a current stage's string resistors drop this at the rated current, to share it (common practice, no source)
+BALLAST_V = 0.3  # a current stage's string resistors drop at least this at the rated current, to share it (common practice, no source)
+SHARE_MARGIN = 1.1  # a current stage whose strings share too unequally: its string resistors sized again for 10 % less current
 CURRENT_STAGE_R3_OHM = 1000.0  # isolates a current stage's base from C1; its drop is small (common practice, no source)
 VBE_CORNER_SHIFT_V = 2e-3  # V_BE falls about 2 mV/°C (common practice, no source): the stage's current at a hot ambient
 LED_CURRENT_MARGIN = 1.02  # the string resistor 2 % above the exact figure, for the solver's own Vce(sat)
@@ -104,19 +105,39 @@ def size(spec: Spec) -> Design:
 def _size_topology(spec: Spec, topology: Topology, refusals: list[str], c_max: float) -> Design | None:
     """The first transistor of this topology that meets the spec, or None (refusals say why)."""
     for q in _transistor_candidates(spec, topology, refusals):
-        od_min, led_scale = OVERDRIVE_MIN, 1.0
+        od_min, led_scale, share_a = OVERDRIVE_MIN, 1.0, None
+        rated = kind_of(spec.load).branch_rating_a(spec.load)
         try:
-            for _ in range(YIELD_ATTEMPTS):
-                design = _size_with(spec, topology, q, od_min, c_max, led_scale)
+            for _ in range(YIELD_ATTEMPTS + 2):
+                design = _size_with(spec, topology, q, od_min, c_max, led_scale, share_a)
                 found = corner_checks.corners(design)
-                fails = corner_checks.failures(design, found)
+                share = corner_checks.string_share(design, found)
+                fails = corner_checks.failures(design, found, share)
                 if not fails:
-                    y = tolerance.full_brightness_yield(design, tolerance.draw(design))
-                    return replace(design, full_brightness_yield=y, corners=found,
-                                   reasons=design.reasons + tuple(f"not {r}" for r in refusals))
+                    sample = tolerance.draw(design)
+                    drawn = tolerance.string_draws(tolerance.string_currents(design, sample), rated)
+                    if drawn is None or drawn.max_a <= rated * (1 + 1e-3):
+                        y = tolerance.full_brightness_yield(design, sample)
+                        return replace(design, full_brightness_yield=y, corners=found, strings=share,
+                                       reasons=design.reasons + tuple(f"not {r}" for r in refusals))
+                    fails = [f"over {tolerance.DEFAULT_DRAWS} tolerance draws an LED string carries up to "
+                             f"{format_quantity(drawn.max_a, 'A')}, over its {format_quantity(rated, 'A')} rating"]
+                    led_scale *= drawn.max_a / rated * 1.01  # a larger string resistor, then size the timing again
+                    continue
                 over = max((c.led_current_max_a / spec.load.current_a for c in found
                             if c.led_current_max_a is not None), default=0.0)
-                if over > 1.0:
+                unequal = share is not None and len(share.typical_a) > 1 and share.ratio < share.ratio_min
+                if unequal and not topology.stage.emitter_resistor:
+                    # A saturating stage's string resistors set each string's current from the headroom
+                    # left over the LEDs; a larger resistor lowers every string alike, so the ratio stays.
+                    raise _NoFit(fails[0] + ": its string resistors share out only the headroom the LEDs leave; "
+                                 "fewer LEDs per string or a higher supply would")
+                if unequal:
+                    # Ohm's law on the bin again, at the current the strings were found to carry at nominal,
+                    # with a margin for the current the larger resistors take away.
+                    now = float(np.mean(share.typical_a)) / SHARE_MARGIN
+                    share_a = now if share_a is None else min(share_a / SHARE_MARGIN, now)
+                elif over > 1.0:
                     led_scale *= over * 1.01  # a larger string resistor, then size the timing again
                 else:
                     od_min *= 1.25  # strengthen the drive and size again
@@ -144,23 +165,56 @@ def _topologies(spec: Spec) -> tuple[Topology, ...]:
 
 
 # ------------------------------------------------------------ transistor
-def _led_resistor(spec: Spec, stage: Stage, scale: float = 1.0) -> float | None:
+def ballast_ohm(*, per_string: int, strings: int, vf_spread_v: float, slope_ohm: float, current_a: float,
+                ratio: float) -> float:
+    """The least string resistor that keeps the dimmest string at ``ratio`` of the brightest (not rounded).
+
+    The strings share one current, so a string whose ``per_string`` LEDs lie ``vf_spread_v`` lower
+    than another's carries more by Ohm's law: the two differ by x = n·ΔVf / (R + n·r_d), with r_d
+    each LED's slope resistance.  With the strings sharing N·I, the worst is one string at the top
+    of the bin and all the others at the bottom: the dimmest carries I − x (N−1)/N and the brightest
+    I + x/N, so dimmest ≥ ratio · brightest wants x ≤ (1 − ratio)·N·I / (N − 1 + ratio).
+    """
+    n, big_n = per_string, strings
+    x = (1 - ratio) * big_n * current_a / (big_n - 1 + ratio)
+    return max(n * vf_spread_v / x - n * slope_ohm, 0.0)
+
+
+def string_hog_a(*, per_string: int, strings: int, vf_spread_v: float, slope_ohm: float, ballast: float) -> float:
+    """How much more than the average a string with its LEDs at the bottom of the bin carries, the others at the top."""
+    if strings < 2:
+        return 0.0
+    return per_string * vf_spread_v * (strings - 1) / strings / (ballast + per_string * slope_ohm)
+
+
+def _led_resistor(spec: Spec, stage: Stage, scale: float = 1.0, share_a: float | None = None) -> float | None:
     load = spec.load
-    if not kind_of(load).series_resistor:
+    kind = kind_of(load)
+    if not kind.series_resistor:
         return None
-    # R = (Vmax - n·Vf(hot) - Vce(sat)) / I, at the top of the supply range and the spec's ambient
-    # (the forward voltage falls as the LED warms), rounded up to E24: the string never exceeds its
-    # rated current, and is dimmer at nominal supply.  Vce(sat) is taken at a third of the stage's
-    # figure, as a lightly loaded switch drops less.
-    if stage.emitter_resistor:  # R_E sets the current; each string's resistor only shares it out
-        return eseries.above("E24", BALLAST_V / load.current_a)
+    half_bin = kind.vf_spread_v(load) / 2
+    if stage.emitter_resistor:
+        # R_E sets the strings' total; each string's resistor shares it out.  Sized so that with one
+        # string's LEDs at the bottom of the bin and another's at the top the dimmest string keeps
+        # STRING_RATIO_MIN of the brightest's current at nominal supply, where C1's charge and with it
+        # the current stand at about nominal / maximum of the rated current (a first guess: the
+        # corners check it by simulation, and ``share_a`` then gives the current they found).
+        i_nominal = load.current_a * spec.supply.nominal_v / spec.supply.max_v if share_a is None else share_a
+        r = ballast_ohm(per_string=load.per_string, strings=load.strings, vf_spread_v=2 * half_bin,
+                        slope_ohm=kind.slope_ohm(load), current_a=i_nominal,
+                        ratio=corner_checks.STRING_RATIO_MIN) if load.strings > 1 else 0.0
+        return eseries.above("E24", max(r, BALLAST_V / load.current_a))
+    # R = (Vmax - n·Vf(low, hot) - Vce(sat)) / I, at the top of the supply range and the spec's ambient
+    # (the forward voltage falls as the LED warms), with every LED at the bottom of its bin, rounded up
+    # to E24: no string exceeds its rated current, and all are dimmer at nominal supply.  Vce(sat) is
+    # taken at a third of the stage's figure, as a lightly loaded switch drops less.
     colour = led_colour(load)
-    vf_hot = load.vf_v + colour.tc_v_per_c * (spec.ambient_c - 25.0)
+    vf_hot = load.vf_v - half_bin + colour.tc_v_per_c * (spec.ambient_c - 25.0)
     headroom = spec.supply.max_v - protection.drop_v(spec) - load.per_string * vf_hot - stage.vce_sat_v / 3
     r = headroom / load.current_a * LED_CURRENT_MARGIN * scale
-    if r <= 0 or spec.supply.min_v - load.per_string * load.vf_v - stage.vce_sat_v <= 0:
-        raise _NoFit(f"{load.per_string} LEDs of {load.vf_v:g} V plus the switch's {stage.vce_sat_v:g} V "
-                     f"leave no headroom at {spec.supply.min_v:g} V")
+    if r <= 0 or spec.supply.min_v - load.per_string * (load.vf_v + half_bin) - stage.vce_sat_v <= 0:
+        raise _NoFit(f"{load.per_string} LEDs of {load.vf_v:g} V (up to {load.vf_v + half_bin:g} V at the top of "
+                     f"their bin) plus the switch's {stage.vce_sat_v:g} V leave no headroom at {spec.supply.min_v:g} V")
     return eseries.above("E24", r)
 
 
@@ -306,9 +360,9 @@ class _Trial:
 
 
 def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_max: float,
-               led_scale: float = 1.0) -> Design:
-    r_led = _led_resistor(spec, topology.stage, led_scale)
-    drive = _drive_for(topology.stage)(spec, topology, q, od_min)
+               led_scale: float = 1.0, share_a: float | None = None) -> Design:
+    r_led = _led_resistor(spec, topology.stage, led_scale, share_a)
+    drive = _drive_for(topology.stage)(spec, topology, q, od_min, r_led=r_led)
     drive.led_scale = led_scale
     base_values = Values(transistor=q, diode=catalog.diode(DIODE), r_charge_ohm=1.0, r_bleed_ohm=1.0,
                          r_base_ohm=1.0, c_timing_f=1.0, r_led_ohm=r_led,
@@ -489,7 +543,7 @@ class _BaseDrive:
 
     clamp = None
 
-    def __init__(self, spec: Spec, topology: Topology, q: Transistor, od_min: float):
+    def __init__(self, spec: Spec, topology: Topology, q: Transistor, od_min: float, r_led: float | None = None):
         self.spec, self.q, self.od_min = spec, q, od_min
         self.od_max = od_min * OVERDRIVE_MAX / OVERDRIVE_MIN
         self.vbe_on = topology.stage.v_drive_v
@@ -573,7 +627,7 @@ class _GateDrive:
     while the gate crosses the narrow window above threshold.
     """
 
-    def __init__(self, spec: Spec, topology: Topology, q: Transistor, od_min: float):
+    def __init__(self, spec: Spec, topology: Topology, q: Transistor, od_min: float, r_led: float | None = None):
         self.spec, self.q = spec, q
         self.margin = od_min / OVERDRIVE_MIN  # grows if tolerance yield asks for more gate drive
         self.i_nom = rated_current_a(spec.load)
@@ -651,18 +705,30 @@ class _CurrentDrive:
     clamp = None
     led_scale = 1.0
 
-    def __init__(self, spec: Spec, topology: Topology, q: Transistor, od_min: float):
+    def __init__(self, spec: Spec, topology: Topology, q: Transistor, od_min: float, r_led: float | None = None):
         self.spec, self.q = spec, q
         self.vbe = topology.stage.v_drive_v
         load = spec.load
-        self.i_rated = rated_current_a(load)
+        kind = kind_of(load)
+        spread = kind.vf_spread_v(load)
+        r_led = _led_resistor(spec, topology.stage) if r_led is None else r_led
+        # With one string's LEDs at the bottom of the bin and the others' at the top, that string carries
+        # more than the average: the strings' total is held down so that it too stays within its rating.
+        hog = string_hog_a(per_string=load.per_string, strings=load.strings, vf_spread_v=spread,
+                           slope_ohm=kind.slope_ohm(load), ballast=r_led)
+        self.i_rated = load.strings * (load.current_a - hog)
+        if self.i_rated <= 0.3 * rated_current_a(load):
+            raise _NoFit(f"with the strings' LEDs {spread:g} V apart, {format_quantity(r_led, 'ohm')} string "
+                         "resistors would leave the others too little of the current")
         # The weakest part in the cold loads the divider most.
         self.beta = q.hfe_min_at(self.i_rated) * (1 + tolerance.HFE_TC_PER_C * (corner_checks.COLD_C
                                                                                - tolerance.T_MODEL_C))
-        ballast = eseries.above("E24", BALLAST_V / load.current_a) * load.current_a
-        # What R_E may drop at the bottom of the range, with the LEDs and the ballast, before Q1 saturates.
-        self.room_v = (spec.supply.min_v - protection.drop_v(spec) - load.per_string * load.vf_v - ballast
-                       - max(0.3, topology.stage.vce_sat_v))
+        self.r_led = r_led
+        ballast = r_led * load.current_a
+        # What R_E may drop at the bottom of the range, with the LEDs at the top of their bin and the
+        # ballast, before Q1 saturates.
+        self.room_v = (spec.supply.min_v - protection.drop_v(spec) - load.per_string * (load.vf_v + spread / 2)
+                       - ballast - max(0.3, topology.stage.vce_sat_v))
         self.hot = VBE_CORNER_SHIFT_V * (spec.ambient_c - tolerance.T_MODEL_C)
 
     def _vc(self, supply_v, R1, RD, R2, RE, beta=None):
@@ -676,7 +742,12 @@ class _CurrentDrive:
     def grid(self, C, R1, R2):
         s = self.spec
         if self.room_v <= 0.3:
-            raise _NoFit(f"the LEDs leave Q1 and its emitter resistor no room at {s.supply.min_v:g} V")
+            load = s.load
+            top = load.per_string * (load.vf_v + kind_of(load).vf_spread_v(load) / 2)
+            raise _NoFit(f"the LEDs (up to {top:.3g} V a string at the top of their bin) and the "
+                         f"{format_quantity(self.r_led, 'ohm')} string resistors that share the current evenly "
+                         f"({self.r_led * load.current_a:.2g} V) leave Q1 and its emitter resistor no room at "
+                         f"{s.supply.min_v:g} V")
         target = self.i_rated / self.led_scale
         # C1's top voltage at the bottom of the range, cold: R_E then drops 80 % of the room there.
         vc_min = self.vbe + self.hot + 0.8 * self.room_v

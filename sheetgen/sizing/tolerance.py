@@ -7,14 +7,17 @@ simulator as overrides, so N draws cost one batched run:
 * each bipolar transistor's gain log-uniform between the catalog's minimum and
   maximum at the operating current (BF of the typical card scaled by the drawn
   ratio); a MOSFET's threshold uniform over the catalog's range;
-* each LED's forward voltage uniform from half its colour's upward spread below
-  the stated value to the full spread above it (vf_max − vf_typ of the catalog), plus
-  the colour's temperature coefficient of Vf over the drawn ambient;
+* each LED's forward voltage drawn on its own, uniform over one forward-voltage bin
+  of its colour (the catalog's vf_bin_v) centred on the stated value, so every
+  string's forward voltage, and its share of the current, is drawn apart from the
+  others'; plus the colour's temperature coefficient of Vf over the drawn ambient;
 * the supply uniform between the spec's minimum and maximum (feed and always-on
   alike);
 * ambient uniform over the 25 °C below the spec's worst case, which moves the
   transistor's Vbe by −2 mV/°C and its gain by +0.5 %/°C from 27 °C (common
   practice, no source), applied as IS and BF of the card.
+
+Every draw must keep every LED string at or under its rated current (``string_currents``).
 
 "Full brightness" for a draw means its steady on current is at least 90 % of
 the current the same draw carries with the switch driven as hard as it can go
@@ -116,6 +119,33 @@ def full_brightness_yield(design: "Design", draws: Draws) -> float:
     return float(np.mean(real >= FULL_BRIGHTNESS * ideal))
 
 
+def string_currents(design: "Design", draws: Draws) -> np.ndarray | None:
+    """Each LED string's steady current with the feed on, over the draws: (strings, N), or None."""
+    nl = design.netlist
+    op = simulate.operating_point(nl, at_s=nl.release_s * 0.999, overrides=draws.overrides, n=draws.n)
+    return kind_of(design.spec.load).branch_currents(nl, op.v, draws.overrides)
+
+
+@dataclass(frozen=True)
+class StringDraws:
+    """The LED strings' currents over the draws, each string's LEDs drawn apart from the others'."""
+
+    max_a: float            # the most any string carried in any draw
+    over_rating: float      # fraction of draws in which some string carried more than its rating
+    ratio_p5: float         # 5th percentile over the draws of dimmest / brightest string
+    ratio_min: float        # the least of it in any draw
+
+
+def string_draws(currents: np.ndarray | None, rated_a: float | None) -> StringDraws | None:
+    """Summary of :func:`string_currents` against the strings' rating; None for a single string or no rating."""
+    if currents is None or rated_a is None:
+        return None
+    top, low = currents.max(axis=0), currents.min(axis=0)
+    ratio = np.where(top > 0, low / np.where(top > 0, top, 1.0), 1.0)
+    return StringDraws(max_a=float(top.max()), over_rating=float(np.mean(top > rated_a * (1 + 1e-3))),
+                       ratio_p5=float(np.percentile(ratio, 5)), ratio_min=float(ratio.min()))
+
+
 def hard_switched(netlist, ov: dict, n: int) -> dict:
     """The same overrides with the switch's gain (or a MOSFET's KP) raised a thousandfold:
     the stage driven as hard as it can go, the reference "full brightness" is read against."""
@@ -142,6 +172,7 @@ class Spread:
     t_s: np.ndarray
     load_p5_a: np.ndarray
     load_p95_a: np.ndarray
+    strings: StringDraws | None = None
 
 
 def spread(design: "Design", draws: Draws) -> Spread:
@@ -159,7 +190,10 @@ def spread(design: "Design", draws: Draws) -> Spread:
         p = np.percentile(x, [5, 50, 95])
         return tuple(float(v) for v in p)
 
+    kind = kind_of(design.spec.load)
+    strings = string_draws(kind.branch_currents(nl, op.v, draws.overrides), kind.branch_rating_a(design.spec.load))
     return Spread(draws=draws.n, delay_on_s=pct(times.delay_on_s), fade_in_s=pct(times.fade_in_s),
                   hold_off_s=pct(times.hold_off_s), fade_out_s=pct(times.fade_out_s),
                   full_brightness_yield=full_brightness_yield(design, draws), t_s=tr.t_s,
-                  load_p5_a=np.percentile(load, 5, axis=0), load_p95_a=np.percentile(load, 95, axis=0))
+                  load_p5_a=np.percentile(load, 5, axis=0), load_p95_a=np.percentile(load, 95, axis=0),
+                  strings=strings)

@@ -31,7 +31,8 @@ from sheetgen.circuits.loads import kind_of
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
 
 from sheetgen.outputs.pdf import plot
-from sheetgen.outputs.wording import current_stage_words, keep_units, led_dimming_words, refs_text, standby_text, volts_range, watts
+from sheetgen.outputs.wording import (current_stage_words, keep_units, led_dimming_words, led_string_words, refs_text,
+                                     standby_text, volts_range, watts)
 from sheetgen.parts.colour_code import bands
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import SHEET_BLOCKS
@@ -510,7 +511,7 @@ def summary_block(report: Report, frame: Frame) -> Block:
         [_p("Load current", s.cell_bold),
          _pm(f"<b>{escape(format_quantity(report.steady_a, 'A'))}</b> steady, at "
              f"{escape(format_quantity(sup.nominal_v, 'V'))}", s.cell),
-         _p(_sentence(led_dimming_words(report) or ""), s.cell)],
+         _p(" ".join(_sentence(w) for w in (led_dimming_words(report), led_string_words(report)) if w), s.cell)],
         [_p("Real parts", s.cell_bold),
          _pm(f"fade-in <b>{escape(spread_text(report.spread.fade_in_s))}</b><br/>"
              f"fade-out <b>{escape(spread_text(report.spread.fade_out_s))}</b><br/>"

@@ -187,6 +187,7 @@ class LedColour:
     at_a: float             # test current
     vf_low_v: float         # typical forward voltage at 1 % of at_a
     tc_v_per_c: float       # temperature coefficient of Vf at at_a, V/°C (negative)
+    vf_bin_v: float         # width of one forward-voltage bin at at_a: how far apart two LEDs of one bag may lie
     model: Model            # diode card (IS, N, RS, EG, XTI) through both points, with the tempco
     sources: tuple[str, ...]
 
@@ -650,7 +651,7 @@ def _diode(data: Any, where: str) -> Diode:
 
 def _led(data: Any, where: str) -> LedColour:
     e = _Entry(data, where, ("name", "vf_typ_v", "vf_max_v", "at_a", "vf_low_v", "tc_v_per_c",
-                             "model", "sources"))
+                             "vf_bin_v", "model", "sources"))
     given = _model(e.raw("model"), f"{where}.model")
     if given.kind != "D" or [k for k, _ in given.params] != ["RS"]:
         raise CatalogDataError(f"{where}.model: kind D with params {{RS}} only; IS, N and EG are fitted")
@@ -664,9 +665,12 @@ def _led(data: Any, where: str) -> LedColour:
         ("IS", float(f"{is_a:.6g}")), ("N", float(f"{n:.6g}")), ("RS", rs),
         ("EG", float(f"{eg:.6g}")), ("XTI", 0.0)))
     led = LedColour(name=_norm_name(e.text("name")), vf_typ_v=vf, vf_max_v=e.num("vf_max_v"), at_a=at,
-                    vf_low_v=vf_low, tc_v_per_c=tc, model=model, sources=e.sources())
+                    vf_low_v=vf_low, tc_v_per_c=tc, vf_bin_v=e.num("vf_bin_v"), model=model,
+                    sources=e.sources())
     if led.vf_max_v < led.vf_typ_v:
         raise CatalogDataError(f"{where}: vf_max_v below vf_typ_v")
+    if not 0 < led.vf_bin_v < led.vf_typ_v / 4:
+        raise CatalogDataError(f"{where}: vf_bin_v must be above 0 and well below vf_typ_v")
     return led
 
 
