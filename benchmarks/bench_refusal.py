@@ -1,6 +1,6 @@
 """Time to an honest refusal against the slowest example design, in the same run.
 
-    python benchmarks/bench_refusal.py [--repeat N] [--only NAME,NAME,...]
+    python benchmarks/bench_refusal.py [--repeat N] [--only "NAME;NAME;..."]
 
 Every spec in examples/ (and examples/refused/) runs through ``python -m sheetgen check
 --no-cache`` in its own process, one at a time, as a builder would run it; the design cache is
@@ -91,9 +91,9 @@ def best_of(path: Path, repeat: int) -> tuple[int | None, float, float, str]:
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--repeat", type=int, default=1)
-    ap.add_argument("--only", help="comma-separated names of hard cases (or example file names) to run")
+    ap.add_argument("--only", help="names of the hard cases to run, separated by semicolons (the examples always run)")
     args = ap.parse_args()
-    only = {x.strip() for x in args.only.split(",")} if args.only else None
+    only = {x.strip() for x in args.only.split(";")} if args.only else None
 
     results = []  # (name, code, wall, cpu, said, kind)
     for path in EXAMPLES:

@@ -695,10 +695,12 @@ class _GateDrive:
         _, off_max = delay_limits(spec)
         if off_max < least_hold * shortest_out:
             asked = f"the {spec.delay_off_s:g} s hold off asked" if spec.delay_off_s else f"at most {off_max:.2g} s"
+            # Unasked, the hold may last max(0.5 s, the fade-out): only a fade-out under 0.5 s gains room.
+            room = off_max if spec.delay_off_s else min(off_max, 0.5)
             return (f"its gate falls from the divider's top voltage to the narrow range where the light fades only "
                     f"slowly, so it holds at full for at least about {least_hold:.2g} × its fade-out: "
                     f"{least_hold * shortest_out:.2g} s with a fade-out of {spec.fade_out_s:g} s, against {asked}; a "
-                    f"fade-out of at most {off_max / (least_hold * (1 - ACCURACY)):.2g} s, a longer hold, or a bipolar "
+                    f"fade-out of at most {room / (least_hold * (1 - ACCURACY)):.2g} s, a longer hold, or a bipolar "
                     "or current stage would suit it")
         ratio = cls.fade_ratio_max(spec, topology, q)
         shortest_in = spec.fade_in_s * (1 - ACCURACY)

@@ -84,10 +84,15 @@ def test_the_hold_bound_refuses_just_outside_and_searches_just_inside():
     assert "What would work" in text
 
 
-def test_no_bound_without_a_hold_asked():
-    assert sizer._CurrentDrive.beyond_reach(_spec()) is None
-    assert sizer._BaseDrive.beyond_reach(_spec("delay: {off: 30 s}\n")) is None
-    assert sizer._GateDrive.beyond_reach(_spec("delay: {off: 30 s}\n")) is None
+def test_no_bound_where_none_is_derived():
+    """The current stage's bound needs a hold asked; the saturating switch has none; the MOSFET's are
+    bounds of its part, not of the stage."""
+    top = sizer.TOPOLOGIES
+    assert sizer._CurrentDrive.beyond_reach(_spec(), top["npn-current"]) is None
+    assert sizer._BaseDrive.beyond_reach(_spec("delay: {off: 30 s}\n"), top["npn"]) is None
+    assert sizer._BaseDrive.beyond_reach(_spec("delay: {off: 30 s}\n"), top["npn"],
+                                         catalog.transistor("BC337-40")) is None
+    assert sizer._GateDrive.beyond_reach(_spec("delay: {off: 30 s}\n"), top["mosfet"]) is None
 
 
 def test_a_higher_voltage_grade_is_the_same_part_inside():
