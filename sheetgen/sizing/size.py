@@ -31,6 +31,7 @@ import numpy as np
 from sheetgen.parts import catalog
 from sheetgen.parts import eseries
 from sheetgen.engine import simulate
+from sheetgen.engine.devices import VT_NOMINAL
 from sheetgen.sizing import protection
 from sheetgen.sizing import corners as corner_checks
 from sheetgen.sizing import tolerance
@@ -66,6 +67,11 @@ C_PENALTY = 0.01  # a tenfold larger capacitor must buy 2.3 % of accuracy: cans 
 ROUNDS = 4
 REFINE_ROUNDS = 3  # rounds of simulating a near miss's neighbours on the grid
 REFINE_WITHIN = 3.0  # a miss within this many times the band is worth searching around
+#: A stage gives up after its first round when every candidate simulated missed by more than this
+#: and so does the closed form, recalibrated on what the simulator said, for every grid entry not
+#: yet simulated: the search picks by that guess, so the next round would try entries it already
+#: places this far off, and after it the search stops anyway when the best is still past this.
+FAR_OFF = 4 * ACCURACY
 SETTLE_TAUS = 5.0  # the capacitor is within 1 % of its final voltage after five time constants
 YIELD_ATTEMPTS = 3
 STIFF_DIVIDER = 0.94  # C1's top with the weakest part's base load, against no load at all (first-guess filter)
@@ -103,8 +109,35 @@ def size(spec: Spec) -> Design:
 
 
 def _size_topology(spec: Spec, topology: Topology, refusals: list[str], c_max: float) -> Design | None:
-    """The first transistor of this topology that meets the spec, or None (refusals say why)."""
-    for q in _transistor_candidates(spec, topology, refusals):
+    """The first transistor of this topology that meets the spec, or None (refusals say why).
+
+    A part that is the same inside as one already refused here (a higher voltage grade of it:
+    the same cards, gains, ratings and thermal path, see ``_inside``) is refused for the same
+    reason without being sized again.  The sizing is deterministic and reads nothing of a
+    candidate but what ``_inside`` keeps (its voltage grade was checked when it became a
+    candidate), so the search would repeat the same steps to the same refusal.
+
+    A drive's ``beyond_reach`` names a request that no candidate of its search can meet (a bound
+    that holds for every value on the grid, derived in the drive's docstrings); the stage, or the
+    part, is then refused with that limit and what would work, unsearched.
+    """
+    refused: list[tuple[tuple, str]] = []
+    candidates = _transistor_candidates(spec, topology, refusals)
+    drive = _drive_for(topology.stage)
+    beyond = drive.beyond_reach(spec, topology) if candidates else None
+    if beyond is not None:
+        refusals.append(beyond)
+        return None
+    for q in candidates:
+        twin = next((name for inside, name in refused if inside == _inside(q)), None)
+        if twin is not None:
+            refusals.append(f"{q.part_number}: as {twin}, the same part inside in a higher voltage grade")
+            continue
+        beyond = drive.beyond_reach(spec, topology, q)
+        if beyond is not None:
+            refusals.append(f"{q.part_number}: {beyond}")
+            continue
+        refused.append((_inside(q), q.part_number))
         od_min, led_scale, share_a = OVERDRIVE_MIN, 1.0, None
         rated = kind_of(spec.load).branch_rating_a(spec.load)
         try:
@@ -146,6 +179,15 @@ def _size_topology(spec: Spec, topology: Topology, refusals: list[str], c_max: f
         except _NoFit as exc:
             refusals.append(f"{q.part_number}: {exc}")
     return None
+
+
+def _inside(q: Transistor) -> tuple:
+    """Everything the sizer reads of a candidate part: all but its name, voltage grade, pinout,
+    sources and its cards' names (the cards' parameters and equivalent circuits are kept)."""
+    def card(m):
+        return None if m is None else (m.kind, m.params, tuple((replace(p, model=None), card(p.model))
+                                                               for p in m.body))
+    return (replace(q, part_number="", vmax_v=0.0, sources=(), pinout="", model=None), card(q.model))
 
 
 class _NoFit(Exception):
@@ -379,6 +421,7 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_m
     # Rows asked for are aimed at from both sides; a row with only a limit is penalised past it.
     two_sided = np.array([[x is not None] for x in asked])
     tried: dict[tuple, _Trial] = {}
+    picked = np.zeros(C.shape, dtype=bool)
     best: _Trial | None = None
     for round_no in range(ROUNDS):
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -395,6 +438,7 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_m
                 continue
             picks.append(_Trial(c=C[j], r1=R1[j], r2=R2[j], r3=R3[j], re=RE[j]))
             tried[key] = picks[-1]
+            picked[j] = True
             if len(picks) == CANDIDATES_PER_ROUND:
                 break
         if not picks:
@@ -420,6 +464,9 @@ def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_m
             break
         if round_no >= 1 and (best is None or best.error(spec) > 4 * ACCURACY):
             break
+        if (round_no == 0 and good and min(t.error(spec) for t in good) > FAR_OFF
+                and _guessed_error(spec, k * P, picked) > FAR_OFF):
+            break  # see FAR_OFF
     best = _refine(spec, topology, drive, base_values, (C, R1, R2, R3, RE), tried, best)
     if best is None or best.error(spec) > ACCURACY:
         raise _NoFit(_why_not(spec, best, c_max, drive.limit_note))
@@ -464,6 +511,17 @@ def _refine(spec: Spec, topology: Topology, drive, base_values: Values, grid: tu
             if math.isfinite(t.error(spec)) and _rank(t, spec) < _rank(best, spec):
                 best = t
     return best
+
+
+def _guessed_error(spec: Spec, P: np.ndarray, picked: np.ndarray) -> float:
+    """The smallest ``_Trial.error`` the closed form ``P`` (4, M), as recalibrated, gives a grid entry
+    not yet simulated (``picked`` marks those that were)."""
+    on_max, off_max = delay_limits(spec)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        err = np.max([np.abs(P[i] / asked - 1) for i, asked in enumerate(_asked(spec)) if asked], axis=0)
+        over = np.maximum(P[0] / on_max, P[2] / off_max) - 1
+        err = np.where(over > 0, np.maximum(err, ACCURACY * 1.001 + over), err)
+    return float(np.where(np.all(np.isfinite(P), axis=0) & ~picked, err, np.inf).min(initial=np.inf))
 
 
 def _netlist(topology: Topology, spec: Spec, values: Values, window: Window):
@@ -542,6 +600,11 @@ class _BaseDrive:
     """
 
     clamp = None
+
+    @staticmethod
+    def beyond_reach(spec: Spec, topology: Topology, q: Transistor | None = None) -> str | None:
+        """No bound is known for this stage that a spec could pass unsearched: the search decides."""
+        return None
 
     def __init__(self, spec: Spec, topology: Topology, q: Transistor, od_min: float, r_led: float | None = None):
         self.spec, self.q, self.od_min = spec, q, od_min
@@ -627,6 +690,142 @@ class _GateDrive:
     while the gate crosses the narrow window above threshold.
     """
 
+    #: ``fade_ratio_max`` is taken at this multiple of its derived value, ``hold_ratio_min`` at its
+    #: inverse: room for what the derivations leave out (D1's own slope, the card's corner).
+    FADE_BOUND_MARGIN = 1.5
+
+    @staticmethod
+    def gate_at_high(spec: Spec, stage: Stage, q: Transistor) -> float:
+        """The highest gate voltage at which the light can first reach its high level, at nominal.
+
+        The card's channel (Shichman-Hodges in the EKV form, engine/devices.mosfet) carries
+        I = KP (u V_DS - V_DS^2 / 2) in its linear region and KP u^2 / 2 in saturation, u the gate's
+        excess over VTO.  At the high level the load carries hi of its steady current, at most
+        its rated current I: in saturation u = sqrt(2 hi I / KP).  In the linear region (V_DS < u)
+        u = I_hi / (KP V_DS) + V_DS / 2 < 2 I_hi / (KP V_DS), and the LEDs' series resistor R has
+        dropped (1 - hi) I_steady R less than at full, all of it now across the channel:
+        u < 2 hi / ((1 - hi) KP R), whatever the current.  The smooth corner of the EKV form moves u
+        by at most 2 n Vt ln 2 each side (taken twice); the source resistance adds RS I.  A lamp
+        has no series resistor: there the datasheet's gate voltage for its rated RDS(on) is taken,
+        as it is wherever it is lower (the channel is fully on there).
+        """
+        m = q.model
+        lo, hi = current_fractions(spec)
+        i = rated_current_a(spec.load)
+        u = math.sqrt(2 * hi * i / m["KP"])
+        r_led = _led_resistor(spec, stage) if kind_of(spec.load).series_resistor else None
+        v_full = max(q.rds_on_vgs_v or 5.0, q.vgs_th_v[1] + 2.0)
+        if r_led is None:
+            return v_full
+        u = max(u, 2 * hi / ((1 - hi) * m["KP"] * r_led))
+        corner = 2 * 2 * m.get("N", 1.0) * VT_NOMINAL * math.log(2)
+        return min(v_full, m["VTO"] + u + corner + i * m.get("RS", 0.0))
+
+    @classmethod
+    def fade_ratio_max(cls, spec: Spec, topology: Topology, q: Transistor) -> float:
+        """The longest fade-in this stage gives, as a multiple of its fade-out; inf where none is known.
+
+        The gate draws nothing, so C1 is a plain RC: it charges through D1 and R1 against R2, and
+        discharges through R2 alone (D1 blocks the feed).  Between the gate voltages v_lo and
+        v_hi at which the light crosses its levels, the fade-out takes C R2 ln(v_hi / v_lo) >=
+        C R2 (v_hi - v_lo) / v_hi, and the fade-in at most C (v_hi - v_lo) over the least charge
+        current there, (V - v_hi) / R1 - v_hi / R2 with V the feed's least voltage (``_feed_v``).
+        With k = R2 / (R1 + R2):
+        fade-in / fade-out <= (1 - k) v_hi / (k V - v_hi), falling with k; the sizer's grid
+        keeps k >= v_full / (V_min - a diode drop), the divider that reaches the rated-RDS(on)
+        gate voltage at the bottom of the supply, so the bound is taken there, with v_hi from
+        ``gate_at_high``, and at FADE_BOUND_MARGIN times that for what the ideal leaves out.
+        """
+        s = spec.supply
+        v_full = max(q.rds_on_vgs_v or 5.0, q.vgs_th_v[1] + 2.0)
+        if s.min_v - DIODE_DROP_V <= v_full:
+            return math.inf  # no divider reaches v_full: the grid refuses it, in its own words
+        k = v_full / (s.min_v - DIODE_DROP_V)
+        v = cls._feed_v(spec, topology)
+        v_hi = cls.gate_at_high(spec, topology.stage, q)
+        if k * v <= v_hi:
+            return math.inf
+        return cls.FADE_BOUND_MARGIN * (1 - k) * v_hi / (k * v - v_hi)
+
+    @staticmethod
+    def _feed_v(spec: Spec, topology: Topology) -> float:
+        """The least voltage the feed puts on R1 at nominal supply: less the supply guard's drop, the
+        1N4007's datasheet maximum forward drop (at far more current than a timing network draws)
+        and, for a ground-switched feed, the input PNP's saturation voltage."""
+        v = spec.supply.nominal_v - protection.drop_v(spec) - catalog.diode(DIODE).vf_max_v
+        if topology.trigger == "ground":
+            v -= max(x.max_v for x in catalog.transistor(INPUT_PNP).vce_sat)
+        return v
+
+    @classmethod
+    def hold_ratio_min(cls, spec: Spec, topology: Topology, q: Transistor) -> float:
+        """The shortest hold-off this stage gives, as a multiple of its fade-out; 0 where none is known.
+
+        With the feed off C1 runs down through R2 alone, v = v_ss exp(-t / C R2), so the hold-off
+        is C R2 ln(v_ss / v_hi) and the fade-out C R2 ln(v_hi / v_lo), whatever C, R1 and R2.  The
+        grid's divider gives v_ss >= k V (``fade_ratio_max``); v_hi is at most ``gate_at_high``.
+        The light is at its low level when the channel carries lo of the steady current; the card
+        carries at most KP/2 s(u)^2 (1 + LAMBDA V) plus its leakage (s as in engine/devices.mosfet,
+        the EKV form's smooth square law), so s(u_lo) >= sqrt(2 lo I / KP (1 + LAMBDA V)), with I
+        taken at a quarter of the rated current (the strings are dimmer at nominal than at the top
+        of the supply, and the corners may enlarge their resistors).  The bound is taken at
+        1 / FADE_BOUND_MARGIN of that.  Not where a clamp holds the gate down, nor for a lamp
+        (its high level is taken at v_full, too loose to bound anything).
+        """
+        if spec.supply.max_v > q.vgs_max_v or not kind_of(spec.load).series_resistor:
+            return 0.0
+        s = spec.supply
+        v_full = max(q.rds_on_vgs_v or 5.0, q.vgs_th_v[1] + 2.0)
+        if s.min_v - DIODE_DROP_V <= v_full:
+            return 0.0
+        v_ss = v_full / (s.min_v - DIODE_DROP_V) * cls._feed_v(spec, topology)
+        v_hi = cls.gate_at_high(spec, topology.stage, q)
+        m = q.model
+        lo, _ = current_fractions(spec)
+        leak = m.get("GLEAK", 0.0) * s.nominal_v
+        i_lo = lo * 0.25 * rated_current_a(spec.load) - leak
+        if i_lo <= 0 or v_ss <= v_hi:
+            return 0.0
+        w = 2.0 * m.get("N", 1.0) * VT_NOMINAL
+        y = math.sqrt(2 * i_lo / (m["KP"] * (1 + m.get("LAMBDA", 0.0) * s.nominal_v)))
+        v_lo = m["VTO"] + w * math.log(math.expm1(y / w))
+        if v_lo <= 0 or v_lo >= v_hi:
+            return 0.0
+        return math.log(v_ss / v_hi) / math.log(v_hi / v_lo) / cls.FADE_BOUND_MARGIN
+
+    @classmethod
+    def beyond_reach(cls, spec: Spec, topology: Topology, q: Transistor | None = None) -> str | None:
+        """A fade-in too long for this part's fade-out, or a hold-off too short for it, whatever the
+        network's values: why, or None.
+
+        The shortest fade-in allowed (the bottom of its band) against the longest fade-out (the
+        top of its) is compared with ``fade_ratio_max``; the longest hold-off allowed (the top of a
+        requested delay's band, or its limit) against the shortest fade-out with ``hold_ratio_min``.
+        """
+        if q is None:
+            return None
+        shortest_out, longest_out = spec.fade_out_s * (1 - ACCURACY), spec.fade_out_s * (1 + ACCURACY)
+        least_hold = cls.hold_ratio_min(spec, topology, q)
+        _, off_max = delay_limits(spec)
+        if off_max < least_hold * shortest_out:
+            asked = f"the {spec.delay_off_s:g} s hold off asked" if spec.delay_off_s else f"at most {off_max:.2g} s"
+            # Unasked, the hold may last max(0.5 s, the fade-out): only a fade-out under 0.5 s gains room.
+            room = off_max if spec.delay_off_s else min(off_max, 0.5)
+            return (f"its gate falls from the divider's top voltage to the narrow range where the light fades only "
+                    f"slowly, so it holds at full for at least about {least_hold:.2g} × its fade-out: "
+                    f"{least_hold * shortest_out:.2g} s with a fade-out of {spec.fade_out_s:g} s, against {asked}; a "
+                    f"fade-out of at most {room / (least_hold * (1 - ACCURACY)):.2g} s, a longer hold, or a bipolar "
+                    "or current stage would suit it")
+        ratio = cls.fade_ratio_max(spec, topology, q)
+        shortest_in = spec.fade_in_s * (1 - ACCURACY)
+        if shortest_in <= ratio * longest_out:
+            return None
+        return (f"its gate crosses the light's whole range within a fraction of the divider's swing, low on C1's "
+                f"charge curve, so its fade-in can be at most about {ratio:.2g} × its fade-out: "
+                f"{ratio * spec.fade_out_s * (1 + ACCURACY):.2g} s with a fade-out of {spec.fade_out_s:g} s, not "
+                f"{spec.fade_in_s:g} s; a fade-out of at least {shortest_in / (ratio * (1 + ACCURACY)):.2g} s, or "
+                "a bipolar or current stage, would suit it")
+
     def __init__(self, spec: Spec, topology: Topology, q: Transistor, od_min: float, r_led: float | None = None):
         self.spec, self.q = spec, q
         self.margin = od_min / OVERDRIVE_MIN  # grows if tolerance yield asks for more gate drive
@@ -704,6 +903,47 @@ class _CurrentDrive:
 
     clamp = None
     led_scale = 1.0
+
+    #: The bound below at twice its ideal value, for what the ideal leaves out (see ``beyond_reach``).
+    HOLD_BOUND_MARGIN = 2.0
+
+    @classmethod
+    def hold_ratio_max(cls, spec: Spec) -> float:
+        """The longest hold-off this stage gives, as a multiple of its fade-out.
+
+        With the feed off, D1 cuts C1 from the divider and C1 runs down through R2 and the base;
+        the light is the emitter current, (v_C1 - V_BE) / R_E plus the base's share, so it
+        falls from the moment the feed goes.  Were C1's voltage w above its end point v_inf
+        (at most V_BE: R2 and the base divide V_BE) an exponential, and the light proportional
+        to v_C1 - V_BE = w - a with a = V_BE - v_inf >= 0, full light at w = a + b, the crossings
+        at a + hi b and a + lo b (hi, lo the light levels as fractions of the steady current) give
+        hold / fade = ln((a + b) / (a + hi b)) / ln((a + hi b) / (a + lo b)), which rises with a / b
+        to its limit (1 - hi) / (hi - lo) (0.125 at 10 % and 90 %).  What the ideal leaves out
+        lengthens the fade against the hold: the base draws less as the light falls (C1 runs
+        down ever more slowly), and V_BE falls about 60 mV per decade of current, which moves
+        the low crossing far more than the high one.  The bound is taken at twice the limit.
+        """
+        lo, hi = current_fractions(spec)
+        return cls.HOLD_BOUND_MARGIN * (1 - hi) / (hi - lo)
+
+    @classmethod
+    def beyond_reach(cls, spec: Spec, topology: Topology | None = None, q: Transistor | None = None) -> str | None:
+        """A hold-off this stage cannot give with a fade-out in its band, whatever its parts: why, or None.
+
+        The shortest hold asked (the delay's band's bottom) against the longest fade-out allowed
+        (the fade's band's top) is compared with ``hold_ratio_max``; every candidate of the stage's
+        search would be refused for its hold, so none is simulated.
+        """
+        if not spec.delay_off_s or q is not None:  # a bound of the stage, not of its part
+            return None
+        ratio = cls.hold_ratio_max(spec)
+        longest = ratio * spec.fade_out_s * (1 + ACCURACY)
+        if spec.delay_off_s * (1 - ACCURACY) <= longest:
+            return None
+        return (f"the light of a current stage falls as soon as the feed goes, so it holds at full for at most "
+                f"{ratio:.2g} × its fade-out: about {longest:.2g} s with a fade-out of {spec.fade_out_s:g} s, not the "
+                f"{spec.delay_off_s:g} s hold off asked; a hold needs a switching stage, or a fade-out of at least "
+                f"{spec.delay_off_s * (1 - ACCURACY) / (ratio * (1 + ACCURACY)):.2g} s")
 
     def __init__(self, spec: Spec, topology: Topology, q: Transistor, od_min: float, r_led: float | None = None):
         self.spec, self.q = spec, q
