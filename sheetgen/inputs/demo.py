@@ -9,8 +9,8 @@ from __future__ import annotations
 SOURCE = "<built-in demo>"
 OUTPUT = "sheetgen-demo.pdf"
 
-#: A camper van's awning light: three strings of warm-white LEDs over the side
-#: door that glow up with the door switch and linger while you step outside.
+#: A camper van's awning light: three strings of two warm-white LEDs over the side
+#: door that glow up with the door switch and fade away once it closes.
 SPEC_TEXT = """\
 title: Camper van awning light (demo)
 supply: 12 V                # 11-14.6 V: engine off to charging
@@ -19,11 +19,11 @@ load:
   kind: led
   current: 15 mA            # per string
   vf: 2.9 V
-  per_string: 3
+  per_string: 2
   strings: 3
 fade:
-  in: 1.5 s
-  out: 4 s
+  in: 2 s
+  out: 3 s
 ambient: 45 °C              # a van roof in the sun
 install: vehicle
 """
