@@ -391,14 +391,20 @@ class _Trial:
     overdrive: float = math.nan
 
     def error(self, spec: Spec) -> float:
-        """Worst relative miss of the times asked for; a delay past its limit counts as a miss beyond the band."""
-        times = (self.delay_on, self.t_in, self.hold_off, self.t_out)
-        if not all(math.isfinite(x) for x in times):
-            return math.inf
-        err = max(abs(got / asked - 1) for got, asked in zip(times, _asked(spec)) if asked)
-        on_max, off_max = delay_limits(spec)
-        over = max(self.delay_on / on_max, self.hold_off / off_max) - 1
-        return max(err, ACCURACY * 1.001 + over) if over > 0 else err
+        """Worst relative miss of the times asked for (see ``_misses``)."""
+        times = np.array([[self.delay_on], [self.t_in], [self.hold_off], [self.t_out]])
+        return float(_misses(spec, times)[0])
+
+
+def _misses(spec: Spec, times: np.ndarray) -> np.ndarray:
+    """Worst relative miss of the times asked for, for times (4, M) in measurement order; a delay past its
+    limit counts as a miss beyond the band, and a time that is not finite as an infinite miss."""
+    on_max, off_max = delay_limits(spec)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        err = np.max([np.abs(times[i] / asked - 1) for i, asked in enumerate(_asked(spec)) if asked], axis=0)
+        over = np.maximum(times[0] / on_max, times[2] / off_max) - 1
+        err = np.where(over > 0, np.maximum(err, ACCURACY * 1.001 + over), err)
+    return np.where(np.all(np.isfinite(times), axis=0), err, np.inf)
 
 
 def _size_with(spec: Spec, topology: Topology, q: Transistor, od_min: float, c_max: float,
@@ -516,12 +522,7 @@ def _refine(spec: Spec, topology: Topology, drive, base_values: Values, grid: tu
 def _guessed_error(spec: Spec, P: np.ndarray, picked: np.ndarray) -> float:
     """The smallest ``_Trial.error`` the closed form ``P`` (4, M), as recalibrated, gives a grid entry
     not yet simulated (``picked`` marks those that were)."""
-    on_max, off_max = delay_limits(spec)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        err = np.max([np.abs(P[i] / asked - 1) for i, asked in enumerate(_asked(spec)) if asked], axis=0)
-        over = np.maximum(P[0] / on_max, P[2] / off_max) - 1
-        err = np.where(over > 0, np.maximum(err, ACCURACY * 1.001 + over), err)
-    return float(np.where(np.all(np.isfinite(P), axis=0) & ~picked, err, np.inf).min(initial=np.inf))
+    return float(np.where(picked, np.inf, _misses(spec, P)).min(initial=np.inf))
 
 
 def _netlist(topology: Topology, spec: Spec, values: Values, window: Window):
