@@ -5,7 +5,7 @@ from __future__ import annotations
 from sheetgen.sizing import mounting
 from sheetgen.sizing.report import Report
 from sheetgen.engine.measure import DEFINITIONS, FULL_MEANS
-from sheetgen.outputs.wording import current_stage_words, led_dimming_words, led_string_words, watts
+from sheetgen.outputs.wording import current_stage_words, draws_bin_words, led_dimming_words, led_string_words, watts
 from sheetgen.sizing.size import delay_limits
 from sheetgen.inputs.units import format_quantity
 from sheetgen.outputs.wording import refs_text, standby_text
@@ -81,6 +81,7 @@ def summary_text(report: Report) -> str:
         f"  on a real build (parts, gain, supply and ambient over {sp.draws} tolerance draws, 5–95 %): the fade-in "
         f"lasts between {sp.fade_in_s[0]:.1f} s and {sp.fade_in_s[2]:.1f} s, the fade-out between "
         f"{sp.fade_out_s[0]:.1f} s and {sp.fade_out_s[2]:.1f} s; {sp.full_brightness_yield:.1%} reach full brightness",
+        *([f"  ({bins})"] if (bins := draws_bin_words(report)) else []),
         f"  Q1 heat at {h.supply_v:g} V, {h.ambient_c:g} °C: peak {watts(h.peak_power_w)} while fading, "
         f"{watts(h.steady_power_w)} fully on; " + _hover_words(report),
         f"  fuse {report.harness.fuse_a:g} A, wire {report.harness.wire_mm2:g} mm² ({report.harness.wire_awg} AWG); "

@@ -9,6 +9,7 @@ from __future__ import annotations
 import re
 from typing import Sequence
 
+from sheetgen.circuits.loads import kind_of
 from sheetgen.inputs.units import format_quantity
 
 EN_DASH = "\u2013"
@@ -74,6 +75,20 @@ def led_string_words(report) -> str | None:
             f"{spec.supply.nominal_v:g} V, the dimmest {share.ratio:.0%} of the brightest (at least "
             f"{share.ratio_min:.0%} wanted), and none more than {format_quantity(share.max_a, 'A')} "
             f"(at {share.max_where})")
+
+
+def draws_bin_words(report) -> str | None:
+    """What the tolerance draws assume of the LEDs' forward voltage; None for a lamp.
+
+    The draws take every LED from one forward-voltage bin of its colour, the spread
+    within one bag; LEDs from mixed lots can lie further apart than that.
+    """
+    spec = report.design.spec
+    if spec.load.kind != "led":
+        return None
+    width = kind_of(spec.load).vf_spread_v(spec.load)
+    return (f"the LEDs are taken from one {format_quantity(width, 'V')} forward-voltage bin: "
+            "buy them as one lot, since LEDs from mixed lots may run further apart")
 
 
 def current_stage_words(report) -> str | None:

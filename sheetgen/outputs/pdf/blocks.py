@@ -31,8 +31,8 @@ from sheetgen.circuits.loads import kind_of
 from sheetgen.inputs.units import format_quantity, rkm_code, rkm_code_farad
 
 from sheetgen.outputs.pdf import plot
-from sheetgen.outputs.wording import (current_stage_words, keep_units, led_dimming_words, led_string_words, refs_text,
-                                     standby_text, volts_range, watts)
+from sheetgen.outputs.wording import (current_stage_words, draws_bin_words, keep_units, led_dimming_words,
+                                     led_string_words, refs_text, standby_text, volts_range, watts)
 from sheetgen.parts.colour_code import bands
 from sheetgen.outputs.pdf.fonts import BOLD, REGULAR, register
 from sheetgen.inputs.blocknames import SHEET_BLOCKS
@@ -518,7 +518,8 @@ def summary_block(report: Report, frame: Frame) -> Block:
              f"delay on {escape(spread_text(report.spread.delay_on_s))}<br/>"
              f"hold off {escape(spread_text(report.spread.hold_off_s))}", s.cell),
          _p(f"5th to 95th percentile over {report.spread.draws} random sets of part tolerances, supply "
-            f"and ambient; {report.spread.full_brightness_yield:.0%} of them reach full brightness.", s.cell)],
+            f"and ambient; {report.spread.full_brightness_yield:.0%} of them reach full brightness."
+            + (f" {_sentence(bins)}" if (bins := draws_bin_words(report)) else ""), s.cell)],
         [_p("Standby", s.cell_bold),
          _p(f"{standby_text(report.standby_a)} from the always-on supply with the feed off", s.cell), ""],
         _drive_row(report),
